@@ -1,0 +1,1 @@
+"""ValueSift dashboard (Dash) and command line."""

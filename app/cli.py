@@ -1,0 +1,70 @@
+"""The ``valuesift`` command line.
+
+Subcommands
+-----------
+serve   start the dashboard on 127.0.0.1 (``--demo`` loads the invented demo universe)
+study   run a study headless and write summary.json and tables/
+check   read files and print the intake report (exit 2 when a file cannot be read)
+demo    write the invented demo universe files to a folder
+
+Every user-facing failure is a :class:`core.errors.ValueSiftError`; it is
+printed as one plain message (no traceback) and the command exits non-zero.
+"""
+
+from __future__ import annotations
+
+import argparse
+import logging
+import sys
+from collections.abc import Sequence
+
+__all__ = ["main", "build_parser"]
+
+log = logging.getLogger("valuesift")
+
+CAUTION = (
+    "Research and information only, not investment advice. Past relations between a "
+    "signal and returns may not persist. Check your data and follow your firm's "
+    "compliance rules and local regulation."
+)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    from app import cli_commands as cmd
+
+    parser = argparse.ArgumentParser(
+        prog="valuesift",
+        description="Test whether a valuation signal has been rewarded in your universe.",
+        epilog=CAUTION,
+    )
+    parser.add_argument("--verbose", "-v", action="store_true", help="log details (and causes of errors)")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    cmd.add_serve(sub)
+    cmd.add_study(sub)
+    cmd.add_check(sub)
+    cmd.add_demo(sub)
+    return parser
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    from core.errors import ValueSiftError
+
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    logging.basicConfig(
+        level=logging.DEBUG if args.verbose else logging.WARNING,
+        format="%(levelname)s %(name)s: %(message)s",
+    )
+    try:
+        return int(args.func(args) or 0)
+    except ValueSiftError as err:
+        log.debug("error detail", exc_info=True)
+        print(f"valuesift {args.command}: {err}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("valuesift: interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,91 @@
+"""Fama-MacBeth cross-sectional regressions, vectorised over dates."""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["fm_slopes"]
+
+
+def _demean(x: np.ndarray, mask: np.ndarray, codes: np.ndarray) -> np.ndarray:
+    """Subtract the per-date mean within each group over ``mask`` (zero outside ``mask``)."""
+    out = np.zeros_like(x)
+    for c in np.unique(codes):
+        m = mask & (codes == c)[None, :]
+        n = m.sum(axis=1)
+        s = np.where(m, x, 0.0).sum(axis=1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            mu = np.where(n > 0, s / np.maximum(n, 1), 0.0)
+        out = np.where(m, x - mu[:, None], out)
+    return out
+
+
+def fm_slopes(
+    z: np.ndarray,
+    y: np.ndarray,
+    controls: list[np.ndarray] | None = None,
+    groups: np.ndarray | None = None,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Per-date OLS slope of ``y`` on ``z`` with an intercept and optional controls.
+
+    Parameters
+    ----------
+    z : ndarray (D x S)
+        Signal z-score.
+    y : ndarray (D x S)
+        Forward returns.
+    controls : list of ndarray (D x S), optional
+        Extra regressors (at most one, e.g. log market capitalisation).
+    groups : ndarray (S,) of int, optional
+        Group dummies (e.g. sectors) replacing the intercept.
+
+    Returns
+    -------
+    slopes : ndarray (D,)
+        NaN where the regression is not identified.
+    n : ndarray (D,)
+        Observations used.
+
+    Notes
+    -----
+    By the Frisch-Waugh-Lovell theorem, the slope on ``z`` in
+    ``y = a_g + b z + c x + e`` equals the slope from regressing the
+    group-demeaned ``y`` on the group-demeaned ``z`` and ``x``; the normal
+    equations ``(X'X) beta = X'y`` with one or two regressors are solved in
+    closed form for all dates at once.  A date needs
+    ``n > (number of groups present) + (number of regressors)``.
+
+    References
+    ----------
+    Fama, E. & MacBeth, J. (1973). JPE 81(3), 607-636.
+    """
+    controls = list(controls or [])
+    if len(controls) > 1:
+        raise ValueError("fm_slopes supports at most one control besides group dummies")
+    codes = np.zeros(z.shape[1], dtype=int) if groups is None else np.asarray(groups)
+    mask = np.isfinite(z) & np.isfinite(y)
+    for c in controls:
+        mask &= np.isfinite(c)
+    n = mask.sum(axis=1)
+    present = np.zeros(z.shape[0], dtype=int)
+    for c in np.unique(codes):
+        present += (mask & (codes == c)[None, :]).any(axis=1)
+    zd = _demean(np.where(mask, z, 0.0), mask, codes)
+    yd = _demean(np.where(mask, y, 0.0), mask, codes)
+    szz = (zd * zd).sum(axis=1)
+    szy = (zd * yd).sum(axis=1)
+    k = 1 + len(controls)
+    enough = n > present + k
+    with np.errstate(invalid="ignore", divide="ignore"):
+        if not controls:
+            ok = enough & (szz > 1e-14 * np.maximum((np.where(mask, z, 0.0) ** 2).sum(axis=1), 1e-300))
+            b = np.where(ok, szy / np.where(ok, szz, 1.0), np.nan)
+        else:
+            xd = _demean(np.where(mask, controls[0], 0.0), mask, codes)
+            sxx = (xd * xd).sum(axis=1)
+            szx = (zd * xd).sum(axis=1)
+            sxy = (xd * yd).sum(axis=1)
+            det = szz * sxx - szx * szx
+            ok = enough & (det > 1e-12 * np.maximum(szz * sxx, 1e-300)) & (szz > 0) & (sxx > 0)
+            b = np.where(ok, (sxx * szy - szx * sxy) / np.where(ok, det, 1.0), np.nan)
+    return b, n

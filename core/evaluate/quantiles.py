@@ -1,0 +1,105 @@
+"""Quantile portfolios of the signal: membership, mean returns, spread, turnover."""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy import stats as _st
+
+from core.stats import average_ranks
+
+__all__ = ["assign_quantiles", "quantile_means", "quantile_turnover", "monotonicity"]
+
+
+def assign_quantiles(z: np.ndarray, n_q: int, groups: np.ndarray | None = None) -> np.ndarray:
+    """Quantile number (1 = lowest signal .. n_q = highest) per date; NaN if not assigned.
+
+    Parameters
+    ----------
+    z : ndarray (D x S)
+        Signal; NaN = not in the universe.
+    n_q : int
+        Number of quantiles.
+    groups : ndarray (S,) of int, optional
+        Assign within each group (e.g. sector) separately.
+
+    Notes
+    -----
+    With ``n`` names on a date and average rank ``r`` (1 = lowest, ties share
+    their mean rank), ``q = floor((r - 1) n_q / n) + 1``, so tied names always
+    share a quantile and the result does not depend on the order of the
+    securities.  A date (or group) with fewer names than quantiles gets no
+    quantiles.  Membership uses only the signal, never the forward return.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> ey = np.array([[.10, .02, .07, .04, .12, .01, .09, .05, .08, .03]])
+    >>> assign_quantiles(ey, 5).astype(int).tolist()
+    [[5, 1, 3, 2, 5, 1, 4, 3, 4, 2]]
+    """
+    z = np.asarray(z, dtype=float)
+    out = np.full(z.shape, np.nan)
+    codes = np.zeros(z.shape[1], dtype=int) if groups is None else np.asarray(groups)
+    for c in np.unique(codes):
+        cols = codes == c
+        sub = np.where(cols[None, :] & np.isfinite(z), z, np.nan)
+        r = average_ranks(sub)
+        n = np.isfinite(sub).sum(axis=1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            q = np.floor((r - 1.0) * n_q / np.maximum(n, 1)[:, None]) + 1.0
+        q = np.clip(q, 1, n_q)
+        ok = (n >= n_q)[:, None] & np.isfinite(sub)
+        out = np.where(ok, q, out)
+    return out
+
+
+def quantile_means(q: np.ndarray, fwd: np.ndarray, n_q: int) -> tuple[np.ndarray, np.ndarray]:
+    """Equal-weight mean forward return and count with a return, per date and quantile.
+
+    Returns ``(means (D x n_q), counts (D x n_q))``; a quantile without returns is NaN.
+    """
+    t = q.shape[0]
+    means = np.full((t, n_q), np.nan)
+    counts = np.zeros((t, n_q), dtype=int)
+    fin = np.isfinite(fwd)
+    for k in range(1, n_q + 1):
+        m = (q == k) & fin
+        c = m.sum(axis=1)
+        s = np.where(m, fwd, 0.0).sum(axis=1)
+        counts[:, k - 1] = c
+        with np.errstate(invalid="ignore", divide="ignore"):
+            means[:, k - 1] = np.where(c > 0, s / np.maximum(c, 1), np.nan)
+    return means, counts
+
+
+def quantile_turnover(q: np.ndarray, n_q: int) -> np.ndarray:
+    """One-way equal-weight turnover of each quantile between consecutive dates.
+
+    Notes
+    -----
+    ``w_{t,i} = 1/n_{t,k}`` for members of quantile ``k``; one-way turnover
+    ``0.5 * sum_i |w_{t,i} - w_{t-1,i}|`` (two-way is twice this).  NaN on the
+    first date and when either date has no members.
+    """
+    t = q.shape[0]
+    out = np.full((t, n_q), np.nan)
+    if t < 2:
+        return out
+    for k in range(1, n_q + 1):
+        m = q == k
+        c = m.sum(axis=1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            w = np.where(m, 1.0 / np.maximum(c, 1)[:, None], 0.0)
+        to = 0.5 * np.abs(w[1:] - w[:-1]).sum(axis=1)
+        ok = (c[1:] > 0) & (c[:-1] > 0)
+        out[1:, k - 1] = np.where(ok, to, np.nan)
+    return out
+
+
+def monotonicity(mean_by_quantile: np.ndarray) -> float:
+    """Spearman correlation of quantile order (1..n) with mean return (NaN if undefined)."""
+    y = np.asarray(mean_by_quantile, dtype=float)
+    ok = np.isfinite(y)
+    if ok.sum() < 3 or np.all(y[ok] == y[ok][0]):
+        return float("nan")
+    return float(_st.spearmanr(np.arange(1, y.size + 1)[ok], y[ok]).statistic)

@@ -1,0 +1,211 @@
+"""Vectorised date parsing: ISO, day/month or month/day slashes, Excel serials, months.
+
+Parsing is done once per distinct text (long files repeat each date many
+times), with regular expressions over whole columns.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from core._typing import DateOrder
+
+__all__ = ["DateResult", "parse_dates", "date_share"]
+
+_MONTHS = {
+    "jan": 1, "january": 1, "feb": 2, "february": 2, "mar": 3, "march": 3, "apr": 4, "april": 4,
+    "may": 5, "jun": 6, "june": 6, "jul": 7, "july": 7, "aug": 8, "august": 8, "sep": 9, "sept": 9,
+    "september": 9, "oct": 10, "october": 10, "nov": 11, "november": 11, "dec": 12, "december": 12,
+}
+_TIME = r"(?:[T ]\d{1,2}:\d{2}(?::\d{2}(?:\.\d+)?)?(?:Z|[+-]\d{2}:?\d{2})?)?"
+_ISO = rf"^(\d{{4}})[-/.](\d{{1,2}})[-/.](\d{{1,2}}){_TIME}$"
+_SLASH = rf"^(\d{{1,2}})[/.-](\d{{1,2}})[/.-](\d{{4}}|\d{{2}}){_TIME}$"
+_COMPACT = r"^((?:19|20|21)\d{2})(\d{2})(\d{2})$"
+_YM = r"^(\d{4})[-/.](\d{1,2})$"
+_MY = r"^(\d{1,2})[/.-](\d{4})$"
+_MON_Y = r"^([A-Za-z]{3,9})\.?[\s\-/,']*(\d{4}|\d{2})$"
+_D_MON_Y = r"^(\d{1,2})[\s\-/.]*([A-Za-z]{3,9})\.?[\s\-/.,']*(\d{4}|\d{2})$"
+_MON_D_Y = r"^([A-Za-z]{3,9})\.?\s+(\d{1,2}),?\s+(\d{4})$"
+_SERIAL = r"^(\d{1,7})(?:\.\d+)?$"
+_EXCEL_EPOCH = np.datetime64("1899-12-30", "D")
+
+
+@dataclass(frozen=True)
+class DateResult:
+    """Parsed dates (datetime64[ns], NaT where not parsed) and flags per cell.
+
+    ``status``: 0 parsed, 1 blank, 3 unparseable (codes shared with :mod:`numbers`).
+    ``order`` is the slash order used and ``order_reason`` says why.
+    ``month_only`` marks cells that named a month, not a day (stamped at month-end).
+    """
+
+    dates: np.ndarray
+    status: np.ndarray
+    order: str
+    order_reason: str
+    month_only: np.ndarray
+    ambiguous: bool
+
+
+def _year(y: pd.Series) -> pd.Series:
+    yi = pd.to_numeric(y, errors="coerce")
+    return yi.where(yi >= 100, yi.where(yi >= 70, yi + 2000).where(yi < 70, yi + 1900))
+
+
+def _assemble(y: pd.Series, m: pd.Series, d: pd.Series | None) -> pd.Series:
+    frame = pd.DataFrame({"year": pd.to_numeric(y, errors="coerce"), "month": pd.to_numeric(m, errors="coerce")})
+    frame["day"] = 1 if d is None else pd.to_numeric(d, errors="coerce")
+    ok = frame.notna().all(axis=1) & frame["year"].between(1800, 2200) & frame["month"].between(1, 12) & frame["day"].between(1, 31)
+    out = pd.Series(pd.NaT, index=frame.index, dtype="datetime64[ns]")
+    if ok.any():
+        sub = frame[ok].astype("int64")
+        out[ok] = pd.to_datetime(sub, errors="coerce")
+    if d is None:
+        got = out.notna()
+        out[got] = out[got] + pd.offsets.MonthEnd(0)
+    return out
+
+
+def _month_number(names: pd.Series) -> pd.Series:
+    return names.str.lower().map(_MONTHS)
+
+
+def parse_dates(
+    values: pd.Series, order: DateOrder = "auto", *, allow_serial: bool = False, rows: np.ndarray | None = None
+) -> DateResult:
+    """Parse a column of dates.
+
+    Parameters
+    ----------
+    values : pandas.Series
+        Text, datetime or numeric cells.
+    order : {"auto", "dmy", "mdy", "ymd"}
+        Order for ``a/b/yyyy`` dates.  ``auto``: day-first if a first part above 12
+        is seen, month-first if a second part above 12 is seen, otherwise
+        ambiguous and day-first assumed (the reason says so).
+    allow_serial : bool
+        Read plain integers as Excel serial day numbers (days since 1899-12-30).
+    rows : numpy.ndarray, optional
+        1-based file row of each cell (used in the reason text).
+
+    Returns
+    -------
+    DateResult
+
+    Notes
+    -----
+    Accepted: ``2019-03-31`` (optionally with a time), ``31/03/2019``,
+    ``03/31/2019``, ``20190331``, ``2019-03`` and ``03/2019``, ``Mar 2019``,
+    ``31 Mar 2019``, ``Mar 31, 2019`` and Excel serials.  Month-only stamps are
+    placed at the month-end.
+
+    References
+    ----------
+    ISO 8601 for the ISO forms; the Excel 1900 date system (serial 1 =
+    1900-01-01, with the 1900 leap-year quirk, hence the 1899-12-30 epoch) is
+    common practice.
+
+    Examples
+    --------
+    >>> r = parse_dates(pd.Series(["31/01/2019", "28/02/2019"]))
+    >>> r.order, [str(d)[:10] for d in r.dates]
+    ('dmy', ['2019-01-31', '2019-02-28'])
+    """
+    n = len(values)
+    if pd.api.types.is_datetime64_any_dtype(values.dtype):
+        idx = pd.DatetimeIndex(values)
+        if idx.tz is not None:
+            idx = idx.tz_localize(None)
+        d = idx.as_unit("ns").to_numpy()
+        status = np.where(np.isnat(d), 1, 0).astype(np.int8)
+        return DateResult(d, status, "iso", "dates stored as dates", np.zeros(n, dtype=bool), False)
+    if pd.api.types.is_numeric_dtype(values.dtype) and not pd.api.types.is_bool_dtype(values.dtype):
+        v = values.to_numpy(dtype=float, na_value=np.nan)
+        text = pd.Series(np.where(np.isnan(v), "", pd.Series(v).map(lambda x: "%.10g" % x)), dtype="str")
+    else:
+        text = values.astype("str").fillna("").str.strip()
+    codes, uniq_arr = pd.factorize(text)
+    u = pd.Series(np.asarray(uniq_arr, dtype=object), dtype="str")
+    res = pd.Series(pd.NaT, index=u.index, dtype="datetime64[ns]")
+    month_only = pd.Series(False, index=u.index)
+
+    iso = u.str.extract(_ISO)
+    m = iso[0].notna()
+    if m.any():
+        res[m] = _assemble(iso.loc[m, 0], iso.loc[m, 1], iso.loc[m, 2])
+    comp = u.str.extract(_COMPACT)
+    m = comp[0].notna() & res.isna()
+    if m.any():
+        res[m] = _assemble(comp.loc[m, 0], comp.loc[m, 1], comp.loc[m, 2])
+    for pat, yi, mi in ((_YM, 0, 1), (_MY, 1, 0)):
+        ym = u.str.extract(pat)
+        m = ym[0].notna() & res.isna()
+        if m.any():
+            res[m] = _assemble(ym.loc[m, yi], ym.loc[m, mi], None)
+            month_only[m] = True
+    mon = u.str.extract(_MON_Y)
+    m = mon[0].notna() & res.isna()
+    if m.any():
+        res[m] = _assemble(_year(mon.loc[m, 1]), _month_number(mon.loc[m, 0]), None)
+        month_only[m & res.notna()] = True
+    dmy = u.str.extract(_D_MON_Y)
+    m = dmy[0].notna() & res.isna()
+    if m.any():
+        res[m] = _assemble(_year(dmy.loc[m, 2]), _month_number(dmy.loc[m, 1]), dmy.loc[m, 0])
+    mdy = u.str.extract(_MON_D_Y)
+    m = mdy[0].notna() & res.isna()
+    if m.any():
+        res[m] = _assemble(mdy.loc[m, 2], _month_number(mdy.loc[m, 0]), mdy.loc[m, 1])
+
+    used_order, reason, ambiguous = "iso", "ISO or named-month dates", False
+    sl = u.str.extract(_SLASH)
+    m = sl[0].notna() & res.isna()
+    if m.any():
+        a = pd.to_numeric(sl.loc[m, 0])
+        b = pd.to_numeric(sl.loc[m, 1])
+        where = (lambda i: int(rows[i])) if rows is not None else (lambda i: i + 1)
+        first_rows = {j: where(int(np.argmax(codes == j))) for j in (a[a > 12].index[:1].tolist() + b[b > 12].index[:1].tolist())}
+        if order in ("dmy", "mdy"):
+            used_order, reason = order, f"set by the user ({order})"
+        elif (a > 12).any() and not (b > 12).any():
+            j = a[a > 12].index[0]
+            used_order, reason = "dmy", f"day > 12 in the first position ({u[j]!r}, row {first_rows[j]})"
+        elif (b > 12).any() and not (a > 12).any():
+            j = b[b > 12].index[0]
+            used_order, reason = "mdy", f"day > 12 in the second position ({u[j]!r}, row {first_rows[j]})"
+        elif (a > 12).any() and (b > 12).any():
+            na, nb = int((a > 12).sum()), int((b > 12).sum())
+            used_order = "dmy" if na >= nb else "mdy"
+            reason = f"inconsistent: {na} dates read only day-first, {nb} only month-first; {used_order} used, the others are unparseable"
+        else:
+            used_order, ambiguous = "dmy", True
+            reason = "ambiguous (no day above 12): day-first (dmy) assumed; set date_order='mdy' if months come first"
+        if used_order == "ymd":
+            used_order = "dmy"
+        day, mon_ = (sl.loc[m, 0], sl.loc[m, 1]) if used_order == "dmy" else (sl.loc[m, 1], sl.loc[m, 0])
+        res[m] = _assemble(_year(sl.loc[m, 2]), mon_, day)
+    if allow_serial:
+        ser = u.str.extract(_SERIAL)
+        m = ser[0].notna() & res.isna()
+        if m.any():
+            k = pd.to_numeric(ser.loc[m, 0])
+            k = k[(k >= 1) & (k <= 2958465)]
+            res[k.index] = pd.to_datetime(_EXCEL_EPOCH + k.to_numpy().astype("timedelta64[D]")).as_unit("ns")
+            if used_order == "iso":
+                used_order, reason = "serial", "Excel serial day numbers (days since 1899-12-30)"
+
+    dates = res.to_numpy(dtype="datetime64[ns]")[codes]
+    blank = (text == "").to_numpy(dtype=bool, na_value=False)
+    status = np.where(np.isnat(dates), 3, 0).astype(np.int8)
+    status[blank] = 1
+    return DateResult(dates, status, used_order, reason, month_only.to_numpy(dtype=bool)[codes], ambiguous)
+
+
+def date_share(values: pd.Series, *, allow_serial: bool = False) -> float:
+    """Share of non-blank cells in ``values`` that read as dates (0 when none are non-blank)."""
+    r = parse_dates(values, "auto", allow_serial=allow_serial)
+    nb = r.status != 1
+    return float((r.status[nb] == 0).mean()) if nb.any() else 0.0

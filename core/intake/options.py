@@ -1,0 +1,162 @@
+"""Reading and panel-building choices (frozen, validated in one place)."""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from typing import get_args
+
+from core._typing import (
+    DateOrder,
+    DecimalStyle,
+    DuplicateRule,
+    EarningsForm,
+    FileKind,
+    IdCleanup,
+    Layout,
+)
+from core.errors import ConfigError
+
+__all__ = ["ReadOptions", "PanelOptions"]
+
+
+def _check_choice(setting: str, value: object, alias: object) -> None:
+    allowed = get_args(alias)
+    if value not in allowed:
+        raise ConfigError(
+            f"Setting {setting}={value!r} is not allowed.",
+            hint=f"Use one of: {', '.join(map(repr, allowed))}.",
+        )
+
+
+@dataclass(frozen=True)
+class ReadOptions:
+    """One file's reading choices; every field set here overrides auto-detection.
+
+    Parameters
+    ----------
+    kind : {"prices", "earnings", ...} or None
+        What the file holds; ``None`` guesses it from the file name and header.
+    layout : {"auto", "wide", "long"}
+        Wide: dates down, one column per security.  Long: date, security, value columns.
+    header_row : int or None
+        1-based row of the header (rows above it are skipped); ``None`` detects it.
+    date_column, security_column, value_column : str or None
+        Column names to use instead of the detected ones.
+    date_order : {"auto", "dmy", "mdy", "ymd"}
+        Order of slash dates.  ``auto`` decides from the data when any day is above 12,
+        otherwise assumes day-first and says so in the report.
+    decimal : {"auto", "point", "comma"}
+    delimiter, encoding : str or None
+    sheet : str, int or None
+        Worksheet of an xlsx file (name, or 0-based position); ``None``: first sheet with data.
+    id_cleanup : {"none", "upper", "first_token", "regex"}
+    id_regex : str or None
+        With ``id_cleanup="regex"``: the first capture group (or the whole match) is the id.
+    exclude_columns : tuple of str
+        Columns that are not securities (for example a market index level).
+    earnings_form : {"auto", "eps", "pe"}
+    duplicate_rule : {"last", "first", "error"}
+    signal_name : str or None
+    higher_is_cheaper : bool
+    max_bytes : int
+        Files above this size are refused (an xlsx may unpack to at most 4x this size).
+    """
+
+    kind: FileKind | None = None
+    layout: Layout = "auto"
+    header_row: int | None = None
+    date_column: str | None = None
+    security_column: str | None = None
+    value_column: str | None = None
+    date_order: DateOrder = "auto"
+    decimal: DecimalStyle = "auto"
+    delimiter: str | None = None
+    encoding: str | None = None
+    sheet: str | int | None = None
+    id_cleanup: IdCleanup = "none"
+    id_regex: str | None = None
+    exclude_columns: tuple[str, ...] = ()
+    earnings_form: EarningsForm = "auto"
+    duplicate_rule: DuplicateRule = "last"
+    signal_name: str | None = None
+    higher_is_cheaper: bool = True
+    max_bytes: int = 200 * 1024 * 1024
+
+    def __post_init__(self) -> None:
+        if self.kind is not None:
+            _check_choice("kind", self.kind, FileKind)
+        _check_choice("layout", self.layout, Layout)
+        _check_choice("date_order", self.date_order, DateOrder)
+        _check_choice("decimal", self.decimal, DecimalStyle)
+        _check_choice("id_cleanup", self.id_cleanup, IdCleanup)
+        _check_choice("earnings_form", self.earnings_form, EarningsForm)
+        _check_choice("duplicate_rule", self.duplicate_rule, DuplicateRule)
+        if self.header_row is not None and (not isinstance(self.header_row, int) or self.header_row < 1):
+            raise ConfigError(f"Setting header_row={self.header_row!r} is not allowed.", hint="Give a 1-based row number.")
+        if self.delimiter is not None and len(self.delimiter) != 1:
+            raise ConfigError(f"Setting delimiter={self.delimiter!r} is not allowed.", hint="Give one character.")
+        if self.encoding is not None:
+            import codecs
+
+            try:
+                codecs.lookup(self.encoding)
+            except LookupError as err:
+                raise ConfigError(f"Setting encoding={self.encoding!r} is not a known encoding.", hint="Try 'utf-8' or 'cp1252'.") from err
+        if self.id_cleanup == "regex":
+            if not self.id_regex:
+                raise ConfigError("Setting id_cleanup='regex' needs id_regex.", hint="Give a regular expression.")
+            try:
+                re.compile(self.id_regex)
+            except re.error as err:
+                raise ConfigError(f"Setting id_regex={self.id_regex!r} is not a valid regular expression.", hint=str(err)) from err
+        if isinstance(self.exclude_columns, str):
+            raise ConfigError("Setting exclude_columns must be a tuple of column names, not one string.",
+                              hint=f"Write exclude_columns=({self.exclude_columns!r},).")
+        if not isinstance(self.max_bytes, int) or self.max_bytes <= 0:
+            raise ConfigError(f"Setting max_bytes={self.max_bytes!r} is not allowed.", hint="Give a positive byte count.")
+
+
+@dataclass(frozen=True)
+class PanelOptions:
+    """Choices for aligning parsed files into one month-end panel.
+
+    Parameters
+    ----------
+    staleness_days : int
+        Daily or irregular input: the month's value is its last valid observation,
+        but if that is more than this many days before the month-end the value is
+        missing and flagged ``stale``.  Monthly input (one observation a month,
+        stamped on any day) is taken as that month's value.
+    split_threshold : float
+        A one-period move with ``|log ratio| >= log(1 / (1 - split_threshold))``
+        that matches a near-integer ratio and does not revert is a suspected split.
+    confirmed_splits : frozenset of str
+        Securities whose suspected split the user confirmed (adjustment applied).
+    apply_all_suspected_splits : bool
+    extreme_pe : float
+        ``|P/E|`` above this is flagged ``extreme_pe``.
+    flat_run_months : int
+        A run of at least this many identical consecutive month-end prices is flagged ``stale``.
+    """
+
+    staleness_days: int = 10
+    split_threshold: float = 0.4
+    confirmed_splits: frozenset[str] = frozenset()
+    apply_all_suspected_splits: bool = False
+    extreme_pe: float = 200.0
+    flat_run_months: int = 6
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.staleness_days, int) or self.staleness_days < 0:
+            raise ConfigError(f"Setting staleness_days={self.staleness_days!r} is not allowed.", hint="Give 0 or more days.")
+        if not (0.0 < float(self.split_threshold) < 1.0):
+            raise ConfigError(f"Setting split_threshold={self.split_threshold!r} is not allowed.", hint="Give a share between 0 and 1, e.g. 0.4.")
+        if not float(self.extreme_pe) > 0:
+            raise ConfigError(f"Setting extreme_pe={self.extreme_pe!r} is not allowed.", hint="Give a positive number, e.g. 200.")
+        if not isinstance(self.flat_run_months, int) or self.flat_run_months < 2:
+            raise ConfigError(f"Setting flat_run_months={self.flat_run_months!r} is not allowed.", hint="Give 2 or more.")
+        if isinstance(self.confirmed_splits, str):
+            raise ConfigError("Setting confirmed_splits must be a set of security codes, not one string.",
+                              hint=f"Write confirmed_splits=frozenset({{{self.confirmed_splits!r}}}).")
+        object.__setattr__(self, "confirmed_splits", frozenset(self.confirmed_splits))

@@ -1,0 +1,321 @@
+"""Readers: bytes of a CSV/TSV/semicolon, XLSX or Parquet file -> a grid of columns.
+
+A :class:`Grid` holds the header names, one pandas Series per column (text for
+delimited files, typed for Parquet) and the 1-based file row of every data row.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime as _dt
+import io
+import zipfile
+from dataclasses import dataclass, field
+from typing import Any, Sequence
+
+import numpy as np
+import pandas as pd
+
+from core.errors import IntakeError, Reason
+from core.intake.options import ReadOptions
+from core.intake.sniff import decode, find_header, sniff_delimiter, split_sample
+
+__all__ = ["Grid", "read_grid", "detect_format", "XLSX_EXPANSION_LIMIT"]
+
+#: an xlsx may unpack to at most this multiple of ``ReadOptions.max_bytes``
+XLSX_EXPANSION_LIMIT = 4
+_XLSX_EXT = (".xlsx", ".xlsm", ".xls", ".xlsb", ".ods")
+_PARQUET_EXT = (".parquet", ".pq", ".parq")
+
+
+@dataclass(frozen=True)
+class Grid:
+    """A file's cells below its header."""
+
+    header: list[str]
+    columns: list[pd.Series]
+    rows: np.ndarray  # int64, 1-based file (or sheet) row of each data row
+    format: str
+    encoding: str | None
+    delimiter: str | None
+    header_row: int
+    sheet: str | None = None
+    extra_cells: int = 0  # non-empty cells beyond the header's width (dropped)
+    extra_examples: tuple[tuple[int, str], ...] = ()
+    notes: tuple[str, ...] = field(default_factory=tuple)
+
+    @property
+    def n_rows(self) -> int:
+        return int(len(self.rows))
+
+
+def detect_format(raw: bytes, name: str) -> str:
+    """``"xlsx"``, ``"parquet"`` or ``"csv"`` from the content's magic bytes, then the file name."""
+    low = name.lower()
+    if raw.startswith(b"PK\x03\x04") or raw.startswith(b"\xd0\xcf\x11\xe0"):
+        return "xlsx"
+    if raw.startswith(b"PAR1"):
+        return "parquet"
+    if low.endswith(_XLSX_EXT):
+        raise IntakeError(name, Reason.UNSUPPORTED_FORMAT, "the file is named as a spreadsheet but is not one (not a zip archive).",
+                          hint="Open it in the spreadsheet program and save it again as .xlsx, or export CSV.")
+    if low.endswith(_PARQUET_EXT):
+        raise IntakeError(name, Reason.UNSUPPORTED_FORMAT, "the file is named as Parquet but does not start with the Parquet mark.",
+                          hint="Write the file again with a Parquet writer, or export CSV.")
+    return "csv"
+
+
+def read_grid(raw: bytes, name: str, options: ReadOptions) -> Grid:
+    """Read ``raw`` into a :class:`Grid` (raises :class:`IntakeError` only)."""
+    if len(raw) == 0 or not raw.strip():
+        raise IntakeError(name, Reason.EMPTY_FILE, "the file is empty.", hint="Check that the right file was chosen.")
+    fmt = detect_format(raw, name)
+    if fmt == "xlsx":
+        return _read_xlsx(raw, name, options)
+    if fmt == "parquet":
+        return _read_parquet(raw, name)
+    return _read_text(raw, name, options)
+
+
+# -- delimited text -------------------------------------------------------------
+def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
+    text, enc = decode(raw, name, options.encoding)
+    if text.startswith("\ufeff"):
+        text = text[1:]
+    if not text.strip():
+        raise IntakeError(name, Reason.EMPTY_FILE, "the file holds only blank lines.", hint="Check that the right file was chosen.")
+    delim = options.delimiter or sniff_delimiter(text)
+    sample = split_sample(text, delim, 80)
+    if options.header_row is not None:
+        h = options.header_row - 1
+        lines_total = text.count("\n") + 1
+        if h >= lines_total:
+            raise IntakeError(name, Reason.BAD_OPTION, f"header_row={options.header_row} is beyond the end of the file ({lines_total} lines).",
+                              hint="Give the row number of the header as the file shows it.")
+    else:
+        h = find_header(sample, name)
+    lines = text.splitlines(keepends=True)
+    if h >= len(lines):
+        raise IntakeError(name, Reason.NO_HEADER, "the header row is past the end of the file.", hint="Check header_row.")
+    header = next(csv.reader([lines[h]], delimiter=delim), [])
+    header = [c.strip() for c in header]
+    while header and not header[-1]:
+        header.pop()
+    if len(header) < 1:
+        raise IntakeError(name, Reason.NO_HEADER, "the header row is empty.", row=h + 1, hint="Set header_row to the row with column names.")
+    body = "".join(lines[h + 1:])
+    grid = None
+    if len(body) > 1_000_000:
+        grid = _fast_text(body, header, delim, h + 1)
+    if grid is None:
+        grid = _python_text(body, header, delim, h + 1, name)
+    cols, rows, extra, ex = grid
+    return Grid(header, cols, rows, "csv", enc, delim, h + 1, None, extra, ex)
+
+
+def _fast_text(body: str, header: list[str], delim: str, header_row: int) -> tuple[list[pd.Series], np.ndarray, int, tuple[tuple[int, str], ...]] | None:
+    """pyarrow's multithreaded reader; None when the simple row numbering would not hold."""
+    import pyarrow as pa
+    import pyarrow.csv as pacsv
+
+    data = body.rstrip("\r\n")
+    if "\n\n" in data or "\n\r\n" in data or '"' in data and re.search(r'"[^"\n]*\n', data) is not None:
+        return None
+    names = [f"c{i}" for i in range(len(header))]
+    try:
+        table = pacsv.read_csv(
+            io.BytesIO((data + "\n").encode("utf-8")),
+            read_options=pacsv.ReadOptions(column_names=names, use_threads=True, block_size=1 << 24),
+            parse_options=pacsv.ParseOptions(delimiter=delim, newlines_in_values=False),
+            convert_options=pacsv.ConvertOptions(column_types={c: pa.string() for c in names},
+                                                 strings_can_be_null=False, quoted_strings_can_be_null=False),
+        )
+    except (pa.ArrowInvalid, pa.ArrowException):
+        return None
+    cols = [table.column(i).to_pandas().astype("str") for i in range(len(names))]
+    rows = np.arange(table.num_rows, dtype=np.int64) + header_row + 1
+    return cols, rows, 0, ()
+
+
+import re  # noqa: E402  (used by _fast_text)
+
+
+def _python_text(body: str, header: list[str], delim: str, header_row: int, name: str) -> tuple[list[pd.Series], np.ndarray, int, tuple[tuple[int, str], ...]]:
+    width = len(header)
+    reader = csv.reader(io.StringIO(body, newline=""), delimiter=delim)
+    out: list[list[str]] = []
+    rownums: list[int] = []
+    extra = 0
+    examples: list[tuple[int, str]] = []
+    try:
+        prev_line = 0
+        for rec in reader:
+            start = prev_line + 1
+            prev_line = reader.line_num
+            if not rec or (len(rec) == 1 and not rec[0].strip()):
+                continue
+            if len(rec) > width:
+                tail = [c for c in rec[width:] if c.strip()]
+                if tail:
+                    extra += len(tail)
+                    if len(examples) < 5:
+                        examples.append((header_row + start, tail[0]))
+                rec = rec[:width]
+            elif len(rec) < width:
+                rec = rec + [""] * (width - len(rec))
+            out.append(rec)
+            rownums.append(header_row + start)
+    except csv.Error as err:
+        raise IntakeError(name, Reason.UNREADABLE, f"the text could not be split into fields ({err}).",
+                          row=header_row + reader.line_num, hint="Check the quoting near that row, or export the file again.") from err
+    if out:
+        arr = np.array(out, dtype=object)
+        cols = [pd.Series(arr[:, j], dtype="str") for j in range(width)]
+    else:
+        cols = [pd.Series([], dtype="str") for _ in range(width)]
+    return cols, np.asarray(rownums, dtype=np.int64), extra, tuple(examples)
+
+
+# -- spreadsheets ---------------------------------------------------------------
+def _cell_text(v: Any) -> str:
+    if v is None:
+        return ""
+    if isinstance(v, bool):
+        return "TRUE" if v else "FALSE"
+    if isinstance(v, float):
+        if v != v:
+            return ""
+        return repr(v)
+    if isinstance(v, _dt.datetime):
+        return v.isoformat(sep=" ")
+    if isinstance(v, _dt.date):
+        return v.isoformat()
+    if isinstance(v, _dt.time):
+        return v.isoformat()
+    if isinstance(v, _dt.timedelta):
+        return repr(v.total_seconds() / 86400.0)
+    return str(v)
+
+
+def _check_zip(raw: bytes, name: str, options: ReadOptions) -> None:
+    if not raw.startswith(b"PK\x03\x04"):
+        return
+    try:
+        with zipfile.ZipFile(io.BytesIO(raw)) as zf:
+            total = sum(max(info.file_size, 0) for info in zf.infolist())
+    except (zipfile.BadZipFile, ValueError, OSError, EOFError) as err:
+        raise IntakeError(name, Reason.UNREADABLE, "the spreadsheet is a damaged zip archive.",
+                          hint="Open it in the spreadsheet program and save it again.") from err
+    limit = XLSX_EXPANSION_LIMIT * options.max_bytes
+    if total > limit:
+        raise IntakeError(name, Reason.TOO_LARGE, f"the spreadsheet unpacks to {total:,} bytes, above the limit of {limit:,}.",
+                          hint="Export the sheet you need as CSV, or raise max_bytes if the file is genuine.")
+
+
+def _sheet_rows(raw: bytes, name: str, options: ReadOptions) -> tuple[list[list[Any]], str, list[str]]:
+    errors: list[str] = []
+    try:
+        import python_calamine
+
+        wb = python_calamine.CalamineWorkbook.from_filelike(io.BytesIO(raw))
+        names = list(wb.sheet_names)
+        target = _pick_sheet(names, options, name)
+        if target is None:
+            for n in names:
+                rows = wb.get_sheet_by_name(n).to_python(skip_empty_area=False)
+                if any(any(c not in (None, "") for c in r) for r in rows):
+                    return rows, n, names
+            raise IntakeError(name, Reason.NO_DATA, "every sheet of the workbook is empty.", hint="Check that the right file was chosen.")
+        return wb.get_sheet_by_name(target).to_python(skip_empty_area=False), target, names
+    except IntakeError:
+        raise
+    except Exception as err:  # fall back to openpyxl
+        errors.append(f"{type(err).__name__}: {err}")
+    try:
+        import openpyxl
+
+        wb2 = openpyxl.load_workbook(io.BytesIO(raw), read_only=True, data_only=True)
+        names = list(wb2.sheetnames)
+        target = _pick_sheet(names, options, name) or names[0]
+        rows2 = [list(r) for r in wb2[target].iter_rows(values_only=True)]
+        return rows2, target, names
+    except IntakeError:
+        raise
+    except Exception as err:
+        raise IntakeError(name, Reason.UNREADABLE, "the spreadsheet could not be read.",
+                          hint="Save it again as .xlsx, or export the sheet as CSV.") from err
+
+
+def _pick_sheet(names: Sequence[str], options: ReadOptions, name: str) -> str | None:
+    if options.sheet is None:
+        return None
+    if isinstance(options.sheet, int):
+        if 0 <= options.sheet < len(names):
+            return names[options.sheet]
+    elif options.sheet in names:
+        return options.sheet
+    raise IntakeError(name, Reason.BAD_OPTION, f"sheet {options.sheet!r} does not exist.",
+                      hint=f"Sheets in the workbook: {', '.join(map(repr, names))} (positions count from 0).")
+
+
+def _read_xlsx(raw: bytes, name: str, options: ReadOptions) -> Grid:
+    _check_zip(raw, name, options)
+    rows_any, sheet, names = _sheet_rows(raw, name, options)
+    rows = [[_cell_text(c) for c in r] for r in rows_any]
+    if not rows or not any(any(c.strip() for c in r) for r in rows):
+        raise IntakeError(name, Reason.EMPTY_FILE, f"sheet {sheet!r} is empty.", hint="Choose the sheet with the data (sheet setting).")
+    if options.header_row is not None:
+        h = options.header_row - 1
+        if h >= len(rows):
+            raise IntakeError(name, Reason.BAD_OPTION, f"header_row={options.header_row} is beyond the last row ({len(rows)}).",
+                              hint="Give the row number of the header as the sheet shows it.")
+    else:
+        h = find_header(rows[:80], name)
+    header = [c.strip() for c in rows[h]]
+    while header and not header[-1]:
+        header.pop()
+    width = len(header)
+    body: list[list[str]] = []
+    rownums: list[int] = []
+    extra = 0
+    examples: list[tuple[int, str]] = []
+    for i in range(h + 1, len(rows)):
+        r = rows[i]
+        if not any(c.strip() for c in r):
+            continue
+        tail = [c for c in r[width:] if c.strip()]
+        if tail:
+            extra += len(tail)
+            if len(examples) < 5:
+                examples.append((i + 1, tail[0]))
+        r = (r + [""] * width)[:width]
+        body.append(r)
+        rownums.append(i + 1)
+    arr = np.array(body, dtype=object).reshape(len(body), width)
+    cols = [pd.Series(arr[:, j], dtype="str") for j in range(width)]
+    notes = (f"sheet {sheet!r} used (workbook sheets: {', '.join(map(repr, names))})",) if len(names) > 1 else ()
+    return Grid(header, cols, np.asarray(rownums, dtype=np.int64), "xlsx", None, None, h + 1, sheet, extra, tuple(examples), notes)
+
+
+# -- parquet ----------------------------------------------------------------------
+def _read_parquet(raw: bytes, name: str) -> Grid:
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    try:
+        table = pq.read_table(pa.BufferReader(raw))
+        frame = table.to_pandas()
+    except Exception as err:
+        raise IntakeError(name, Reason.UNREADABLE, "the Parquet file could not be read.",
+                          hint="Write it again with a Parquet writer, or export CSV.") from err
+    if not isinstance(frame.index, pd.RangeIndex):
+        frame = frame.reset_index()
+    header = [str(c).strip() for c in frame.columns]
+    cols = []
+    for j in range(frame.shape[1]):
+        s = frame.iloc[:, j].reset_index(drop=True)
+        if not (pd.api.types.is_numeric_dtype(s.dtype) or pd.api.types.is_datetime64_any_dtype(s.dtype)) or pd.api.types.is_bool_dtype(s.dtype):
+            s = s.astype("str").fillna("")
+        cols.append(s)
+    rows = np.arange(len(frame), dtype=np.int64) + 2
+    return Grid(header, cols, rows, "parquet", None, None, 1)

@@ -1,0 +1,182 @@
+"""Detection of encoding, delimiter, header row and column roles."""
+
+from __future__ import annotations
+
+import csv
+import re
+from typing import Sequence
+
+import pandas as pd
+
+from core.errors import IntakeError, Reason
+
+__all__ = [
+    "decode",
+    "sniff_delimiter",
+    "find_header",
+    "split_sample",
+    "norm_name",
+    "DATE_WORDS",
+    "SECURITY_WORDS",
+    "looks_like_index",
+]
+
+_BOMS = (
+    (b"\xef\xbb\xbf", "utf-8-sig", "UTF-8 with BOM"),
+    (b"\xff\xfe\x00\x00", "utf-32", "UTF-32 with BOM"),
+    (b"\x00\x00\xfe\xff", "utf-32", "UTF-32 with BOM"),
+    (b"\xff\xfe", "utf-16", "UTF-16 with BOM"),
+    (b"\xfe\xff", "utf-16", "UTF-16 with BOM"),
+)
+_DELIMS = (",", ";", "\t", "|")
+DATE_WORDS = frozenset(
+    {"date", "dates", "period", "periodend", "asof", "asofdate", "month", "monthend", "exdate", "exdividenddate",
+     "day", "time", "timestamp", "valuedate", "pricedate", "reportdate", "dt"}
+)
+SECURITY_WORDS = frozenset(
+    {"security", "securityid", "code", "id", "ticker", "symbol", "isin", "instrument", "stock", "company",
+     "asset", "name", "secid", "identifier", "securitycode", "stockcode", "holding"}
+)
+_INDEX_RE = re.compile(r"(?i)(\bindex\b|\bcomposite\b|all[\s_-]?share|\bbenchmark\b|\baverage\b|\bmarket\b|\btotal\b|\bidx\b)")
+
+
+def norm_name(name: str) -> str:
+    """Lower-case a header and drop everything but letters and digits (``"Ex-Date"`` -> ``"exdate"``)."""
+    return re.sub(r"[^a-z0-9]", "", str(name).lower())
+
+
+def looks_like_index(header: str) -> bool:
+    """True when a column header reads like an index, composite or benchmark rather than a security."""
+    return bool(_INDEX_RE.search(str(header)))
+
+
+def decode(raw: bytes, name: str, encoding: str | None = None) -> tuple[str, str]:
+    """Decode file bytes to text.
+
+    Returns the text and a label of the encoding used.  Tries a byte-order mark,
+    then UTF-8, then cp1252.  Binary content raises :class:`IntakeError`.
+    """
+    if encoding is not None:
+        try:
+            return raw.decode(encoding), encoding
+        except (UnicodeDecodeError, LookupError) as err:
+            raise IntakeError(name, Reason.BAD_ENCODING, f"the file is not valid {encoding} text.",
+                              hint="Leave the encoding setting empty to detect it, or pick the one the file was saved in.") from err
+    for bom, codec, label in _BOMS:
+        if raw.startswith(bom):
+            try:
+                return raw.decode(codec), label
+            except UnicodeDecodeError as err:
+                raise IntakeError(name, Reason.BAD_ENCODING, f"the file starts with a {label} mark but is not valid {label} text.",
+                                  hint="Save the file again as UTF-8.") from err
+    head = raw[:4096]
+    if len(head) >= 4 and head.count(b"\x00") > len(head) // 4:
+        even, odd = head[0::2].count(b"\x00"), head[1::2].count(b"\x00")
+        codec = "utf-16-le" if odd > even else "utf-16-be"
+        try:
+            text = raw.decode(codec)
+        except UnicodeDecodeError:
+            text = ""
+        if text and _printable_share(text[:2000]) > 0.95:
+            return text, f"{codec.upper()} without BOM"
+    if b"\x00" in raw:
+        raise IntakeError(name, Reason.UNREADABLE, "the file holds binary data (NUL bytes), not text.",
+                          hint="Export the data as CSV, XLSX or Parquet.")
+    try:
+        text = raw.decode("utf-8")
+        label = "UTF-8"
+    except UnicodeDecodeError:
+        try:
+            text = raw.decode("cp1252")
+            label = "cp1252"
+        except UnicodeDecodeError as err:
+            raise IntakeError(name, Reason.BAD_ENCODING, "the file is neither UTF-8 nor cp1252 text.",
+                              hint="Save it again as UTF-8, or set the encoding it uses.") from err
+    if _printable_share(text[:20000]) < 0.9:
+        raise IntakeError(name, Reason.UNREADABLE, "the file does not look like text (too many control characters).",
+                          hint="Export the data as CSV, XLSX or Parquet.")
+    return text, label
+
+
+def _printable_share(text: str) -> float:
+    if not text:
+        return 1.0
+    bad = sum(1 for ch in text if (ord(ch) < 32 and ch not in "\r\n\t") or 0xD800 <= ord(ch) <= 0xDFFF or ch == "\ufffd")
+    return 1.0 - bad / len(text)
+
+
+def split_sample(text: str, delimiter: str, max_lines: int = 80) -> list[list[str]]:
+    """Parse the first ``max_lines`` physical lines with the csv module (one list per line)."""
+    lines = text.splitlines()[:max_lines]
+    rows: list[list[str]] = []
+    for line in lines:
+        try:
+            rows.append(next(csv.reader([line], delimiter=delimiter), []))
+        except csv.Error:
+            rows.append([line])
+    return rows
+
+
+def sniff_delimiter(text: str) -> str:
+    """Pick the delimiter that splits the sample lines into the most consistent widths.
+
+    Notes
+    -----
+    For each candidate (``,``, ``;``, tab, ``|``) the sample lines are split with
+    the csv module (so quoted fields are respected); the score is the number of
+    lines sharing the most common width (ignoring single-field lines), then that
+    width.  Ties go to the earlier candidate.
+    """
+    best: tuple[int, int, int] = (0, 0, 0)
+    choice = ","
+    for rank, d in enumerate(_DELIMS):
+        widths = [len(r) for r in split_sample(text, d, 60) if len(r) > 1]
+        if not widths:
+            continue
+        mode = pd.Series(widths).mode()
+        w = int(mode.max())
+        score = (widths.count(w), w, -rank)
+        if score > best:
+            best, choice = score, d
+    return choice
+
+
+def _width(row: Sequence[str]) -> int:
+    w = len(row)
+    while w and not str(row[w - 1]).strip():
+        w -= 1
+    return w
+
+
+def _is_value(cell: str) -> bool:
+    c = cell.strip()
+    return bool(re.fullmatch(r"[-+($€£]*[\d.,\s/:%-]+[)%]*", c)) and any(ch.isdigit() for ch in c)
+
+
+def find_header(rows: Sequence[Sequence[str]], name: str) -> int:
+    """0-based index of the header row among sample rows (skipping preamble lines).
+
+    Notes
+    -----
+    The header is the first row as wide as the widest sample row (ignoring
+    trailing empty cells) with at least two non-empty cells, of which at least
+    one is not a number or date.  A file whose widest rows are all numbers has
+    no header (:class:`IntakeError`, reason ``no_header``).
+    """
+    widths = [_width(r) for r in rows]
+    if not widths or max(widths) == 0:
+        raise IntakeError(name, Reason.EMPTY_FILE, "the file has no content.", hint="Check that the right file was chosen.")
+    wmax = max(widths)
+    need = max(wmax, 2) if wmax >= 2 else 1
+    for i, r in enumerate(rows):
+        cells = [str(c).strip() for c in r[:wmax]]
+        nonempty = [c for c in cells if c]
+        if widths[i] >= need and len(nonempty) >= min(2, wmax) and any(not _is_value(c) for c in nonempty):
+            return i
+    # tolerate headers narrower than the data by one blank leading cell (index column without a name)
+    for i, r in enumerate(rows):
+        nonempty = [str(c).strip() for c in r if str(c).strip()]
+        if widths[i] >= need - 1 and len(nonempty) >= 2 and all(not _is_value(c) for c in nonempty):
+            return i
+    raise IntakeError(name, Reason.NO_HEADER, "no header row found: the widest rows hold only numbers or dates.",
+                      row=1, hint="Add a header row (a date column name and one name per column), or set header_row.")
