@@ -7,7 +7,10 @@ import sys
 from pathlib import Path
 from typing import Any
 
-__all__ = ["add_serve", "add_study", "add_check", "add_demo", "read_options_from_args"]
+#: File name endings read as data by ``check``; anything else (a README, say) is skipped with a note.
+DATA_SUFFIXES = frozenset({".csv", ".tsv", ".tab", ".txt", ".dat", ".xlsx", ".xlsm", ".parquet", ".pq"})
+
+__all__ = ["DATA_SUFFIXES", "add_serve", "add_study", "add_check", "add_demo", "read_options_from_args"]
 
 
 # -- shared intake options ----------------------------------------------------
@@ -100,6 +103,10 @@ def run_check(args: argparse.Namespace) -> int:
     for f in args.files:
         path = Path(f)
         if path.is_dir():
+            continue
+        if path.suffix.lower() not in DATA_SUFFIXES and path.name not in kinds:
+            print(f"skipped {path.name}: not a data file by its name (use --kind {path.name}=KIND to read it)",
+                  file=sys.stderr)
             continue
         try:
             opts = read_options_from_args(args, kinds.get(path.name))

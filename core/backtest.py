@@ -118,7 +118,13 @@ def _cohort_returns(w: np.ndarray, m: np.ndarray, h: int) -> np.ndarray:
 def _stats(col: np.ndarray, comp: np.ndarray | None, rf: float) -> dict[str, float]:
     r = col[np.isfinite(col)]
     n = int(r.size)
-    ann = float(np.prod(1.0 + r) ** (12.0 / n) - 1.0) if n else float("nan")
+    if n == 0:
+        ann = float("nan")
+    elif np.any(r <= -1.0):
+        ann = -1.0  # the wealth was lost at some point
+    else:
+        with np.errstate(over="ignore"):
+            ann = float(np.expm1(12.0 / n * np.sum(np.log1p(r))))
     vol = float(r.std(ddof=1) * np.sqrt(12.0)) if n > 1 else float("nan")
     return {
         "ann_return": ann,

@@ -198,10 +198,12 @@ def zscore_rows(x: np.ndarray, method: ZScoreMethod = "mean_std", ddof: int = 1)
     else:
         centre = row_median(x)
         scale = MAD_SCALE * _row_mad(x, centre)
-    # A constant row can leave a rounding-sized scale: treat it as no spread.
-    spread = np.where(np.isfinite(x), x, np.nan)
-    const = _row_constant(spread)
-    ok = np.isfinite(scale) & (scale > 0) & ~const
+    # A constant row can leave a rounding-sized scale: treat a spread below 1e-10 of the
+    # values' magnitude as no spread at all.
+    fin = np.isfinite(x)
+    const = _row_constant(np.where(fin, x, np.nan))
+    size = np.where(fin, np.abs(x), 0.0).max(axis=1, initial=0.0)
+    ok = np.isfinite(scale) & (scale > 1e-10 * size) & ~const
     with np.errstate(invalid="ignore", divide="ignore"):
         z = (x - centre[:, None]) / np.where(ok, scale, np.nan)[:, None]
     return np.where(ok[:, None], z, np.nan)

@@ -16,7 +16,7 @@ Pipeline (:func:`run_study`)
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, field, replace
 from typing import Any, Callable, get_args
 
 import numpy as np
@@ -297,6 +297,12 @@ class StudyResult:
     fm_summary : DataFrame (H x statistics)
         ``mean_slope, se_hac, t_hac, hac_lags, se_naive, n_dates``.
     backtest : BacktestResult
+    eps_used : DataFrame (D x S)
+        EPS in use at each date after the reporting lag (NaN without earnings).
+    price_age, eps_age : DataFrame (D x S)
+        Months since the last valid price / the last EPS stamp (after the lag).
+    security_info : DataFrame (S rows)
+        ``sector`` (str) and ``holding_weight`` (float, NaN if not held).
     screen : DataFrame (S rows)
         Screen table on the latest date (see :func:`core.evaluate.screen.screen_table`).
     date_notes : DataFrame
@@ -332,9 +338,14 @@ class StudyResult:
     fm_slopes: pd.DataFrame
     fm_summary: pd.DataFrame
     backtest: "BacktestResult"
+    eps_used: pd.DataFrame
+    price_age: pd.DataFrame
+    eps_age: pd.DataFrame
+    security_info: pd.DataFrame
     screen: pd.DataFrame
     date_notes: pd.DataFrame
     notes: tuple[str, ...] = field(default_factory=tuple)
+
 
 
 def run_study(
@@ -342,5 +353,123 @@ def run_study(
     config: StudyConfig,
     progress: Callable[[str, float], None] | None = None,
 ) -> StudyResult:
-    """Run a full study of ``config.signal`` on ``panel``."""
-    raise NotImplementedError("being written")
+    """Run a full study of ``config.signal`` on ``panel``.
+
+    Parameters
+    ----------
+    panel : Panel
+        The data (never modified).
+    config : StudyConfig
+        Validated settings.
+    progress : callable(stage: str, fraction: float), optional
+        Called at the start of each stage with the fraction done (0..1).
+
+    Returns
+    -------
+    StudyResult
+
+    Raises
+    ------
+    ConfigError
+        A setting does not fit this panel (unknown signal, no sectors for a
+        sector setting, no benchmark for a benchmark setting, ...).
+    InsufficientDataError
+        A horizon as long as the history, a universe filter that leaves
+        nothing, fewer names than quantiles on every date.
+
+    Notes
+    -----
+    See ``docs/methodology.md`` for every formula; each step's docstring in
+    ``core.signals``, ``core.returns``, ``core.evaluate`` and ``core.backtest``
+    states its own.
+
+    References
+    ----------
+    Fama & MacBeth (1973), JPE 81(3); Newey & West (1987), Econometrica 55(3);
+    Jegadeesh & Titman (1993), J. Finance 48(1).
+    """
+    from core._study_steps import compute_study
+    from core.evaluate.screen import screen_table
+
+    if not isinstance(config, StudyConfig):
+        raise ConfigError("run_study needs a StudyConfig.", hint="Build one with StudyConfig(...).")
+    if not isinstance(panel, Panel):
+        raise ConfigError("run_study needs a Panel.", hint="Build one with intake or core.panel.Panel(...).")
+    fields = compute_study(panel, config, progress)
+    res = StudyResult(config=config, screen=pd.DataFrame(), **fields)
+    res = replace(res, screen=screen_table(res))
+    if progress is not None:
+        progress("done", 1.0)
+    return res
+
+
+def _f(x: object) -> float | None:
+    v = float(x)  # type: ignore[arg-type]
+    return v if np.isfinite(v) else None
+
+
+def summary_dict(result: StudyResult) -> dict[str, Any]:
+    """JSON-ready summary of a study.
+
+    Returns
+    -------
+    dict
+        ``{"config": {...}, "signal": str, "horizons": {"<h>": {...}}, "backtest": {...}}``;
+        per horizon ``mean_ic``, ``ic_t`` (HAC), ``ic_se``, ``ic_lags``,
+        ``ic_ci_low``, ``ic_ci_high``, ``ic_ir``, ``hit_share``, ``n_dates``,
+        ``mean_pearson_ic``, ``spread`` (mean over dates of the highest-signal
+        quantile's h-month forward return minus the lowest-signal quantile's,
+        not annualised), ``spread_t`` (HAC), ``spread_annualised``,
+        ``monotonicity``, ``fm_slope``, ``fm_t`` (HAC).  NaN becomes ``None``.
+    """
+    out: dict[str, Any] = {"config": result.config.to_dict(), "signal": result.signal_name, "horizons": {}}
+    ic, sp, fm = result.ic_summary, result.spread_summary, result.fm_summary
+    for h in result.config.horizons:
+        out["horizons"][str(h)] = {
+            "mean_ic": _f(ic.at[h, "mean_ic"]),
+            "ic_t": _f(ic.at[h, "t_hac"]),
+            "ic_se": _f(ic.at[h, "se_hac"]),
+            "ic_lags": int(ic.at[h, "hac_lags"]),
+            "ic_ci_low": _f(ic.at[h, "ci_low"]),
+            "ic_ci_high": _f(ic.at[h, "ci_high"]),
+            "ic_ir": _f(ic.at[h, "ic_ir"]),
+            "hit_share": _f(ic.at[h, "hit_share"]),
+            "n_dates": int(ic.at[h, "n_dates"]),
+            "mean_pearson_ic": _f(ic.at[h, "mean_pearson_ic"]),
+            "spread": _f(sp.at[h, "mean"]),
+            "spread_t": _f(sp.at[h, "t_hac"]),
+            "spread_annualised": _f(sp.at[h, "mean_annualised"]),
+            "monotonicity": _f(sp.at[h, "monotonicity"]),
+            "fm_slope": _f(fm.at[h, "mean_slope"]),
+            "fm_t": _f(fm.at[h, "t_hac"]),
+        }
+    st = result.backtest.stats
+    out["backtest"] = {
+        "holding_months": result.backtest.holding_months,
+        "comparison": result.backtest.comparison,
+        "cohort_share_beat": _f(result.backtest.cohort_share_beat),
+        "portfolios": {p: {c: _f(st.at[p, c]) for c in st.columns} for p in st.index},
+    }
+    out["excluded_dates"] = int(len(result.date_notes))
+    out["notes"] = list(result.notes)
+    return out
+
+
+def ic_by_date_frame(result: StudyResult) -> pd.DataFrame:
+    """One row per signal date and horizon: ``date`` (ISO text), ``horizon``, ``rank_ic``, ``pearson_ic``, ``breadth``.
+
+    Dates without a forward return for the horizon (the last h dates) are left out;
+    dates below the minimum breadth stay in with NaN ICs.
+    """
+    parts = []
+    n = len(result.rank_ic.index)
+    for h in result.config.horizons:
+        keep = np.arange(n) < n - h
+        parts.append(pd.DataFrame({
+            "date": [d.date().isoformat() for d in result.rank_ic.index[keep]],
+            "horizon": int(h),
+            "rank_ic": result.rank_ic[h].to_numpy(dtype=float)[keep],
+            "pearson_ic": result.pearson_ic[h].to_numpy(dtype=float)[keep],
+            "breadth": result.breadth[h].to_numpy(dtype=int)[keep],
+        }))
+    return pd.concat(parts, ignore_index=True)

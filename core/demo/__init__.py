@@ -17,6 +17,7 @@ from core.demo.truth import (
     ic_standard_error,
     spearman_from_pearson,
 )
+from core.demo.write import write_demo
 
 __all__ = [
     "DEFAULT_SEED",
@@ -29,4 +30,5 @@ __all__ = [
     "ic_standard_error",
     "simulate_demo",
     "spearman_from_pearson",
+    "write_demo",
 ]

@@ -101,7 +101,29 @@ class DemoMarket:
 
 
 def month_end_dates(start: str = C.START_MONTH, n_months: int = C.N_MONTHS) -> tuple[dt.date, ...]:
-    """Calendar month-ends from ``start`` ("yyyy-mm") for ``n_months`` months."""
+    """Calendar month-ends from ``start`` for ``n_months`` months.
+
+    Parameters
+    ----------
+    start : str
+        First month as "yyyy-mm".
+    n_months : int
+        Number of month-ends.
+
+    Returns
+    -------
+    tuple of datetime.date
+        The last calendar day of each month.
+
+    Notes
+    -----
+    Month-end = first day of the next month minus one day.
+
+    Examples
+    --------
+    >>> [d.isoformat() for d in month_end_dates("2024-01", 2)]
+    ['2024-01-31', '2024-02-29']
+    """
     months = np.arange(np.datetime64(start, "M"), np.datetime64(start, "M") + n_months)
     ends = (months + 1).astype("datetime64[D]") - np.timedelta64(1, "D")
     return tuple(dt.date.fromisoformat(str(d)) for d in ends)
@@ -283,7 +305,10 @@ def simulate_demo(seed: int = C.DEFAULT_SEED) -> DemoMarket:
         new_names = now & ~(listed[t - 1] if t > 0 else np.zeros(N, dtype=bool))
         price[t, new_names] = p0[new_names]
         if np.any(price[t, now] <= 0):
-            raise RuntimeError(f"demo simulation produced a non-positive price in month {t}")  # pragma: no cover
+            raise ConfigError(
+                f"Demo seed {seed} drives a price to zero or below in month {t + 1}; the demo cannot use it.",
+                hint="Choose another seed.",
+            )
         # trailing EPS: refreshed in report months (and at listing), held in between
         report = now & ((calendar_month[t] in C.REPORT_MONTHS) | new_names)
         eps[t, now] = eps[t - 1, now] if t > 0 else np.nan
@@ -296,6 +321,11 @@ def simulate_demo(seed: int = C.DEFAULT_SEED) -> DemoMarket:
         ey[t, now] = eps[t, now] / price[t, now]
         z[t] = _zscore(ey[t], now)
 
+    if near_zero_month < 0 or cut_month < 0:
+        raise ConfigError(
+            f"Demo seed {seed} does not produce the planted earnings crossing or dividend cut.",
+            hint="Choose another seed.",
+        )
     total = np.full((T, N), np.nan)
     total[1:] = (price[1:] + div[1:]) / price[:-1] - 1.0
     # the dividend paid before the price history starts (same amount as its first in-sample one)

@@ -55,7 +55,7 @@ def spearman_from_pearson(rho: float) -> float:
     Examples
     --------
     >>> round(spearman_from_pearson(0.10), 6)
-    0.095537
+    0.095533
     """
     if not -1.0 <= rho <= 1.0:
         raise ConfigError(f"A correlation must lie in [-1, 1]; got {rho!r}.")
@@ -151,21 +151,28 @@ def horizon_ic_approx(horizon: int, z_autocorrelation: Sequence[float], rho: flo
     Returns
     -------
     float
-        ``rho * (1 + a_1 + ... + a_{h-1}) / sqrt(h)``.
+        ``rho * S / sqrt(h (1 - rho**2) + rho**2 * V)`` with
+        ``S = 1 + a_1 + ... + a_{h-1}`` and
+        ``V = h + 2 * sum_{k=1}^{h-1} (h - k) a_k``.
 
     Notes
     -----
-    Only the one-month relation is planted.  With
-    ``R = r_{t+1} + ... + r_{t+h}`` and ``r_{t+k} = gamma z_{t+k-1} + u_{t+k}``,
-    ``Cov(z_t, R) = gamma * sum_k a_k`` exactly (later shocks are drawn after
-    ``z_t``), while ``Var(R) ~ h * Var(u)`` because ``gamma**2`` is tiny next
-    to the noise; hence the formula.  It ignores compounding and the
-    ``gamma**2`` terms, and the ``a_k`` are measured, not planted.
+    Only the one-month relation is planted.  Write the one-month return in
+    units of its cross-sectional standard deviation as
+    ``r_{t+k} = rho z_{t+k-1} + u_{t+k}`` with ``Var(u) = 1 - rho**2``, and
+    ``R = r_{t+1} + ... + r_{t+h}``.  Then ``Cov(z_t, R) = rho * S`` exactly
+    (the shocks are drawn after ``z_t``) and
+    ``Var(R) = h (1 - rho**2) + rho**2 V`` if the shocks are uncorrelated with
+    later signals.  That last step and summing instead of compounding are the
+    approximations (a price shock lowers the earnings yield until the next
+    report, a small negative covariance); the ``a_k`` are measured, not planted.
 
     Examples
     --------
+    >>> round(horizon_ic_approx(1, []), 4)
+    0.1
     >>> round(horizon_ic_approx(3, [0.9, 0.8]), 4)
-    0.1559
+    0.1546
     """
     if horizon < 1:
         raise ConfigError(f"The horizon must be at least 1 month; got {horizon}.")
@@ -173,8 +180,10 @@ def horizon_ic_approx(horizon: int, z_autocorrelation: Sequence[float], rho: flo
         raise ConfigError(
             f"A {horizon}-month horizon needs {horizon - 1} autocorrelations; got {len(z_autocorrelation)}."
         )
-    total = 1.0 + float(sum(z_autocorrelation[: horizon - 1]))
-    return rho * total / math.sqrt(horizon)
+    a = [float(x) for x in z_autocorrelation[: horizon - 1]]
+    s = 1.0 + sum(a)
+    v = horizon + 2.0 * sum((horizon - k) * a_k for k, a_k in enumerate(a, start=1))
+    return rho * s / math.sqrt(horizon * (1.0 - rho**2) + rho**2 * v)
 
 
 DEMO_TRUTH: Mapping[str, float] = MappingProxyType(

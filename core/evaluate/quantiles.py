@@ -5,12 +5,23 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats as _st
 
-from core.stats import average_ranks
 
 __all__ = ["assign_quantiles", "quantile_means", "quantile_turnover", "monotonicity"]
 
 
-def assign_quantiles(z: np.ndarray, n_q: int, groups: np.ndarray | None = None) -> np.ndarray:
+def _ordinal_ranks(x: np.ndarray, tiebreak: np.ndarray) -> np.ndarray:
+    """Ranks 1..n per row ordered by value, ties by ``tiebreak``; NaN stays NaN."""
+    t, m = x.shape
+    key2 = np.broadcast_to(tiebreak, (t, m))
+    order = np.lexsort((key2, x), axis=1)  # last key (value) is primary; NaN sorts last
+    ranks = np.empty((t, m))
+    np.put_along_axis(ranks, order, np.broadcast_to(np.arange(1.0, m + 1.0), (t, m)), axis=1)
+    return np.where(np.isnan(x), np.nan, ranks)
+
+
+def assign_quantiles(
+    z: np.ndarray, n_q: int, groups: np.ndarray | None = None, tiebreak: np.ndarray | None = None
+) -> np.ndarray:
     """Quantile number (1 = lowest signal .. n_q = highest) per date; NaN if not assigned.
 
     Parameters
@@ -21,14 +32,19 @@ def assign_quantiles(z: np.ndarray, n_q: int, groups: np.ndarray | None = None) 
         Number of quantiles.
     groups : ndarray (S,) of int, optional
         Assign within each group (e.g. sector) separately.
+    tiebreak : ndarray (S,) of int, optional
+        Order among names with equal signal (the study passes the rank of the
+        security identifier, so the result does not depend on column order);
+        default: column order.
 
     Notes
     -----
-    With ``n`` names on a date and average rank ``r`` (1 = lowest, ties share
-    their mean rank), ``q = floor((r - 1) n_q / n) + 1``, so tied names always
-    share a quantile and the result does not depend on the order of the
-    securities.  A date (or group) with fewer names than quantiles gets no
-    quantiles.  Membership uses only the signal, never the forward return.
+    With ``n`` names on a date and ordinal rank ``r`` (1 = lowest signal; ties
+    ordered by ``tiebreak``), ``q = floor((r - 1) n_q / n) + 1``: quantiles
+    differ in size by at most one name, even when many names tie (e.g. the
+    zero dividend yield of non-payers).  A date (or group) with fewer names
+    than quantiles gets no quantiles.  Membership uses only the signal, never
+    the forward return.
 
     Examples
     --------
@@ -39,11 +55,12 @@ def assign_quantiles(z: np.ndarray, n_q: int, groups: np.ndarray | None = None) 
     """
     z = np.asarray(z, dtype=float)
     out = np.full(z.shape, np.nan)
+    tb = np.arange(z.shape[1]) if tiebreak is None else np.asarray(tiebreak)
     codes = np.zeros(z.shape[1], dtype=int) if groups is None else np.asarray(groups)
     for c in np.unique(codes):
         cols = codes == c
         sub = np.where(cols[None, :] & np.isfinite(z), z, np.nan)
-        r = average_ranks(sub)
+        r = _ordinal_ranks(sub, tb)
         n = np.isfinite(sub).sum(axis=1)
         with np.errstate(invalid="ignore", divide="ignore"):
             q = np.floor((r - 1.0) * n_q / np.maximum(n, 1)[:, None]) + 1.0

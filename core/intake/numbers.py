@@ -140,7 +140,7 @@ def _slow(r: pd.Series, decimal: str) -> tuple[np.ndarray, np.ndarray, np.ndarra
     pct = t.str.endswith("%").to_numpy(dtype=bool, na_value=False).copy()
     t = t.str.replace(r"\s*%$", "", regex=True)
     t = t.str.replace(_CURRENCY, "", regex=True)
-    t = t.str.replace(r"^[A-Z]{3}\s*(?=[-+(\d.,])|(?<=[\d.,])\s*[A-Z]{3}$", "", regex=True)
+    t = t.str.replace(r"^[A-Z]{3}\s+(?=[-+(\d.,])|(?<=[\d.,])\s+[A-Z]{3}$", "", regex=True)
     t = t.str.replace(r"[\s\u00a0\u202f'\u2019]", "", regex=True)
     # a parenthesised negative may carry its sign inside a currency prefix: "-$12" or "$(12)"
     paren2 = t.str.match(r"^\(.*\)$").to_numpy(dtype=bool, na_value=False).copy()

@@ -9,6 +9,7 @@ from __future__ import annotations
 import csv
 import datetime as _dt
 import io
+import re
 import zipfile
 from dataclasses import dataclass, field
 from typing import Any, Sequence
@@ -20,10 +21,12 @@ from core.errors import IntakeError, Reason
 from core.intake.options import ReadOptions
 from core.intake.sniff import decode, find_header, sniff_delimiter, split_sample
 
-__all__ = ["Grid", "read_grid", "detect_format", "XLSX_EXPANSION_LIMIT"]
+__all__ = ["Grid", "read_grid", "detect_format", "XLSX_EXPANSION_LIMIT", "FAST_PATH_MIN_CHARS"]
 
 #: an xlsx may unpack to at most this multiple of ``ReadOptions.max_bytes``
 XLSX_EXPANSION_LIMIT = 4
+#: delimited bodies at least this long go through pyarrow's reader (when row numbering stays exact)
+FAST_PATH_MIN_CHARS = 1_000_000
 _XLSX_EXT = (".xlsx", ".xlsm", ".xls", ".xlsb", ".ods")
 _PARQUET_EXT = (".parquet", ".pq", ".parq")
 
@@ -105,7 +108,7 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
         raise IntakeError(name, Reason.NO_HEADER, "the header row is empty.", row=h + 1, hint="Set header_row to the row with column names.")
     body = "".join(lines[h + 1:])
     grid = None
-    if len(body) > 1_000_000:
+    if len(body) >= FAST_PATH_MIN_CHARS:
         grid = _fast_text(body, header, delim, h + 1)
     if grid is None:
         grid = _python_text(body, header, delim, h + 1, name)
@@ -136,8 +139,6 @@ def _fast_text(body: str, header: list[str], delim: str, header_row: int) -> tup
     rows = np.arange(table.num_rows, dtype=np.int64) + header_row + 1
     return cols, rows, 0, ()
 
-
-import re  # noqa: E402  (used by _fast_text)
 
 
 def _python_text(body: str, header: list[str], delim: str, header_row: int, name: str) -> tuple[list[pd.Series], np.ndarray, int, tuple[tuple[int, str], ...]]:

@@ -158,18 +158,19 @@ def find_header(rows: Sequence[Sequence[str]], name: str) -> int:
 
     Notes
     -----
-    The header is the first row as wide as the widest sample row (ignoring
-    trailing empty cells) with at least two non-empty cells, of which at least
-    one is not a number or date.  A file whose widest rows are all numbers has
+    The header is the first row at least as wide as the most common width of
+    the sample rows (ignoring trailing empty cells and one-cell lines) with at
+    least two non-empty cells, of which at least one is not a number or date.  A file whose widest rows are all numbers has
     no header (:class:`IntakeError`, reason ``no_header``).
     """
     widths = [_width(r) for r in rows]
     if not widths or max(widths) == 0:
         raise IntakeError(name, Reason.EMPTY_FILE, "the file has no content.", hint="Check that the right file was chosen.")
     wmax = max(widths)
-    need = max(wmax, 2) if wmax >= 2 else 1
+    wide = [w for w in widths if w >= 2]
+    need = int(pd.Series(wide).mode().max()) if wide else 1
     for i, r in enumerate(rows):
-        cells = [str(c).strip() for c in r[:wmax]]
+        cells = [str(c).strip() for c in r]
         nonempty = [c for c in cells if c]
         if widths[i] >= need and len(nonempty) >= min(2, wmax) and any(not _is_value(c) for c in nonempty):
             return i

@@ -1,0 +1,158 @@
+"""The intake report of one upload as a card: what was read, dropped and why, and the override controls."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from dash import dcc, html
+
+from app.components.common import text_table
+from app.workspace import DatasetRecord
+
+__all__ = ["dataset_card", "KIND_OPTIONS", "options_from_controls"]
+
+KIND_OPTIONS = [{"label": k, "value": k} for k in
+                ("prices", "earnings", "dividends", "sectors", "holdings", "benchmark", "market_cap", "signal")]
+_LAYOUTS = [{"label": "detect", "value": "auto"}, {"label": "wide: one column per security", "value": "wide"},
+            {"label": "long: date, security, value", "value": "long"}]
+_DATE_ORDERS = [{"label": "detect", "value": "auto"}, {"label": "day/month/year", "value": "dmy"},
+                {"label": "month/day/year", "value": "mdy"}, {"label": "year/month/day", "value": "ymd"}]
+_DECIMALS = [{"label": "detect", "value": "auto"}, {"label": "point (1,234.5)", "value": "point"},
+             {"label": "comma (1.234,5)", "value": "comma"}]
+_CLEANUPS = [{"label": "leave as read", "value": "none"}, {"label": "upper case", "value": "upper"},
+             {"label": "first word only", "value": "first_token"}, {"label": "pattern (regex)", "value": "regex"}]
+
+
+def _pid(kind: str, did: str) -> dict[str, str]:
+    return {"type": kind, "id": did}
+
+
+def _summary_rows(r: dict[str, Any]) -> list[tuple[str, Any]]:
+    def d(v: Any) -> str:
+        return (v.get("__ts__") or "")[:10] if isinstance(v, dict) else ("" if v is None else str(v))
+
+    delim = {"\t": "tab", ",": "comma", ";": "semicolon", "|": "bar"}.get(r.get("delimiter") or "", r.get("delimiter"))
+    rows = [
+        ("what it holds", r.get("kind")),
+        ("format", f"{r.get('format')}" + (f", sheet {r.get('sheet')}" if r.get("sheet") else "")
+                   + (f", {r.get('encoding')}" if r.get("encoding") else "") + (f", delimiter {delim}" if delim else "")),
+        ("layout", f"{r.get('layout')}, header on row {r.get('header_row')}"),
+        ("size", f"{r.get('n_rows')} data rows x {r.get('n_columns')} columns, {r.get('n_securities')} securities"),
+    ]
+    if r.get("date_column") is not None:
+        rows.append(("dates", f"column {r.get('date_column')!r}, {r.get('date_order')} "
+                              f"({r.get('date_order_reason')}); {d(r.get('first_date'))} to {d(r.get('last_date'))}, "
+                              f"{r.get('frequency')}"))
+    if r.get("security_column"):
+        rows.append(("identifiers", f"column {r.get('security_column')!r}"))
+    if r.get("decimal"):
+        rows.append(("decimal", r.get("decimal")))
+    if r.get("value_form"):
+        rows.append(("values read as", r.get("value_form")))
+    ex = r.get("excluded_columns")
+    ex = ex.get("__tuple__") if isinstance(ex, dict) else ex
+    if ex:
+        rows.append(("columns left out", ", ".join(map(str, ex))))
+    rows.append(("cells", f"{r.get('cells_total')} total = {r.get('cells_parsed')} read + {r.get('cells_blank')} blank + "
+                          f"{r.get('cells_unparseable')} unreadable + {r.get('cells_dropped')} dropped"))
+    return rows
+
+
+def _frame_rows(v: Any) -> tuple[list[str], list[list[Any]]]:
+    if isinstance(v, dict) and "__frame__" in v:
+        return v["__frame__"], v["rows"]
+    return [], []
+
+
+def _tuple(v: Any) -> list[Any]:
+    if isinstance(v, dict) and "__tuple__" in v:
+        return list(v["__tuple__"])
+    return list(v or [])
+
+
+def _controls(rec: DatasetRecord) -> html.Div:
+    o = rec.options
+    rep = rec.report or {}
+    suspects = _tuple(rep.get("suspect_columns"))
+    return html.Details(className="vs-overrides", open=not rec.ok, children=[
+        html.Summary("Change how this file is read"),
+        html.Div(className="vs-override-grid", children=[
+            html.Div([html.Label("File holds"), dcc.Dropdown(id=_pid("ds-kind", rec.id), options=KIND_OPTIONS,
+                                                             value=o.kind, placeholder="detect")]),
+            html.Div([html.Label("Layout"), dcc.Dropdown(id=_pid("ds-layout", rec.id), options=_LAYOUTS,
+                                                         value=o.layout, clearable=False)]),
+            html.Div([html.Label("Header row (1-based)"), dcc.Input(id=_pid("ds-header", rec.id), type="number",
+                                                                    min=1, step=1, value=o.header_row,
+                                                                    placeholder="detect")]),
+            html.Div([html.Label("Date order"), dcc.Dropdown(id=_pid("ds-dates", rec.id), options=_DATE_ORDERS,
+                                                             value=o.date_order, clearable=False)]),
+            html.Div([html.Label("Decimal style"), dcc.Dropdown(id=_pid("ds-decimal", rec.id), options=_DECIMALS,
+                                                                value=o.decimal, clearable=False)]),
+            html.Div([html.Label("Identifier clean-up"), dcc.Dropdown(id=_pid("ds-idclean", rec.id), options=_CLEANUPS,
+                                                                      value=o.id_cleanup, clearable=False)]),
+            html.Div([html.Label("Identifier pattern"), dcc.Input(id=_pid("ds-idregex", rec.id), type="text",
+                                                                  value=o.id_regex or "", placeholder=r"e.g. ([A-Z]{3}\d{2})")]),
+            html.Div([html.Label("Columns to leave out (comma-separated)"),
+                      dcc.Input(id=_pid("ds-exclude", rec.id), type="text", value=", ".join(o.exclude_columns),
+                                placeholder=", ".join(suspects) if suspects else "none")]),
+        ]),
+        html.Div(className="vs-row", children=[
+            html.Button("Read again with these choices", id=_pid("ds-reread", rec.id), n_clicks=0,
+                        className="vs-button"),
+            html.Span(f"Looks like an index, not a security: {', '.join(map(str, suspects))}" if suspects
+                      and not set(suspects) <= set(o.exclude_columns) else "", className="vs-hint"),
+        ]),
+    ])
+
+
+def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
+    """One upload: status, the report (or the error) and the controls to read it differently."""
+    head = html.Div(className="vs-card-head", children=[
+        html.H3(rec.name, className="vs-file-name"),
+        html.Span(rec.kind or "unknown kind", className="vs-badge"),
+        html.Span("read" if rec.ok else "could not be read", className="vs-badge " + ("vs-ok" if rec.ok else "vs-bad")),
+        html.Span(f"uploaded {rec.uploaded_at[:16].replace('T', ' ')} UTC, {rec.size:,} bytes", className="vs-hint"),
+        dcc.Checklist(id=_pid("ds-use", rec.id), options=[{"label": "use in the study", "value": "on",
+                                                           "disabled": not rec.ok}],
+                      value=["on"] if in_use and rec.ok else [], className="vs-use"),
+        html.Button("Remove", id=_pid("ds-delete", rec.id), n_clicks=0, className="vs-button vs-button-quiet"),
+    ])
+    body: list[Any] = []
+    if not rec.ok:
+        body.append(html.Div(rec.error or "The file could not be read.", className="vs-alert vs-alert-error", role="alert"))
+    else:
+        r = rec.report or {}
+        body.append(text_table(_summary_rows(r), class_name="vs-table vs-kv"))
+        cols, rows = _frame_rows(r.get("by_reason"))
+        if rows:
+            body.append(html.H4("Cells not used, by reason"))
+            body.append(text_table(rows, cols))
+        cols, rows = _frame_rows(r.get("examples"))
+        if rows:
+            body.append(html.Details([html.Summary(f"Where (first examples, {len(rows)} shown)"),
+                                      text_table(rows, cols)]))
+        notes = _tuple(r.get("notes"))
+        if notes:
+            body.append(html.Ul([html.Li(str(n)) for n in notes], className="vs-notes-list"))
+    body.append(_controls(rec))
+    return html.Div(className="vs-card vs-dataset" + ("" if rec.ok else " vs-dataset-failed"),
+                    id=f"card-{rec.id}", children=[head, *body])
+
+
+def options_from_controls(base: Any, kind: Any, layout: Any, header: Any, dates: Any, decimal: Any,
+                          idclean: Any, idregex: Any, exclude: Any) -> Any:
+    """New ReadOptions from the card's controls (ConfigError names a bad choice)."""
+    from dataclasses import replace
+
+    cols = tuple(c.strip() for c in str(exclude or "").split(",") if c.strip())
+    return replace(
+        base,
+        kind=kind or None,
+        layout=layout or "auto",
+        header_row=int(header) if header not in (None, "") else None,
+        date_order=dates or "auto",
+        decimal=decimal or "auto",
+        id_cleanup=idclean or "none",
+        id_regex=(idregex or None) if (idclean == "regex") else None,
+        exclude_columns=cols,
+    )

@@ -1,0 +1,118 @@
+"""Charts of the backtest: growth of 1, drawdowns and per-cohort outcomes (pure functions)."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import plotly.graph_objects as go
+
+from app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, message_figure, span
+from app.figures.theme import CHEAP, SERIES
+from core.study import StudyResult
+
+__all__ = ["PORTFOLIO_LABELS", "growth_figure", "drawdown_figure", "cohort_figure", "stats_text"]
+
+PORTFOLIO_LABELS = {
+    "cheapest": "cheapest quantile",
+    "long_short": "cheapest minus dearest",
+    "universe": "universe, equal weight",
+    "benchmark": "benchmark",
+}
+
+
+def _label(col: str) -> str:
+    return PORTFOLIO_LABELS.get(col, col)
+
+
+def stats_text(result: StudyResult, col: str) -> str:
+    """One portfolio's statistics in a short line (annual return, Sharpe with its rough t, worst drawdown)."""
+    st = result.backtest.stats
+    if col not in st.index:
+        return ""
+    r = st.loc[col]
+    n = float(r.get("n_months", np.nan))
+    sharpe = float(r.get("sharpe", np.nan))
+    # t of the mean monthly excess return = Sharpe (annual) x sqrt(years): common practice approximation.
+    t = sharpe * np.sqrt(n / 12.0) if np.isfinite(n) and n > 0 and np.isfinite(sharpe) else np.nan
+    return (f"{_label(col)}: {fmt_pct(r.get('ann_return'), 1)} a year, Sharpe {fmt_num(sharpe, 2)} "
+            f"(t ~ {fmt_num(t, 2)}), worst drawdown {fmt_pct(r.get('max_drawdown'), 0)}")
+
+
+def _months(result: StudyResult) -> pd.DatetimeIndex:
+    g = result.backtest.returns
+    col = "cheapest" if "cheapest" in g.columns else g.columns[0]
+    return finite_dates(g[col])
+
+
+def growth_figure(result: StudyResult) -> go.Figure:
+    """Growth of 1 for each backtest portfolio (log scale), costs deducted."""
+    bt = result.backtest
+    title = f"Growth of 1, quantile portfolios held {bt.holding_months} month(s)"
+    dates = _months(result)
+    if bt.growth.empty or len(dates) == 0:
+        return message_figure(title, "The backtest has no month with returns.")
+    cost = result.config.transaction_cost_bps
+    subtitle = (f"Sample {span(dates)}, {len(dates)} months; costs {fmt_num(cost, 0)} bp per unit traded<br>"
+                + stats_text(result, "cheapest") + "; " + stats_text(result, "long_short"))
+    fig = base_figure(title, subtitle, height=480)
+    for col in bt.growth.columns:
+        s = bt.growth[col]
+        if not np.isfinite(s.to_numpy(dtype=float)).any():
+            continue
+        fig.add_trace(go.Scatter(x=s.index, y=s.to_numpy(dtype=float), mode="lines", name=_label(str(col)),
+                                 line=dict(color=SERIES.get(str(col)), width=3 if col == "cheapest" else 2.2)))
+    fig.update_yaxes(type="log", title_text="growth of 1 (log scale)")
+    fig.update_layout(margin=dict(t=118))
+    return fig
+
+
+def drawdown_figure(result: StudyResult) -> go.Figure:
+    """Fall from the running peak of each portfolio."""
+    bt = result.backtest
+    title = "Drawdown from the running peak"
+    dates = _months(result)
+    if bt.drawdown.empty or len(dates) == 0:
+        return message_figure(title, "The backtest has no month with returns.")
+    st = bt.stats
+    worst = ", ".join(f"{_label(str(c))} {fmt_pct(st.loc[c, 'max_drawdown'], 0)}" for c in st.index
+                      if "max_drawdown" in st.columns)
+    fig = base_figure(title, f"Sample {span(dates)}, {len(dates)} months; worst: {worst}", height=380)
+    for col in bt.drawdown.columns:
+        s = bt.drawdown[col]
+        if not np.isfinite(s.to_numpy(dtype=float)).any():
+            continue
+        fig.add_trace(go.Scatter(x=s.index, y=s.to_numpy(dtype=float), mode="lines", name=_label(str(col)),
+                                 line=dict(color=SERIES.get(str(col)), width=2)))
+    fig.update_yaxes(title_text="below peak", tickformat=".0%")
+    return fig
+
+
+def cohort_figure(result: StudyResult) -> go.Figure:
+    """Each cohort's return over its holding period relative to the comparison."""
+    bt = result.backtest
+    c = bt.cohorts
+    title = f"Each cohort of the cheapest quantile against the {bt.comparison}"
+    if c is None or c.empty or "excess" not in c.columns:
+        return message_figure(title, "No cohort completed its holding period.")
+    ex = pd.to_numeric(c["excess"], errors="coerce")
+    ok = np.isfinite(ex.to_numpy(dtype=float))
+    ex = ex[ok]
+    if ex.empty:
+        return message_figure(title, "No cohort completed its holding period.")
+    n = int(ex.size)
+    beat = int((ex > 0).sum())
+    mean = float(ex.mean())
+    sd = float(ex.std(ddof=1)) if n > 1 else np.nan
+    # Overlapping cohorts are not independent; the naive t is stated as an upper bound (common practice caveat).
+    t = mean / (sd / np.sqrt(n)) if n > 1 and sd > 0 else np.nan
+    subtitle = (f"{n} cohorts formed {span(ex.index)}, each held {bt.holding_months} month(s); "
+                f"{beat} of {n} ({fmt_pct(bt.cohort_share_beat, 0)}) beat it; mean excess {fmt_pct(mean)}, "
+                f"naive t = {fmt_num(t, 2)} (overlap makes it optimistic)")
+    fig = base_figure(title, subtitle, height=380)
+    v = ex.to_numpy(dtype=float)
+    fig.add_trace(go.Bar(x=ex.index, y=v, marker_color=[CHEAP if x > 0 else SERIES["dearest"] for x in v],
+                         name="excess over the holding period",
+                         hovertemplate="formed %{x|%b %Y}: %{y:.2%}<extra></extra>"))
+    fig.update_yaxes(title_text=f"excess over the {bt.comparison}", tickformat=".0%")
+    fig.update_layout(showlegend=False)
+    return fig

@@ -1,0 +1,276 @@
+"""Charts of one study's evaluation: ICs, quantiles, spread, scatter, Fama-MacBeth.
+
+Every function is pure: a :class:`core.study.StudyResult` (plus a choice such
+as the horizon) in, a plotly figure out.  Each title or subtitle states the
+sample (dates and names) and the t-statistics, so a chart of noise is never
+read as evidence.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import plotly.graph_objects as go
+
+from app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, fmt_t, message_figure, month, span
+from app.figures.theme import CHEAP, MUTED, SERIES, diverging
+from core.study import StudyResult
+
+__all__ = [
+    "signal_label",
+    "return_label",
+    "ic_by_horizon_figure",
+    "ic_over_time_figure",
+    "quantile_returns_figure",
+    "spread_over_time_figure",
+    "scatter_figure",
+    "fm_slopes_figure",
+]
+
+_SIGNAL_LABELS = {
+    "earnings_yield": "earnings yield",
+    "dividend_yield": "dividend yield",
+    "composite": "composite of yields",
+}
+
+
+def signal_label(result: StudyResult) -> str:
+    """The evaluated signal in words (with 'within sector' when sector-neutral)."""
+    name = _SIGNAL_LABELS.get(result.signal_name, result.signal_name)
+    return f"{name}, within sector" if result.config.sector_neutral else name
+
+
+def return_label(result: StudyResult, horizon: int) -> str:
+    """How the forward return is measured (total return, excess or not)."""
+    kind = {"none": "total return", "universe": "return over the universe mean",
+            "benchmark": "return over the benchmark"}[result.config.excess_over]
+    return f"{horizon}-month forward {kind}"
+
+
+def _ic_row(result: StudyResult, horizon: int) -> pd.Series:
+    return result.ic_summary.loc[horizon]
+
+
+def ic_by_horizon_figure(result: StudyResult) -> go.Figure:
+    """Mean rank IC per horizon with its 95 % Newey-West interval; t and sample on each bar."""
+    s = result.ic_summary
+    title = f"Rank IC by horizon: {signal_label(result)}"
+    if s.empty or not np.isfinite(s["mean_ic"].to_numpy(dtype=float)).any():
+        return message_figure(title, "No horizon has enough dates for an information coefficient.")
+    hs = [int(h) for h in s.index]
+    labels = [f"{h} m" for h in hs]
+    mean = s["mean_ic"].to_numpy(dtype=float)
+    lo = s["ci_low"].to_numpy(dtype=float)
+    hi = s["ci_high"].to_numpy(dtype=float)
+    used = [finite_dates(result.rank_ic[h]) for h in hs]
+    all_dates = pd.DatetimeIndex(sorted(set().union(*[set(u) for u in used])))
+    subtitle = (f"Sample {span(all_dates)}; bars: mean of monthly rank ICs, whiskers: 95% Newey-West "
+                f"interval; t and dates (n) above each bar")
+    fig = base_figure(title, subtitle)
+    colors = [CHEAP if m >= 0 else SERIES["dearest"] for m in mean]
+    fig.add_trace(go.Bar(
+        x=labels, y=mean, marker_color=colors, name="mean rank IC",
+        error_y=dict(type="data", symmetric=False, array=np.nan_to_num(hi - mean),
+                     arrayminus=np.nan_to_num(mean - lo), color=MUTED, thickness=1.6, width=8),
+        hovertemplate="%{x}: mean IC %{y:.3f}<extra></extra>",
+    ))
+    top = np.nanmax(np.concatenate([hi, mean, [0.0]]))
+    bottom = np.nanmin(np.concatenate([lo, mean, [0.0]]))
+    pad = 0.12 * max(top - bottom, 1e-3)
+    for lab, h, up in zip(labels, hs, hi):
+        row = _ic_row(result, h)
+        fig.add_annotation(
+            x=lab, y=(up if np.isfinite(up) else 0.0) + 0.3 * pad, yanchor="bottom", showarrow=False,
+            text=f"t = {fmt_t(row['t_hac'])}<br>n = {int(row['n_dates'])}, {fmt_num(row['mean_breadth'], 0)} names",
+            font=dict(size=13),
+        )
+    fig.update_yaxes(title_text="rank IC", range=[bottom - pad, top + 2.2 * pad], zeroline=True)
+    fig.update_xaxes(title_text="horizon")
+    fig.update_layout(showlegend=False)
+    return fig
+
+
+def ic_over_time_figure(result: StudyResult, horizon: int) -> go.Figure:
+    """Monthly rank IC for one horizon with 12- and 36-date rolling means."""
+    title = f"Rank IC over time, {horizon}-month horizon"
+    ic = result.rank_ic[horizon]
+    dates = finite_dates(ic)
+    if len(dates) == 0:
+        return message_figure(title, f"No date has an IC at the {horizon}-month horizon.")
+    row = _ic_row(result, horizon)
+    subtitle = (f"Sample {span(dates)}, {len(dates)} dates, mean {fmt_num(row['mean_breadth'], 0)} names; "
+                f"mean IC {fmt_num(row['mean_ic'])}, Newey-West t = {fmt_t(row['t_hac'])} "
+                f"({int(row['hac_lags'])} lags); share above 0: {fmt_pct(row['hit_share'], 0)}")
+    fig = base_figure(title, subtitle)
+    fig.add_trace(go.Bar(x=ic.index, y=ic.to_numpy(dtype=float), name="monthly rank IC",
+                         marker_color="#9fb9d6", hovertemplate="%{x|%b %Y}: %{y:.3f}<extra></extra>"))
+    for (h, w), col in result.rolling_ic.items():
+        if int(h) != int(horizon):
+            continue
+        colour = SERIES["rolling_short"] if int(w) <= 12 else SERIES["rolling_long"]
+        fig.add_trace(go.Scatter(x=col.index, y=col.to_numpy(dtype=float), mode="lines",
+                                 name=f"rolling mean, {int(w)} dates", line=dict(color=colour, width=2.6)))
+    fig.add_hline(y=float(row["mean_ic"]), line=dict(color=MUTED, dash="dot", width=1.5))
+    fig.update_yaxes(title_text="rank IC")
+    return fig
+
+
+def quantile_returns_figure(result: StudyResult, horizon: int, *, annualised: bool = False) -> go.Figure:
+    """Mean forward return by quantile, dearest (1) to cheapest (n), with the spread's t."""
+    table = result.quantile_mean_annualised if annualised else result.quantile_mean
+    title = f"Mean {horizon}-month forward return by quantile"
+    if horizon not in table.index or not np.isfinite(table.loc[horizon].to_numpy(dtype=float)).any():
+        return message_figure(title, "No date has returns for every quantile at this horizon.")
+    vals = table.loc[horizon].to_numpy(dtype=float)
+    qs = [int(q) for q in table.columns]
+    n = len(qs)
+    names = [f"{q}<br>{'dearest' if q == 1 else 'cheapest' if q == n else ''}" for q in qs]
+    ss = result.spread_summary.loc[horizon]
+    dates = finite_dates(result.spread[horizon])
+    counts = result.quantile_counts.reindex(dates)
+    per_q = fmt_num(counts.mean().mean(), 0) if len(counts) else "n/a"
+    subtitle = (f"Sample {span(dates)}, {int(ss['n_dates'])} dates, about {per_q} names per quantile; "
+                f"cheapest minus dearest {fmt_pct(ss['mean'])} per {horizon} m, Newey-West t = {fmt_t(ss['t_hac'])}; "
+                f"monotonicity {fmt_num(ss['monotonicity'], 2)}")
+    fig = base_figure(title + (" (annualised)" if annualised else ""), subtitle)
+    fig.add_trace(go.Bar(x=names, y=vals, marker_color=diverging(n), name="mean return",
+                         text=[fmt_pct(v, 1) for v in vals], textposition="outside",
+                         hovertemplate="quantile %{x}: %{y:.2%}<extra></extra>"))
+    fig.update_yaxes(title_text=return_label(result, horizon), tickformat=".1%")
+    fig.update_xaxes(title_text="quantile of the signal (1 = dearest)")
+    fig.update_layout(showlegend=False, uniformtext=dict(minsize=13, mode="show"))
+    return fig
+
+
+def spread_over_time_figure(result: StudyResult, horizon: int) -> go.Figure:
+    """Cheapest-minus-dearest forward return per formation date, with a 12-date rolling mean."""
+    title = f"Cheapest minus dearest quantile, {horizon}-month forward return"
+    s = result.spread[horizon]
+    dates = finite_dates(s)
+    if len(dates) == 0:
+        return message_figure(title, "No date has both the cheapest and the dearest quantile filled.")
+    ss = result.spread_summary.loc[horizon]
+    subtitle = (f"Sample {span(dates)}, {len(dates)} formation dates; mean {fmt_pct(ss['mean'])}, "
+                f"Newey-West t = {fmt_t(ss['t_hac'])} ({int(ss['hac_lags'])} lags), "
+                f"annualised {fmt_pct(ss['mean_annualised'], 1)}")
+    fig = base_figure(title, subtitle)
+    v = s.to_numpy(dtype=float)
+    fig.add_trace(go.Bar(x=s.index, y=v, name="spread at each date",
+                         marker_color=[CHEAP if x >= 0 else SERIES["dearest"] for x in np.nan_to_num(v)],
+                         hovertemplate="%{x|%b %Y}: %{y:.2%}<extra></extra>"))
+    roll = s.rolling(12, min_periods=6).mean()
+    fig.add_trace(go.Scatter(x=roll.index, y=roll.to_numpy(dtype=float), mode="lines",
+                             name="rolling mean, 12 dates", line=dict(color=SERIES["rolling_long"], width=2.6)))
+    fig.update_yaxes(title_text="cheapest minus dearest", tickformat=".0%")
+    return fig
+
+
+def _ols(x: np.ndarray, y: np.ndarray) -> tuple[float, float, float]:
+    """Intercept, slope and the slope's classical t-statistic of y on x."""
+    xm, ym = x.mean(), y.mean()
+    sxx = float(((x - xm) ** 2).sum())
+    if x.size < 3 or sxx <= 0:
+        return float("nan"), float("nan"), float("nan")
+    b = float(((x - xm) * (y - ym)).sum() / sxx)
+    a = float(ym - b * xm)
+    resid = y - a - b * x
+    s2 = float((resid ** 2).sum() / (x.size - 2))
+    se = np.sqrt(s2 / sxx) if s2 > 0 else float("nan")
+    return a, b, (b / se if np.isfinite(se) and se > 0 else float("nan"))
+
+
+def scatter_figure(result: StudyResult, horizon: int, date: object | None = None, *, bins: int = 20) -> go.Figure:
+    """Signal z-score against forward return on one date, or pooled over all dates in bins.
+
+    The fitted least-squares line is drawn; the IC (and its t) is written on the chart.
+    """
+    fwd = result.forward_returns[horizon]
+    z = result.signal_z.reindex(index=fwd.index, columns=fwd.columns)
+    if date is not None:
+        d = pd.Timestamp(date)  # type: ignore[arg-type]
+        title = f"Signal against {horizon}-month forward return on {month(d)}"
+        if d not in z.index:
+            return message_figure(title, f"{month(d)} is not a date of this study.")
+        x, y = z.loc[d].to_numpy(dtype=float), fwd.loc[d].to_numpy(dtype=float)
+        ok = np.isfinite(x) & np.isfinite(y)
+        names = np.asarray(z.columns.astype(str))[ok]
+        x, y = x[ok], y[ok]
+        if x.size < 3:
+            return message_figure(title, f"Only {x.size} names have both a signal and a forward return on {month(d)}.")
+        a, b, t = _ols(x, y)
+        ic = result.rank_ic.loc[d, horizon] if d in result.rank_ic.index else np.nan
+        subtitle = (f"{x.size} names on one date; rank IC {fmt_num(ic)}; fitted slope "
+                    f"{fmt_pct(b)} per z, OLS t = {fmt_t(t)} (one cross-section)")
+        fig = base_figure(title, subtitle)
+        fig.add_trace(go.Scatter(x=x, y=y, mode="markers", name="names", text=names,
+                                 marker=dict(color=CHEAP, size=9, opacity=0.7, line=dict(width=0.5, color="white")),
+                                 hovertemplate="%{text}: z %{x:.2f}, return %{y:.2%}<extra></extra>"))
+        label = f"rank IC = {fmt_num(ic)}<br>slope t = {fmt_t(t)}"
+    else:
+        title = f"Signal against {horizon}-month forward return, all dates pooled"
+        x, y = z.to_numpy(dtype=float).ravel(), fwd.to_numpy(dtype=float).ravel()
+        ok = np.isfinite(x) & np.isfinite(y)
+        x, y = x[ok], y[ok]
+        if x.size < 3 * bins:
+            return message_figure(title, f"Only {x.size} signal/return pairs over all dates.")
+        a, b, _ = _ols(x, y)
+        edges = np.unique(np.quantile(x, np.linspace(0, 1, bins + 1)))
+        which = np.clip(np.searchsorted(edges, x, side="right") - 1, 0, len(edges) - 2)
+        cnt = np.bincount(which, minlength=len(edges) - 1)
+        keep = cnt > 0
+        bx = np.bincount(which, weights=x, minlength=len(edges) - 1)[keep] / cnt[keep]
+        by = np.bincount(which, weights=y, minlength=len(edges) - 1)[keep] / cnt[keep]
+        row = _ic_row(result, horizon)
+        n_dates = int(finite_dates(result.rank_ic[horizon]).size)
+        subtitle = (f"{x.size:,} pairs over {n_dates} dates in {int(keep.sum())} equal-count bins; "
+                    f"mean rank IC {fmt_num(row['mean_ic'])}, Newey-West t = {fmt_t(row['t_hac'])}")
+        fig = base_figure(title, subtitle)
+        fig.add_trace(go.Scatter(x=bx, y=by, mode="markers", name="bin mean",
+                                 marker=dict(color=CHEAP, size=12, line=dict(width=1, color="white")),
+                                 customdata=cnt[keep],
+                                 hovertemplate="z %{x:.2f}: mean return %{y:.2%} (%{customdata} pairs)<extra></extra>"))
+        x = bx
+        label = f"mean rank IC = {fmt_num(row['mean_ic'])}<br>Newey-West t = {fmt_t(row['t_hac'])}"
+    if np.isfinite(b):
+        xs = np.array([np.min(x), np.max(x)])
+        fig.add_trace(go.Scatter(x=xs, y=a + b * xs, mode="lines", name="least-squares line",
+                                 line=dict(color=SERIES["fit"], width=3)))
+    fig.add_annotation(text=label, x=0.02, y=0.98, xref="paper", yref="paper", xanchor="left", yanchor="top",
+                       showarrow=False, align="left", bgcolor="rgba(255,255,255,0.85)", bordercolor="#cfc9bf",
+                       borderwidth=1, font=dict(size=15))
+    fig.update_xaxes(title_text=f"z-score of {signal_label(result)} (higher = cheaper)")
+    fig.update_yaxes(title_text=return_label(result, horizon), tickformat=".0%")
+    return fig
+
+
+def fm_slopes_figure(result: StudyResult) -> go.Figure:
+    """Mean Fama-MacBeth slope on the signal z-score per horizon, with Newey-West t."""
+    s = result.fm_summary
+    title = "Fama-MacBeth slope on the signal z-score"
+    if s.empty or not np.isfinite(s["mean_slope"].to_numpy(dtype=float)).any():
+        return message_figure(title, "No date has enough names for a cross-sectional regression.")
+    hs = [int(h) for h in s.index]
+    labels = [f"{h} m" for h in hs]
+    m = s["mean_slope"].to_numpy(dtype=float)
+    se = s["se_hac"].to_numpy(dtype=float)
+    dates = pd.DatetimeIndex(sorted(set().union(*[set(finite_dates(result.fm_slopes[h])) for h in hs])))
+    controls = [c for c, on in (("sector dummies", result.config.fm_sector_dummies),
+                                ("log market cap", result.config.fm_log_market_cap)) if on]
+    subtitle = (f"Sample {span(dates)}; return per unit of z per horizon, whiskers 95% Newey-West; "
+                f"controls: {', '.join(controls) if controls else 'none'}")
+    fig = base_figure(title, subtitle)
+    fig.add_trace(go.Bar(x=labels, y=m, marker_color=[CHEAP if v >= 0 else SERIES["dearest"] for v in np.nan_to_num(m)],
+                         error_y=dict(type="data", array=np.nan_to_num(1.96 * se), color=MUTED, thickness=1.6, width=8),
+                         hovertemplate="%{x}: %{y:.3%}<extra></extra>", name="mean slope"))
+    hi = np.nan_to_num(m + 1.96 * se)
+    lo = np.nan_to_num(m - 1.96 * se)
+    pad = 0.12 * max(float(np.max(np.r_[hi, 0.0]) - np.min(np.r_[lo, 0.0])), 1e-4)
+    for lab, h, up in zip(labels, hs, hi):
+        row = s.loc[h]
+        fig.add_annotation(x=lab, y=float(up) + 0.3 * pad, yanchor="bottom", showarrow=False,
+                           text=f"t = {fmt_t(row['t_hac'])}<br>n = {int(row['n_dates'])}", font=dict(size=13))
+    fig.update_yaxes(title_text="slope (return per z)", tickformat=".2%",
+                     range=[float(np.min(np.r_[lo, 0.0])) - pad, float(np.max(np.r_[hi, 0.0])) + 2.2 * pad])
+    fig.update_xaxes(title_text="horizon")
+    fig.update_layout(showlegend=False)
+    return fig

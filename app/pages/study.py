@@ -1,0 +1,206 @@
+"""Study page: choose the universe, signal and method; see every chart of the evaluation."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import dash
+from dash import Input, Output, State, dcc, html, no_update
+
+from app.components.common import chart, field, panel_choices
+from app.figures import backtest as fb
+from app.figures import study as fs
+from app.figures._common import message_figure, month
+from app.jobs_ui import job_components, register_job_callbacks
+from app.services import normalise_selection, state
+from app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES
+
+dash.register_page(__name__, path="/study", name="Study", order=1, title="ValueSift - Study")
+
+P = "study"
+_D = DEFAULT_SETTINGS
+_SIGNALS = [{"label": "Earnings yield (EPS / price)", "value": "earnings_yield"},
+            {"label": "Dividend yield (trailing 12 months)", "value": "dividend_yield"},
+            {"label": "Composite of both yields", "value": "composite"}]
+_PERSIST = dict(persistence=True, persistence_type="local")
+_CHARTS = ["ic-horizon", "ic-time", "quantiles", "spread", "fm", "growth", "drawdown", "cohorts"]
+
+
+def _controls() -> html.Fieldset:
+    return html.Fieldset(id=f"{P}-controls", className="vs-controls", children=[
+        html.Legend("Study settings"),
+        field("Signal", dcc.Dropdown(id=f"{P}-signal", options=_SIGNALS, value=_D["signal"], clearable=False, **_PERSIST)),
+        field("Universe", dcc.RadioItems(id=f"{P}-universe", value=_D["universe"], options=[
+            {"label": "All securities", "value": "all"}, {"label": "Chosen sectors", "value": "sectors"},
+            {"label": "The holdings", "value": "holdings"}], **_PERSIST)),
+        field("Sectors", dcc.Dropdown(id=f"{P}-sectors", multi=True, value=[], placeholder="pick one or more", **_PERSIST)),
+        field("Minimum history (months)", dcc.Input(id=f"{P}-min-history", type="number", min=0, max=240, step=1,
+                                                    value=_D["min_history_months"], debounce=True, **_PERSIST)),
+        field("Horizons (months)", dcc.Checklist(id=f"{P}-horizons", value=_D["horizons"], inline=True,
+                                                 options=[{"label": str(h), "value": h} for h in HORIZON_CHOICES],
+                                                 **_PERSIST), "all chosen horizons are computed in one study"),
+        field("Quantiles", dcc.Dropdown(id=f"{P}-quantiles", value=_D["n_quantiles"], clearable=False,
+                                        options=[{"label": str(q), "value": q} for q in range(2, 11)], **_PERSIST)),
+        field("Outliers", dcc.Dropdown(id=f"{P}-outliers", value=_D["outlier_rule"], clearable=False, options=[
+            {"label": "Winsorise at percentiles", "value": "winsorise"},
+            {"label": "Clip beyond 3 robust z", "value": "clip_robust_z"},
+            {"label": "Leave as they are", "value": "none"}], **_PERSIST)),
+        field("Winsorise: lower percentile", dcc.Input(id=f"{P}-winsor", type="number", min=0, max=49, step=0.5,
+                                                       value=_D["winsor_lower"], debounce=True, **_PERSIST),
+              "the upper one mirrors it (1 means 1st and 99th)"),
+        field("Z-score", dcc.RadioItems(id=f"{P}-zscore", value=_D["zscore_method"], options=[
+            {"label": "mean and standard deviation", "value": "mean_std"},
+            {"label": "median and MAD (robust)", "value": "median_mad"}], **_PERSIST)),
+        field("Sector neutral", dcc.Checklist(id=f"{P}-neutral", value=[], options=[
+            {"label": "compare each name with its own sector", "value": "on"}], **_PERSIST)),
+        field("Reporting lag (months)", dcc.Input(id=f"{P}-lag", type="number", min=0, max=24, step=1,
+                                                  value=_D["reporting_lag_months"], debounce=True, **_PERSIST),
+              "delay before an EPS figure is treated as known"),
+        field("Dividends", dcc.RadioItems(id=f"{P}-dividends", value=_D["dividend_treatment"], options=[
+            {"label": "reinvested", "value": "reinvest"}, {"label": "kept as cash", "value": "uninvested"}], **_PERSIST)),
+        field("Returns measured", dcc.RadioItems(id=f"{P}-excess", value=_D["excess_over"], options=[
+            {"label": "as total returns", "value": "none"}, {"label": "over the universe mean", "value": "universe"},
+            {"label": "over the benchmark", "value": "benchmark"}], **_PERSIST)),
+        field("Backtest holding (months)", dcc.Input(id=f"{P}-holding", type="number", min=1, max=60, step=1,
+                                                     value=_D["holding_months"], debounce=True, **_PERSIST)),
+        field("Trading cost (basis points)", dcc.Input(id=f"{P}-cost", type="number", min=0, max=1000, step=1,
+                                                       value=_D["transaction_cost_bps"], debounce=True, **_PERSIST)),
+    ])
+
+
+def layout(**_: Any) -> html.Div:
+    return html.Div(className="vs-page vs-two-col", children=[
+        html.Aside(_controls(), className="vs-sidebar"),
+        html.Section(className="vs-content", children=[
+            html.H1("Study"),
+            *job_components(P),
+            html.Div(id=f"{P}-summary", className="vs-summary"),
+            html.Div(className="vs-row", children=[
+                field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[], value=None,
+                                                      className="vs-horizon-pick")),
+            ]),
+            html.Div(className="vs-grid", children=[chart(f"{P}-ic-horizon"), chart(f"{P}-ic-time")]),
+            html.Div(className="vs-grid", children=[chart(f"{P}-quantiles"), chart(f"{P}-spread")]),
+            html.Div(className="vs-grid", children=[
+                html.Div(className="vs-card", children=[
+                    field("Scatter date", dcc.Dropdown(id=f"{P}-scatter-date", clearable=False, value="pooled",
+                                                       options=[{"label": "all dates pooled (binned)", "value": "pooled"}])),
+                    dcc.Loading(dcc.Graph(id=f"{P}-scatter", config={"displaylogo": False}), type="dot", delay_show=300),
+                ]),
+                chart(f"{P}-fm"),
+            ]),
+            chart(f"{P}-growth", tall=True),
+            html.Div(className="vs-grid", children=[chart(f"{P}-drawdown"), chart(f"{P}-cohorts")]),
+            html.Div(id=f"{P}-notes", className="vs-notes"),
+        ]),
+    ])
+
+
+register_job_callbacks(P, controls_id=f"{P}-controls")
+
+
+@dash.callback(
+    Output("vs-settings", "data"),
+    Input(f"{P}-signal", "value"), Input(f"{P}-universe", "value"), Input(f"{P}-sectors", "value"),
+    Input(f"{P}-min-history", "value"), Input(f"{P}-horizons", "value"), Input(f"{P}-quantiles", "value"),
+    Input(f"{P}-outliers", "value"), Input(f"{P}-winsor", "value"), Input(f"{P}-zscore", "value"),
+    Input(f"{P}-neutral", "value"), Input(f"{P}-lag", "value"), Input(f"{P}-dividends", "value"),
+    Input(f"{P}-excess", "value"), Input(f"{P}-holding", "value"), Input(f"{P}-cost", "value"),
+    State("vs-settings", "data"),
+)
+def _settings(signal: Any, universe: Any, sectors: Any, min_hist: Any, horizons: Any, n_q: Any, outliers: Any,
+              winsor: Any, zscore: Any, neutral: Any, lag: Any, dividends: Any, excess: Any, holding: Any,
+              cost: Any, old: Any) -> Any:
+    new = {
+        "signal": signal, "universe": universe, "universe_sectors": list(sectors or []),
+        "min_history_months": min_hist, "horizons": sorted(horizons or []), "n_quantiles": n_q,
+        "outlier_rule": outliers, "winsor_lower": winsor, "zscore_method": zscore,
+        "sector_neutral": bool(neutral), "reporting_lag_months": lag, "dividend_treatment": dividends,
+        "excess_over": excess, "holding_months": holding, "transaction_cost_bps": cost,
+    }
+    return no_update if new == old else new
+
+
+@dash.callback(
+    Output(f"{P}-sectors", "options"), Output(f"{P}-signal", "options"),
+    Input("vs-selection", "data"),
+)
+def _choices(sel: Any) -> Any:
+    st = state()
+    try:
+        ch = panel_choices(st.panel(normalise_selection(sel))) if st.usable_ids(normalise_selection(sel)) else None
+    except Exception:  # the Data page shows why a panel cannot be built
+        ch = None
+    if ch is None:
+        return [], _SIGNALS
+    signals = _SIGNALS + [{"label": f"Your signal: {n}", "value": n} for n in ch["signals"]]
+    return [{"label": s, "value": s} for s in ch["sectors"]], signals
+
+
+@dash.callback(
+    Output(f"{P}-horizon", "options"), Output(f"{P}-horizon", "value"),
+    Output(f"{P}-scatter-date", "options"),
+    Input(f"{P}-job", "data"), State(f"{P}-horizon", "value"),
+)
+def _horizons(job: Any, current: Any) -> Any:
+    res = state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    if res is None:
+        return no_update, no_update, no_update
+    hs = list(res.config.horizons)
+    value = current if current in hs else (12 if 12 in hs else hs[0])
+    dates = [d for d in res.rank_ic.index[res.rank_ic.notna().any(axis=1)]]
+    opts = [{"label": "all dates pooled (binned)", "value": "pooled"}] + [
+        {"label": month(d), "value": d.date().isoformat()} for d in reversed(dates)]
+    return [{"label": f"{h} m", "value": h} for h in hs], value, opts
+
+
+@dash.callback(
+    *[Output(f"{P}-{c}", "figure") for c in _CHARTS],
+    Output(f"{P}-summary", "children"), Output(f"{P}-notes", "children"),
+    Input(f"{P}-job", "data"), Input(f"{P}-horizon", "value"),
+)
+def _figures(job: Any, horizon: Any) -> Any:
+    res = state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    if res is None:
+        if isinstance(job, dict) and job.get("status") == "running":
+            return (no_update,) * (len(_CHARTS) + 2)
+        empty = message_figure("", "No study to show yet.")
+        return (*([empty] * len(_CHARTS)), None, None)
+    h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]
+    figs = [fs.ic_by_horizon_figure(res), fs.ic_over_time_figure(res, h), fs.quantile_returns_figure(res, h),
+            fs.spread_over_time_figure(res, h), fs.fm_slopes_figure(res), fb.growth_figure(res),
+            fb.drawdown_figure(res), fb.cohort_figure(res)]
+    return (*figs, _summary(res, h), _notes(res))
+
+
+@dash.callback(
+    Output(f"{P}-scatter", "figure"),
+    Input(f"{P}-job", "data"), Input(f"{P}-horizon", "value"), Input(f"{P}-scatter-date", "value"),
+)
+def _scatter(job: Any, horizon: Any, date: Any) -> Any:
+    res = state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    if res is None:
+        return no_update
+    h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]
+    return fs.scatter_figure(res, h, None if date in (None, "pooled") else date)
+
+
+def _summary(res: Any, h: int) -> Any:
+    row = res.ic_summary.loc[h]
+    uni = res.universe.sum(axis=1)
+    uni = uni[uni > 0]
+    return html.P([
+        html.Strong(fs.signal_label(res)), f" over {len(uni)} month-ends ({month(uni.index.min())} to ",
+        f"{month(uni.index.max())}), {uni.mean():.0f} names on average. At {h} months the mean rank IC is ",
+        html.Strong(f"{row['mean_ic']:.3f}"), f" (Newey-West t = {row['t_hac']:.2f}, 95% interval ",
+        f"{row['ci_low']:.3f} to {row['ci_high']:.3f}, {int(row['n_dates'])} dates).",
+    ])
+
+
+def _notes(res: Any) -> Any:
+    items = [html.Li(n) for n in res.notes]
+    dn = res.date_notes
+    if dn is not None and len(dn):
+        for _, r in dn.groupby(["stage", "reason"], as_index=False)["count"].sum().iterrows():
+            items.append(html.Li(f"{r['stage']}: {r['reason']} ({int(r['count'])})"))
+    return [html.H3("Notes on this study"), html.Ul(items)] if items else None

@@ -1,0 +1,246 @@
+"""Server-side state of one dashboard: workspace, panels, memoised studies and study jobs.
+
+Callbacks reach it with :func:`state` (it hangs on the Flask app, so several
+apps in one process never share it).  The browser only ever holds a
+*selection* (dataset ids and confirmed splits) and small settings; panels
+and results stay here, keyed by content hashes.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import logging
+import threading
+import uuid
+from collections import OrderedDict
+from dataclasses import dataclass, field
+from typing import Any
+
+import flask
+from flask_caching import Cache
+
+from app.workspace import Workspace, options_to_dict
+from core.errors import ValueSiftError
+from core.intake import PanelOptions, build_panel
+from core.panel import Panel
+from core.study import StudyConfig, StudyResult, run_study
+
+__all__ = ["AppState", "StudyJob", "Selection", "state", "normalise_selection", "LRU"]
+
+log = logging.getLogger("valuesift.app")
+
+#: The selection as the browser holds it: dataset ids in use and confirmed splits.
+Selection = dict[str, list[str]]
+
+
+def normalise_selection(sel: Any) -> Selection:
+    """A clean selection dict from whatever the store held (None, partial, stale)."""
+    sel = sel if isinstance(sel, dict) else {}
+    ids = [str(i) for i in (sel.get("ids") or []) if isinstance(i, str)]
+    splits = sorted({str(s) for s in (sel.get("splits") or []) if isinstance(s, str)})
+    return {"ids": list(dict.fromkeys(ids)), "splits": splits}
+
+
+class LRU:
+    """A small thread-safe least-recently-used map (result objects in memory)."""
+
+    def __init__(self, maxsize: int) -> None:
+        self.maxsize = maxsize
+        self._d: OrderedDict[str, Any] = OrderedDict()
+        self._lock = threading.Lock()
+
+    def get(self, key: str) -> Any:
+        with self._lock:
+            if key not in self._d:
+                return None
+            self._d.move_to_end(key)
+            return self._d[key]
+
+    def put(self, key: str, value: Any) -> None:
+        with self._lock:
+            self._d[key] = value
+            self._d.move_to_end(key)
+            while len(self._d) > self.maxsize:
+                self._d.popitem(last=False)
+
+    def __contains__(self, key: str) -> bool:
+        with self._lock:
+            return key in self._d
+
+
+class _Cancelled(Exception):
+    pass
+
+
+@dataclass
+class StudyJob:
+    """One study running in a worker thread (progress polled by the page)."""
+
+    key: str
+    status: str = "queued"          # queued, running, done, failed, cancelled
+    stage: str = "waiting"
+    fraction: float = 0.0
+    error: str | None = None
+    cancel: threading.Event = field(default_factory=threading.Event)
+
+
+class AppState:
+    """Everything one dashboard keeps on the server."""
+
+    def __init__(self, workspace: Workspace, server: flask.Flask, *, demo: bool = False,
+                 max_upload_bytes: int = 200 * 1024 * 1024) -> None:
+        self.workspace = workspace
+        self.server = server
+        self.demo = demo
+        self.max_upload_bytes = max_upload_bytes
+        self.cache = Cache(server, config={
+            "CACHE_TYPE": "FileSystemCache",
+            "CACHE_DIR": str(workspace.cache_dir),
+            "CACHE_DEFAULT_TIMEOUT": 0,
+            "CACHE_THRESHOLD": 64,
+        })
+        self.results = LRU(8)
+        self.panels = LRU(4)
+        self.jobs: dict[str, StudyJob] = {}
+        self._jobs_lock = threading.Lock()
+        self._run_lock = threading.Semaphore(1)   # one study at a time on a small machine
+        self.instance = uuid.uuid4().hex[:8]
+
+    # -- selection -> panel ----------------------------------------------------------
+    def selection_fingerprint(self, sel: Selection) -> str:
+        """Hash of the datasets' content and options plus the confirmed splits."""
+        parts = []
+        for did in sorted(sel["ids"]):
+            try:
+                rec = self.workspace.get(did)
+            except KeyError:
+                continue
+            if rec.ok:
+                parts.append([rec.sha256, options_to_dict(rec.options)])
+        blob = json.dumps({"files": parts, "splits": sel["splits"]}, sort_keys=True, default=str)
+        return hashlib.sha256(blob.encode()).hexdigest()
+
+    def usable_ids(self, sel: Selection) -> list[str]:
+        out = []
+        for did in sel["ids"]:
+            try:
+                if self.workspace.get(did).ok:
+                    out.append(did)
+            except KeyError:
+                continue
+        return out
+
+    def panel(self, sel: Selection) -> Panel:
+        """The panel of a selection (memoised); IntakeError when it cannot be built."""
+        sel = normalise_selection(sel)
+        key = self.selection_fingerprint(sel)
+        hit = self.panels.get(key)
+        if hit is not None:
+            return hit
+        files = [self.workspace.parsed_file(i) for i in self.usable_ids(sel)]
+        panel = build_panel(files, PanelOptions(confirmed_splits=frozenset(sel["splits"])))
+        self.panels.put(key, panel)
+        return panel
+
+    # -- studies ------------------------------------------------------------------------
+    def study_key(self, sel: Selection, config: StudyConfig) -> str:
+        blob = json.dumps({"data": self.selection_fingerprint(normalise_selection(sel)),
+                           "config": config.to_dict()}, sort_keys=True, default=str)
+        return "study-" + hashlib.sha256(blob.encode()).hexdigest()[:32]
+
+    def result(self, key: str | None) -> StudyResult | None:
+        """A finished result from memory, else from the filesystem cache, else None."""
+        if not key:
+            return None
+        hit = self.results.get(key)
+        if hit is not None:
+            return hit
+        with self.server.app_context():
+            try:
+                hit = self.cache.get(key)
+            except Exception:  # a damaged cache file is only a cache miss
+                log.debug("cache read failed", exc_info=True)
+                hit = None
+        if isinstance(hit, StudyResult):
+            self.results.put(key, hit)
+            return hit
+        return None
+
+    def job(self, key: str | None) -> StudyJob | None:
+        with self._jobs_lock:
+            return self.jobs.get(key or "")
+
+    def start_study(self, sel: Selection, config: StudyConfig) -> StudyJob:
+        """Return a finished job at once when memoised; else start (or join) a worker thread."""
+        key = self.study_key(sel, config)
+        if self.result(key) is not None:
+            return StudyJob(key=key, status="done", stage="done", fraction=1.0)
+        with self._jobs_lock:
+            job = self.jobs.get(key)
+            if job is not None and job.status in ("queued", "running"):
+                return job
+            job = StudyJob(key=key)
+            self.jobs[key] = job
+        thread = threading.Thread(target=self._work, args=(job, normalise_selection(sel), config),
+                                  name=f"study-{key[-6:]}", daemon=True)
+        thread.start()
+        return job
+
+    def run_now(self, sel: Selection, config: StudyConfig) -> tuple[str, StudyResult]:
+        """Run (or fetch) a study in the calling thread; ValueSiftError when it cannot run."""
+        key = self.study_key(sel, config)
+        res = self.result(key)
+        if res is None:
+            res = run_study(self.panel(sel), config)
+            self._store(key, res)
+        return key, res
+
+    def _store(self, key: str, res: StudyResult) -> None:
+        self.results.put(key, res)
+        with self.server.app_context():
+            try:
+                self.cache.set(key, res)
+            except Exception:
+                log.warning("could not write the study cache", exc_info=True)
+
+    def _work(self, job: StudyJob, sel: Selection, config: StudyConfig) -> None:
+        def progress(stage: str, fraction: float) -> None:
+            if job.cancel.is_set():
+                raise _Cancelled()
+            job.stage, job.fraction = stage, float(fraction)
+
+        with self._run_lock:
+            if job.cancel.is_set():
+                job.status = "cancelled"
+                return
+            job.status, job.stage = "running", "reading the data"
+            try:
+                panel = self.panel(sel)
+                res = run_study(panel, config, progress=progress)
+            except _Cancelled:
+                job.status, job.stage = "cancelled", "cancelled"
+                return
+            except ValueSiftError as err:
+                job.status, job.error = "failed", str(err)
+                log.debug("study failed", exc_info=True)
+                return
+            except Exception as err:  # never a traceback in the page; the log keeps it
+                log.exception("study crashed")
+                job.status = "failed"
+                job.error = f"The study could not be computed ({type(err).__name__}). The log has the details."
+                return
+            self._store(job.key, res)
+            job.status, job.stage, job.fraction = "done", "done", 1.0
+
+    def cancel(self, key: str | None) -> None:
+        job = self.job(key)
+        if job is not None and job.status in ("queued", "running"):
+            job.cancel.set()
+
+
+def state() -> AppState:
+    """The AppState of the Flask app serving the current request."""
+    return flask.current_app.extensions["valuesift"]
+
+

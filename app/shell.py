@@ -1,0 +1,62 @@
+"""The page shell: header with navigation from ``dash.page_registry``, page container, footer."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import dash
+from dash import Input, Output, State, dcc, html
+
+from app.caution import CAUTION
+
+__all__ = ["layout", "register_shell_callbacks", "nav_links"]
+
+
+def nav_links() -> list[Any]:
+    """One link per registered page that asks to be in the navigation (in registry order)."""
+    links = []
+    for page in dash.page_registry.values():
+        if page.get("nav", True) is False:
+            continue
+        links.append(dcc.Link(page["name"], href=page["relative_path"], className="vs-nav-link",
+                              id=f"nav-{page['name'].lower()}"))
+    return links
+
+
+def layout() -> Any:
+    """The whole page around ``dash.page_container`` (called per request)."""
+    return html.Div(className="vs-root", children=[
+        dcc.Store(id="vs-selection", storage_type="local"),
+        dcc.Store(id="vs-settings", storage_type="local"),
+        dcc.Location(id="vs-url"),
+        html.Header(className="vs-header", children=[
+            dcc.Link("ValueSift", href="/study", className="vs-brand"),
+            html.Span("is a valuation signal rewarded in your universe?", className="vs-tagline"),
+            html.Nav(nav_links(), className="vs-nav"),
+        ]),
+        html.Main(dash.page_container, className="vs-main"),
+        html.Footer(className="vs-footer", children=[html.P(CAUTION, id="vs-caution")]),
+    ])
+
+
+def register_shell_callbacks(app: dash.Dash) -> None:
+    """Fill an empty or stale selection from the workspace's last selection."""
+
+    @app.callback(
+        Output("vs-selection", "data"),
+        Input("vs-url", "pathname"),
+        State("vs-selection", "data"),
+    )
+    def _boot(_path: str | None, sel: Any) -> Any:
+        from app.services import normalise_selection, state
+
+        st = state()
+        if isinstance(sel, dict) and sel.get("instance") == st.instance:
+            raise dash.exceptions.PreventUpdate
+        known = {r.id for r in st.workspace.records()}
+        current = normalise_selection(sel)
+        kept = [i for i in current["ids"] if i in known]
+        if sel is None or (current["ids"] and not kept):
+            current = normalise_selection(st.workspace.get_setting("selection", {}))
+            kept = [i for i in current["ids"] if i in known]
+        return {"ids": kept, "splits": current["splits"], "instance": st.instance}

@@ -1,0 +1,282 @@
+"""The steps of :func:`core.study.run_study` (private; the public entry point is ``core.study``).
+
+Each step works on (dates x securities) numpy arrays; pandas labels are put
+back at the end.  Nothing here reads files or mutates the panel.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any, Callable
+
+import numpy as np
+import pandas as pd
+
+from core.backtest import run_backtest
+from core.errors import ConfigError, InsufficientDataError
+from core.evaluate.famamacbeth import fm_slopes
+from core.evaluate.ic import ic_by_date, ic_summary, rolling_ic
+from core.evaluate.quantiles import assign_quantiles, monotonicity, quantile_means, quantile_turnover
+from core.panel import Panel, month_end_index
+from core.returns import excess_returns, forward_returns, level_forward_returns, monthly_returns, price_track
+from core.signals import (
+    NO_SECTOR,
+    RawSignal,
+    base_universe,
+    clean_values,
+    composite_zmean,
+    lagged_eps,
+    months_since_valid,
+    pe_ratio,
+    raw_signal,
+    sector_codes,
+    sector_zscore,
+    standardise,
+)
+from core.stats import annualise, hac_lags, mean_inference, row_mean
+
+if TYPE_CHECKING:  # pragma: no cover
+    from core.study import StudyConfig
+
+__all__ = ["compute_study"]
+
+Progress = Callable[[str, float], None]
+
+
+def _grid(panel: Panel, notes: list[str]) -> Panel:
+    """The panel on a complete, sorted month-end grid (a new panel; the input is untouched)."""
+    p = panel.prices
+    if not isinstance(p, pd.DataFrame) or p.shape[0] == 0 or p.shape[1] == 0:
+        raise InsufficientDataError("a study", "a price table with at least one date and one security",
+                                    "an empty price table", hint="Load a prices file with data.")
+    if not isinstance(p.index, pd.DatetimeIndex):
+        raise ConfigError("The panel's price index is not made of dates.",
+                          hint="Build the panel with intake, which puts prices on month-end dates.")
+    me = month_end_index(p.index)
+    if me.has_duplicates:
+        raise ConfigError("The panel's price table has two rows in the same month.",
+                          hint="Keep one month-end row per month (intake does this).")
+    full = pd.date_range(me.min(), me.max(), freq="ME").normalize()
+    full.name = "date"
+    if len(full) != len(me) or not (me == full).all():
+        if len(full) != len(me):
+            notes.append(f"The price table skipped {len(full) - len(me)} month-ends; they are treated as missing prices.")
+
+    def fix(f: pd.DataFrame | None) -> pd.DataFrame | None:
+        if f is None:
+            return None
+        g = f.copy()
+        g.index = month_end_index(g.index)
+        return g.reindex(index=full, columns=p.columns).astype(float)
+
+    bench = None
+    if panel.benchmark is not None:
+        b = panel.benchmark.copy()
+        b.index = month_end_index(b.index)
+        bench = b[~b.index.duplicated(keep="last")].reindex(full).astype(float)
+    prices = fix(p)
+    assert prices is not None
+    sigs = tuple(type(s)(s.name, fix(s.values), s.higher_is_cheaper) for s in panel.signals)  # type: ignore[arg-type]
+    return panel.with_(prices=prices, eps=fix(panel.eps), market_cap=fix(panel.market_cap), benchmark=bench,
+                       signals=sigs)
+
+
+def _signal(panel: Panel, cfg: "StudyConfig", u0: np.ndarray) -> RawSignal:
+    if cfg.signal != "composite":
+        return raw_signal(panel, cfg.signal, cfg.reporting_lag_months, cfg.eps_max_age_months)
+    parts = []
+    for name in cfg.composite_of:
+        rs = raw_signal(panel, name, cfg.reporting_lag_months, cfg.eps_max_age_months)
+        cl = clean_values(rs.values, u0, cfg.outlier_rule, cfg.winsor_percentiles, cfg.robust_z_limit)
+        parts.append(standardise(cl, rs.sign, cfg.zscore_method))
+    return RawSignal("composite", composite_zmean(parts), 1.0)
+
+
+def _note(rows: list[dict[str, Any]], dates: pd.DatetimeIndex, mask: np.ndarray, counts: np.ndarray,
+          horizon: int, stage: str, reason: str) -> None:
+    for i in np.flatnonzero(mask):
+        rows.append({"date": dates[i], "horizon": horizon, "stage": stage, "reason": reason, "count": int(counts[i])})
+
+
+def _frame(a: np.ndarray, dates: pd.DatetimeIndex, cols: pd.Index) -> pd.DataFrame:
+    return pd.DataFrame(a, index=dates, columns=cols)
+
+
+def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -> dict[str, Any]:
+    """Run every step; returns the fields of :class:`core.study.StudyResult`."""
+    def tick(stage: str, frac: float) -> None:
+        if progress is not None:
+            progress(stage, frac)
+
+    notes: list[str] = []
+    tick("preparing data", 0.0)
+    panel = _grid(panel, notes)
+    dates = pd.DatetimeIndex(panel.prices.index, name="date")
+    secs = pd.Index(panel.prices.columns, name="security")
+    t_len, n_sec = panel.shape
+    price = panel.prices.to_numpy(dtype=float, copy=True)
+    valid = panel.valid_price_mask()
+    if cfg.sector_neutral or cfg.fm_sector_dummies or cfg.backtest_within_sectors:
+        if panel.sectors is None:
+            raise ConfigError("A sector setting is on (sector_neutral, fm_sector_dummies or backtest_within_sectors) "
+                              "but the panel has no sector data.", hint="Load a sectors file or switch these off.")
+    if cfg.fm_log_market_cap and panel.market_cap is None:
+        raise ConfigError("Study setting 'fm_log_market_cap' is on but the panel has no market capitalisation.",
+                          hint="Load a market-cap file or switch it off.")
+    if (cfg.excess_over == "benchmark" or cfg.comparison == "benchmark") and panel.benchmark is None:
+        raise ConfigError("A benchmark setting is on (excess_over or comparison = 'benchmark') but the panel has "
+                          "no benchmark.", hint="Load a benchmark file or use 'universe'.")
+    hmax = max(cfg.horizons)
+    if hmax >= t_len:
+        raise InsufficientDataError(f"the {hmax}-month horizon", f"more than {hmax} month-ends of prices",
+                                    f"{t_len} month-ends", hint="Choose shorter horizons or load a longer history.")
+    u0 = base_universe(valid, secs, sectors=panel.sectors, holdings=panel.holdings, rule=cfg.universe,
+                       keep_sectors=cfg.universe_sectors, min_history=cfg.min_history_months)
+    if not u0.any():
+        raise InsufficientDataError("the universe", "at least one security with a valid price that passes the "
+                                    f"universe filter ({cfg.universe!r}, minimum history {cfg.min_history_months} "
+                                    "months)", "none", hint="Widen the universe filter or lower min_history_months.")
+    tick("signals", 0.1)
+    sig = _signal(panel, cfg, u0)
+    universe = u0 & np.isfinite(sig.values)
+    if not universe.any():
+        raise InsufficientDataError(f"the signal {cfg.signal!r}", "at least one universe name with a signal value",
+                                    "none", hint="Check the earnings/dividend/signal file covers the universe.")
+    cleaned = clean_values(sig.values, universe, cfg.outlier_rule, cfg.winsor_percentiles, cfg.robust_z_limit)
+    z = standardise(cleaned, sig.sign, cfg.zscore_method)
+    codes, sector_names = sector_codes(secs, panel.sectors)
+    zsec = None
+    if panel.sectors is not None:
+        zsec = sector_zscore(cleaned, sig.sign, codes, cfg.zscore_method, cfg.min_sector_size, cfg.small_sector_rule)
+    zeval = zsec if (cfg.sector_neutral and zsec is not None) else z
+    rows: list[dict[str, Any]] = []
+    n_u = universe.sum(axis=1)
+    _note(rows, dates, (n_u > 0) & ~np.isfinite(zeval).any(axis=1), n_u, 0, "signal",
+          "no z-score: fewer than two names or every name has the same signal")
+
+    tick("forward returns", 0.25)
+    div = panel.dividend_matrix().to_numpy(dtype=float) if panel.dividends is not None else np.zeros_like(price)
+    track = price_track(price, valid, div)
+    bench = panel.benchmark.to_numpy(dtype=float) if panel.benchmark is not None else None
+    fwd: dict[int, np.ndarray] = {}
+    delisted = {}
+    for h in cfg.horizons:
+        r, gone = forward_returns(track, valid, h, cfg.dividend_treatment, cfg.delisting_return)
+        r = np.where(universe, r, np.nan)
+        bf = level_forward_returns(bench, h) if bench is not None else None
+        fwd[h] = excess_returns(r, cfg.excess_over, bf)
+        delisted[h] = (gone & universe).sum(axis=1)
+
+    tick("information coefficients", 0.4)
+    hcols = pd.Index(list(cfg.horizons), name="horizon")
+    ric = np.full((t_len, len(hcols)), np.nan)
+    pic = np.full_like(ric, np.nan)
+    brd = np.zeros((t_len, len(hcols)), dtype=int)
+    for j, h in enumerate(cfg.horizons):
+        ric[:, j], pic[:, j], brd[:, j] = ic_by_date(zeval, fwd[h], cfg.min_breadth)
+        has_fwd = np.arange(t_len) < t_len - h
+        low = has_fwd & (brd[:, j] < cfg.min_breadth) & (n_u > 0)
+        _note(rows, dates, low, brd[:, j], h, "ic", f"fewer names than min_breadth ({cfg.min_breadth})")
+    rank_ic = pd.DataFrame(ric, index=dates, columns=hcols)
+    pearson_ic = pd.DataFrame(pic, index=dates, columns=hcols)
+    breadth = pd.DataFrame(brd, index=dates, columns=hcols)
+    summ = ic_summary(rank_ic, pearson_ic, breadth, cfg.hac_lag_rule)
+    if not np.isfinite(ric).any():
+        notes.append("No date reached the minimum breadth with a signal and a forward return: no IC is available.")
+
+    tick("quantiles", 0.55)
+    n_q = cfg.n_quantiles
+    tiebreak = np.argsort(np.argsort(np.asarray(secs.astype(str)), kind="stable"), kind="stable")
+    q = assign_quantiles(zeval, n_q, tiebreak=tiebreak)
+    n_z = np.isfinite(zeval).sum(axis=1)
+    if not np.isfinite(q).any():
+        raise InsufficientDataError(f"{n_q} quantiles", f"at least {n_q} names with a signal on some date",
+                                    f"at most {int(n_z.max())} names", hint="Lower n_quantiles or widen the universe.")
+    _note(rows, dates, (n_z > 0) & (n_z < n_q), n_z, 0, "quantiles",
+          f"fewer names than quantiles ({n_q}): left out of the quantile analysis and the backtest")
+    qcols = pd.Index(list(range(1, n_q + 1)), name="quantile")
+    qret: dict[int, pd.DataFrame] = {}
+    spread = np.full((t_len, len(hcols)), np.nan)
+    qmean = np.full((len(hcols), n_q), np.nan)
+    srows = []
+    for j, h in enumerate(cfg.horizons):
+        means, _ = quantile_means(q, fwd[h], n_q)
+        qret[h] = pd.DataFrame(means, index=dates, columns=qcols)
+        spread[:, j] = means[:, -1] - means[:, 0]
+        qmean[j] = row_mean(means.T)
+        s = spread[:, j][np.isfinite(spread[:, j])]
+        inf = mean_inference(s, hac_lags(h, int(s.size), cfg.hac_lag_rule))
+        srows.append({"horizon": h, "mean": inf["mean"], "se_hac": inf["se_hac"], "t_hac": inf["t_hac"],
+                      "hac_lags": int(inf["hac_lags"]), "ci_low": inf["ci_low"], "ci_high": inf["ci_high"],
+                      "n_dates": int(inf["n_dates"]), "se_naive": inf["se_naive"],
+                      "mean_annualised": float(annualise(qmean[j, -1], h) - annualise(qmean[j, 0], h)),
+                      "monotonicity": monotonicity(qmean[j])})
+    counts = np.stack([(q == k).sum(axis=1) for k in range(1, n_q + 1)], axis=1)
+
+    tick("Fama-MacBeth", 0.7)
+    controls = []
+    if cfg.fm_log_market_cap and panel.market_cap is not None:
+        mc = panel.market_cap.to_numpy(dtype=float)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            controls.append(np.where(np.isfinite(mc) & (mc > 0), np.log(np.where(mc > 0, mc, 1.0)), np.nan))
+    groups = codes if cfg.fm_sector_dummies else None
+    fm = np.full((t_len, len(hcols)), np.nan)
+    frows = []
+    for j, h in enumerate(cfg.horizons):
+        fm[:, j], _ = fm_slopes(zeval, fwd[h], controls, groups)
+        s = fm[:, j][np.isfinite(fm[:, j])]
+        inf = mean_inference(s, hac_lags(h, int(s.size), cfg.hac_lag_rule))
+        frows.append({"horizon": h, "mean_slope": inf["mean"], "se_hac": inf["se_hac"], "t_hac": inf["t_hac"],
+                      "hac_lags": int(inf["hac_lags"]), "se_naive": inf["se_naive"], "n_dates": int(inf["n_dates"])})
+
+    tick("backtest", 0.8)
+    q_bt = assign_quantiles(zeval, n_q, codes, tiebreak) if cfg.backtest_within_sectors else q
+    bt = run_backtest(q_bt, n_q, universe, monthly_returns(track, cfg.delisting_return), dates, secs,
+                      holding_months=cfg.holding_months, cost_bps=cfg.transaction_cost_bps,
+                      risk_free_annual=cfg.risk_free_annual, comparison=cfg.comparison, benchmark_level=bench)
+
+    tick("screen", 0.95)
+    eps_used = np.full(price.shape, np.nan)
+    eps_age = np.full(price.shape, np.nan)
+    if panel.eps is not None:
+        eps_used = lagged_eps(panel, cfg.reporting_lag_months, cfg.eps_max_age_months)
+        stamped = panel.eps.shift(cfg.reporting_lag_months).to_numpy(dtype=float)
+        eps_age = months_since_valid(np.isfinite(stamped))
+    sec_lab = [sector_names[c] for c in codes] if panel.sectors is not None else [NO_SECTOR] * n_sec
+    hold = panel.holdings.reindex(secs).to_numpy(dtype=float) if panel.holdings is not None else np.full(n_sec, np.nan)
+    notes.append(f"HAC standard errors use the {cfg.hac_lag_rule!r} lag rule (see the methodology).")
+    date_notes = pd.DataFrame(rows, columns=["date", "horizon", "stage", "reason", "count"])
+    fr = {h: _frame(fwd[h], dates, secs) for h in cfg.horizons}
+    return {
+        "signal_name": cfg.signal,
+        "signal_raw": _frame(sig.values, dates, secs),
+        "pe": _frame(pe_ratio(price, eps_used), dates, secs),
+        "universe": _frame(universe, dates, secs),
+        "zscore": _frame(z, dates, secs),
+        "sector_zscore": _frame(zsec, dates, secs) if zsec is not None else None,
+        "signal_z": _frame(zeval, dates, secs),
+        "forward_returns": fr,
+        "delisted": pd.DataFrame({h: delisted[h] for h in cfg.horizons}, index=dates).rename_axis(columns="horizon"),
+        "rank_ic": rank_ic,
+        "pearson_ic": pearson_ic,
+        "breadth": breadth,
+        "ic_summary": summ,
+        "rolling_ic": rolling_ic(rank_ic),
+        "quantile": _frame(q, dates, secs),
+        "quantile_counts": pd.DataFrame(counts, index=dates, columns=qcols),
+        "quantile_returns": qret,
+        "quantile_mean": pd.DataFrame(qmean, index=hcols, columns=qcols),
+        "quantile_mean_annualised": pd.DataFrame(
+            np.stack([annualise(qmean[j], h) for j, h in enumerate(cfg.horizons)]), index=hcols, columns=qcols),
+        "spread": pd.DataFrame(spread, index=dates, columns=hcols),
+        "spread_summary": pd.DataFrame(srows).set_index("horizon"),
+        "turnover": pd.DataFrame(quantile_turnover(q, n_q), index=dates, columns=qcols),
+        "fm_slopes": pd.DataFrame(fm, index=dates, columns=hcols),
+        "fm_summary": pd.DataFrame(frows).set_index("horizon"),
+        "backtest": bt,
+        "eps_used": _frame(eps_used, dates, secs),
+        "price_age": _frame(months_since_valid(valid), dates, secs),
+        "eps_age": _frame(eps_age, dates, secs),
+        "security_info": pd.DataFrame({"sector": sec_lab, "holding_weight": hold}, index=secs),
+        "date_notes": date_notes,
+        "notes": tuple(notes),
+    }

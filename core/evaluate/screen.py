@@ -1,0 +1,179 @@
+"""The screen table for one date and a single security's history."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+import numpy as np
+import pandas as pd
+
+from core.errors import ConfigError
+from core.stats import zscore_rows
+
+if TYPE_CHECKING:  # pragma: no cover
+    from core.study import StudyResult
+
+__all__ = ["screen_table", "security_history", "quantile_label", "SINGLE_NAME_CAUTION", "STALE_MONTHS",
+           "STALE_EPS_MONTHS"]
+
+#: Months without a new price after which a name is flagged stale.
+STALE_MONTHS = 3
+#: Months since the last EPS stamp after which the EPS is flagged old.
+STALE_EPS_MONTHS = 12
+
+SINGLE_NAME_CAUTION = (
+    "A single security's signal against its own later returns is a noisy relation: "
+    "one name gives one observation per date, so patterns here prove little on their own. "
+    "Judge the signal on the cross-sectional results."
+)
+
+
+def quantile_label(q: float, n_q: int) -> str:
+    """Label a quantile from cheapest to dearest, e.g. ``"1 of 5 (cheapest)"`` for q = n_q."""
+    if not np.isfinite(q):
+        return ""
+    pos = n_q - int(q) + 1
+    tail = " (cheapest)" if pos == 1 else " (dearest)" if pos == n_q else ""
+    return f"{pos} of {n_q}{tail}"
+
+
+def _row_at(frame: pd.DataFrame | None, i: int, n: int) -> np.ndarray:
+    if frame is None:
+        return np.full(n, np.nan)
+    return frame.iloc[i].to_numpy(dtype=float)
+
+
+def _resolve_date(result: "StudyResult", date: object | None) -> int:
+    idx = result.signal_z.index
+    if date is None:
+        has = np.isfinite(result.signal_z.to_numpy(dtype=float)).any(axis=1)
+        if not has.any():
+            raise ConfigError("No date of this study has a signal to screen on.", hint="Check the study's notes.")
+        return int(np.flatnonzero(has)[-1])
+    ts = pd.Timestamp(date)  # type: ignore[arg-type]
+    me = (ts.to_period("M").to_timestamp(how="end")).normalize()
+    if me not in idx:
+        raise ConfigError(
+            f"Screen date {ts.date()} is outside the study's dates.",
+            hint=f"Allowed: month-ends from {idx[0].date()} to {idx[-1].date()}.",
+        )
+    return int(idx.get_loc(me))
+
+
+def screen_table(result: "StudyResult", date: object | None = None) -> pd.DataFrame:
+    """The screen on one date (default: the latest date with a signal).
+
+    Returns
+    -------
+    DataFrame indexed by security (cheapest first), columns: ``sector``,
+    ``in_universe``, ``signal`` (raw units), ``pe`` (NaN where not meaningful),
+    ``pe_display`` (text; "not meaningful" for EPS <= 0), ``zscore``,
+    ``sector_zscore``, ``quantile`` (1 = dearest .. n = cheapest),
+    ``quantile_label`` (from cheapest to dearest), ``z_change_3m``,
+    ``z_change_12m``, ``months_since_price``, ``months_since_eps``,
+    ``holding_weight``, ``flags`` (``; ``-separated text).
+
+    Notes
+    -----
+    Changes in z are ``z_t - z_{t-3}`` and ``z_t - z_{t-12}`` of the evaluated
+    z-score.  Rows: every security with a valid price within the last 12
+    months of the date.  The table has ``attrs["date"]`` (ISO).
+    """
+    i = _resolve_date(result, date)
+    secs = result.signal_z.columns
+    n = len(secs)
+    n_q = result.config.n_quantiles
+    z = _row_at(result.signal_z, i, n)
+    z3 = z - _row_at(result.signal_z, i - 3, n) if i >= 3 else np.full(n, np.nan)
+    z12 = z - _row_at(result.signal_z, i - 12, n) if i >= 12 else np.full(n, np.nan)
+    q = _row_at(result.quantile, i, n)
+    pe = _row_at(result.pe, i, n)
+    pa = _row_at(result.price_age, i, n)
+    ea = _row_at(result.eps_age, i, n)
+    raw = _row_at(result.signal_raw, i, n)
+    uni = result.universe.iloc[i].to_numpy(dtype=bool)
+    info = result.security_info.reindex(secs)
+    eps_now = _row_at(result.eps_used, i, n)
+    with np.errstate(invalid="ignore"):
+        parts = [
+            np.where(~uni, "outside universe; ", ""),
+            np.where(np.isfinite(eps_now) & (eps_now <= 0), "EPS zero or negative; ", ""),
+            np.where(np.isfinite(pa) & (pa >= STALE_MONTHS),
+                     np.char.add(np.char.add("no price for ", np.nan_to_num(pa).astype(int).astype(str)), " months; "),
+                     ""),
+            np.where(np.isfinite(ea) & (ea >= STALE_EPS_MONTHS),
+                     np.char.add(np.char.add("EPS ", np.nan_to_num(ea).astype(int).astype(str)), " months old; "),
+                     ""),
+            np.where(uni & ~np.isfinite(q), "no quantile on this date; ", ""),
+            np.where(~np.isfinite(raw), "no signal; ", ""),
+        ]
+    joined = parts[0].astype(str)
+    for p_ in parts[1:]:
+        joined = np.char.add(joined, p_.astype(str))
+    flags = np.char.rstrip(joined, "; ").tolist()
+    pe_disp = np.where(np.isfinite(pe), np.char.mod("%.1f", np.where(np.isfinite(pe), pe, 0.0)), "not meaningful")
+    pe_disp = np.where(np.isfinite(ea) | np.isfinite(pe), pe_disp, "")
+    out = pd.DataFrame(
+        {
+            "sector": info["sector"].to_numpy(),
+            "in_universe": uni,
+            "signal": raw,
+            "pe": pe,
+            "pe_display": pe_disp.astype(str),
+            "zscore": _row_at(result.zscore, i, n),
+            "sector_zscore": _row_at(result.sector_zscore, i, n),
+            "quantile": q,
+            "quantile_label": [quantile_label(v, n_q) for v in q],
+            "z_change_3m": z3,
+            "z_change_12m": z12,
+            "months_since_price": pa,
+            "months_since_eps": ea,
+            "holding_weight": info["holding_weight"].to_numpy(dtype=float),
+            "flags": flags,
+        },
+        index=pd.Index(secs, name="security"),
+    )
+    keep = np.isfinite(pa) & (pa <= 12)
+    out = out[keep]
+    order = np.lexsort((out.index.to_numpy().astype(str), -np.nan_to_num(out["zscore"].to_numpy(dtype=float), nan=-np.inf)))
+    out = out.iloc[order]
+    out.attrs["date"] = result.signal_z.index[i].date().isoformat()
+    return out
+
+
+def security_history(result: "StudyResult", security: str, horizon: int | None = None) -> pd.DataFrame:
+    """One security's signal z-score against its own later return z-score.
+
+    Returns
+    -------
+    DataFrame (dates) with ``signal_z``, ``forward_return`` (h months) and
+    ``return_z`` (the forward return's cross-sectional z-score on that date,
+    ddof 1).  ``attrs["caution"]`` holds :data:`SINGLE_NAME_CAUTION`,
+    ``attrs["horizon"]`` the horizon.
+
+    Notes
+    -----
+    ``return_z_{t,i} = (R_{t,i} - mean_t R) / sd_t R`` across the universe.
+    """
+    if security not in result.signal_z.columns:
+        raise ConfigError(f"Security {security!r} is not in this study.", hint="Pick one of the panel's securities.")
+    h = int(horizon) if horizon is not None else int(result.config.horizons[0])
+    if h not in result.forward_returns:
+        raise ConfigError(
+            f"Horizon {h} is not one of this study's horizons.",
+            hint="Allowed: " + ", ".join(str(x) for x in result.config.horizons) + ".",
+        )
+    fwd = result.forward_returns[h]
+    j = int(fwd.columns.get_loc(security))
+    rz = zscore_rows(fwd.to_numpy(dtype=float), "mean_std", ddof=1)[:, j]
+    out = pd.DataFrame(
+        {
+            "signal_z": result.signal_z[security].to_numpy(dtype=float),
+            "forward_return": fwd[security].to_numpy(dtype=float),
+            "return_z": rz,
+        },
+        index=result.signal_z.index,
+    )
+    out.attrs["caution"] = SINGLE_NAME_CAUTION
+    out.attrs["horizon"] = h
+    return out

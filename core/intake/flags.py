@@ -1,0 +1,116 @@
+"""The per-security table of the intake report (coverage and flags)."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from core.intake.options import PanelOptions
+from core.intake.report import FileReport
+
+__all__ = ["security_table", "longest_flat_run"]
+
+
+def longest_flat_run(values: np.ndarray) -> int:
+    """Length of the longest run of identical consecutive valid values (1 when none repeat, 0 when empty).
+
+    Examples
+    --------
+    >>> longest_flat_run(np.array([1.0, 2, 2, 2, np.nan, 3]))
+    3
+    """
+    v = values[np.isfinite(values)]
+    if v.size == 0:
+        return 0
+    same = np.concatenate([[False], v[1:] == v[:-1]])
+    best = run = 1
+    for s in same[1:]:
+        run = run + 1 if s else 1
+        best = max(best, run)
+    return int(best)
+
+
+def security_table(prices: pd.DataFrame, stale: pd.DataFrame, eps: pd.DataFrame | None, splits: pd.DataFrame,
+                   options: PanelOptions, price_report: FileReport, has_earnings: bool) -> pd.DataFrame:
+    """One row per security: valid range, coverage, flags and their details.
+
+    Notes
+    -----
+    coverage = (months with a valid price) / (calendar months).  Flags:
+    ``late_listing`` (first valid month after the calendar's first),
+    ``delisted`` (last valid month before the calendar's last),
+    ``suspected_split`` / ``split_adjusted``, ``stale`` (months set missing by
+    the staleness limit, or a run of ``flat_run_months`` identical prices),
+    ``gaps`` (missing months between first and last valid), ``extreme_pe``
+    (``|price / EPS| > extreme_pe`` in some month), ``negative_earnings``,
+    ``no_earnings`` (an earnings file was given but has no value for the
+    security), ``looks_like_index`` (its header reads like an index).
+    """
+    cal = prices.index
+    v = prices.to_numpy(dtype=float)
+    with np.errstate(invalid="ignore"):
+        ok = np.isfinite(v) & (v > 0)
+    n = len(cal)
+    any_ok = ok.any(axis=0)
+    first_i = np.where(any_ok, ok.argmax(axis=0), -1)
+    last_i = np.where(any_ok, n - 1 - ok[::-1].argmax(axis=0), -1)
+    n_valid = ok.sum(axis=0)
+    span = np.where(any_ok, last_i - first_i + 1, 0)
+    out = pd.DataFrame(index=pd.Index(prices.columns, name="security"))
+    out["first_valid"] = pd.Series([cal[i] if i >= 0 else pd.NaT for i in first_i], index=out.index, dtype="datetime64[ns]")
+    out["last_valid"] = pd.Series([cal[i] if i >= 0 else pd.NaT for i in last_i], index=out.index, dtype="datetime64[ns]")
+    out["n_valid"] = n_valid.astype("int64")
+    out["coverage"] = n_valid / n if n else 0.0
+    out["n_gaps"] = (span - n_valid).astype("int64")
+    out["stale_months"] = stale.reindex(columns=prices.columns).fillna(False).to_numpy(dtype=bool).sum(axis=0).astype("int64")
+    out["max_flat_run"] = [longest_flat_run(v[:, j]) for j in range(v.shape[1])]
+    out["split_date"] = pd.Series(pd.NaT, index=out.index, dtype="datetime64[ns]")
+    out["split_ratio"] = np.nan
+    out["extreme_pe_months"] = 0
+    out["max_abs_pe"] = np.nan
+    flags: list[list[str]] = [[] for _ in range(len(out))]
+    for j in range(len(out)):
+        if not any_ok[j]:
+            flags[j].append("no_valid_price")
+            continue
+        if first_i[j] > 0:
+            flags[j].append("late_listing")
+        if last_i[j] < n - 1:
+            flags[j].append("delisted")
+        if out["n_gaps"].iat[j] > 0:
+            flags[j].append("gaps")
+    pos = {s: k for k, s in enumerate(out.index)}
+    for _, r in splits.iterrows():
+        k = pos[r["security"]]
+        if pd.isna(out["split_date"].iat[k]):
+            out.iloc[k, out.columns.get_loc("split_date")] = r["date"]
+            out.iloc[k, out.columns.get_loc("split_ratio")] = r["ratio"]
+        flags[k].append("split_adjusted" if r["applied"] else "suspected_split")
+    for k in range(len(out)):
+        if out["stale_months"].iat[k] > 0 or out["max_flat_run"].iat[k] >= options.flat_run_months:
+            flags[k].append("stale")
+    if eps is not None:
+        e = eps.reindex(index=cal, columns=prices.columns).to_numpy(dtype=float)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            pe = np.where(np.isfinite(e) & (e != 0) & ok, v / e, np.nan)
+        absd = np.abs(pe)
+        ext = np.nan_to_num(absd, nan=0.0) > options.extreme_pe
+        out["extreme_pe_months"] = ext.sum(axis=0).astype("int64")
+        with np.errstate(all="ignore"):
+            mx = np.where(np.isfinite(absd).any(axis=0), np.nanmax(np.where(np.isfinite(absd), absd, -np.inf), axis=0), np.nan)
+        out["max_abs_pe"] = mx
+        has_e = np.isfinite(e).any(axis=0)
+        neg = (np.nan_to_num(e, nan=0.0) < 0).any(axis=0)
+        for k in range(len(out)):
+            if ext[:, k].any():
+                flags[k].append("extreme_pe")
+            if neg[k]:
+                flags[k].append("negative_earnings")
+            if has_earnings and not has_e[k]:
+                flags[k].append("no_earnings")
+    suspects = set(price_report.suspect_columns)
+    for k, s in enumerate(out.index):
+        if s in suspects:
+            flags[k].append("looks_like_index")
+    out["flags"] = pd.Series([";".join(f) for f in flags], index=out.index, dtype="str")
+    return out

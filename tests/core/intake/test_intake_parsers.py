@@ -1,0 +1,184 @@
+"""Unit checks of number, date, decimal, delimiter, header and kind detection."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from core.errors import IntakeError, Reason
+from core.intake import guess_kind
+from core.intake import numbers as nb
+from core.intake.dates import parse_dates
+from core.intake.kinds import infer_earnings_form
+from core.intake.numbers import detect_decimal, parse_numbers
+from core.intake.sniff import decode, find_header, looks_like_index, sniff_delimiter, split_sample
+
+
+@pytest.mark.parametrize(
+    "text,decimal,value",
+    [
+        ("1,234.5", "point", 1234.5),
+        ("1.234,5", "comma", 1234.5),
+        ("(12.5)", "point", -12.5),
+        ("12.5%", "point", 0.125),
+        ("(3,5%)", "comma", -0.035),
+        ("$1,234.50", "point", 1234.5),
+        ("-$3", "point", -3.0),
+        ("$(4)", "point", -4.0),
+        ("\u20ac12,30", "comma", 12.3),
+        ("12.5 EUR", "point", 12.5),
+        ("1 234 567", "point", 1234567.0),
+        ("1'234.5", "point", 1234.5),
+        ("\u22125", "point", -5.0),
+        ("1e3", "point", 1000.0),
+        ("  7 ", "point", 7.0),
+    ],
+)
+def test_number_spellings(text: str, decimal: str, value: float) -> None:
+    r = parse_numbers(pd.Series([text], dtype="str"), decimal)  # type: ignore[arg-type]
+    assert r.status[0] == nb.PARSED
+    assert r.values[0] == pytest.approx(value)
+
+
+@pytest.mark.parametrize("text", sorted(nb.MISSING_MARKERS | {"#N/A", "N/A", "NA", "NM", "Null", "n.a.", "n.m."}))
+def test_missing_spellings(text: str) -> None:
+    r = parse_numbers(pd.Series([text], dtype="str"))
+    assert r.status[0] == nb.MISSING and np.isnan(r.values[0])
+
+
+@pytest.mark.parametrize(
+    "text,decimal,status",
+    [
+        ("", "point", nb.BLANK),
+        ("abc", "point", nb.UNPARSEABLE),
+        ("12,5", "point", nb.UNPARSEABLE),  # a comma not grouping thousands under decimal point
+        ("1,2,3", "point", nb.UNPARSEABLE),
+        ("((1))", "point", nb.UNPARSEABLE),
+        ("inf", "point", nb.NON_FINITE),
+        ("-Infinity", "point", nb.NON_FINITE),
+        ("1e308", "point", nb.OUT_OF_RANGE),
+        ("#DIV/0!", "point", nb.UNPARSEABLE),
+        ("TOR14", "point", nb.UNPARSEABLE),  # a security code is not a number
+        ("1.234.567,5", "point", nb.UNPARSEABLE),
+    ],
+)
+def test_number_failures(text: str, decimal: str, status: int) -> None:
+    r = parse_numbers(pd.Series([text], dtype="str"), decimal)  # type: ignore[arg-type]
+    assert r.status[0] == status
+
+
+def test_numbers_already_numeric() -> None:
+    r = parse_numbers(pd.Series([1.5, np.nan, np.inf, 2e300]))
+    assert r.status.tolist() == [nb.PARSED, nb.BLANK, nb.NON_FINITE, nb.OUT_OF_RANGE]
+    assert r.values[0] == 1.5 and np.isnan(r.values[1:]).all()
+
+
+@pytest.mark.parametrize(
+    "sample,delimiter,style",
+    [(["1,234.50", "3"], ",", "point"), (["1.234,5", "12,5"], ";", "comma"), (["1,234", "5"], ";", "comma"),
+     (["1,234", "5"], ",", "point"), ([], ",", "point"), (["12.5", "1.5", "2,25"], ",", "point")],
+)
+def test_detect_decimal(sample: list[str], delimiter: str, style: str) -> None:
+    assert detect_decimal(sample, delimiter)[0] == style
+
+
+@pytest.mark.parametrize(
+    "text,expected",
+    [
+        ("2019-03-31", "2019-03-31"), ("2019/03/31", "2019-03-31"), ("2019-03-31 17:30:00", "2019-03-31"),
+        ("2019-03-31T00:00:00Z", "2019-03-31"), ("20190331", "2019-03-31"), ("2019-03", "2019-03-31"),
+        ("03/2019", "2019-03-31"), ("Mar 2019", "2019-03-31"), ("March 2019", "2019-03-31"), ("Mar-19", "2019-03-31"),
+        ("31 Mar 2019", "2019-03-31"), ("31-Mar-19", "2019-03-31"), ("Mar 31, 2019", "2019-03-31"),
+        ("Feb 2020", "2020-02-29"),
+    ],
+)
+def test_date_spellings(text: str, expected: str) -> None:
+    r = parse_dates(pd.Series([text], dtype="str"))
+    assert r.status[0] == 0
+    assert str(r.dates[0])[:10] == expected
+
+
+def test_date_order_decided_from_data() -> None:
+    # a first part above 12 can only be a day (common practice)
+    assert parse_dates(pd.Series(["01/02/2019", "13/02/2019"])).order == "dmy"
+    assert parse_dates(pd.Series(["01/02/2019", "02/13/2019"])).order == "mdy"
+    amb = parse_dates(pd.Series(["01/02/2019", "03/04/2019"]))
+    assert amb.ambiguous and amb.order == "dmy" and str(amb.dates[0])[:10] == "2019-02-01"
+    set_ = parse_dates(pd.Series(["01/02/2019"]), "mdy")
+    assert not set_.ambiguous and str(set_.dates[0])[:10] == "2019-01-02"
+    mixed = parse_dates(pd.Series(["13/01/2019", "14/01/2019", "01/13/2019"]))
+    assert mixed.order == "dmy" and mixed.status.tolist() == [0, 0, 3]
+
+
+def test_excel_serial_dates() -> None:
+    # Excel 1900 date system: serial 43466 is 2019-01-01 (common practice)
+    r = parse_dates(pd.Series(["43466", "43496.0"]), allow_serial=True)
+    assert [str(d)[:10] for d in r.dates] == ["2019-01-01", "2019-01-31"]
+    assert parse_dates(pd.Series(["43466"])).status[0] == 3  # not read as a serial unless allowed
+
+
+def test_bad_dates() -> None:
+    r = parse_dates(pd.Series(["2019-02-30", "31/04/2019", "", "soon", "Foo 2019"]))
+    assert r.status.tolist() == [3, 3, 1, 3, 3]
+
+
+def test_datetime_input() -> None:
+    s = pd.Series(pd.to_datetime(["2019-01-31", None]))
+    r = parse_dates(s)
+    assert r.status.tolist() == [0, 1]
+    tz = pd.Series(pd.to_datetime(["2019-01-31"]).tz_localize("UTC"))
+    assert parse_dates(tz).status.tolist() == [0]
+
+
+@pytest.mark.parametrize(
+    "text,delim",
+    [("a,b,c\n1,2,3\n", ","), ("a;b;c\n1,5;2;3\n4;5,5;6\n", ";"), ("a\tb\n1\t2\n", "\t"), ("a|b\n1|2\n", "|"),
+     ('a,b\n"1,234.5",2\n"2,000",3\n', ",")],
+)
+def test_sniff_delimiter(text: str, delim: str) -> None:
+    assert sniff_delimiter(text) == delim
+
+
+def test_find_header_skips_preamble() -> None:
+    rows = split_sample("Title line\nExported 2025-01-03\n\nDate,A,B\n31/01/2019,1,2\n", ",")
+    assert find_header(rows, "x.csv") == 3
+    with pytest.raises(IntakeError, match="no header") as info:
+        find_header(split_sample("2019-01-31,1,2\n2019-02-28,3,4\n", ","), "x.csv")
+    assert info.value.reason is Reason.NO_HEADER
+
+
+def test_decode_variants() -> None:
+    assert decode("a,b".encode("utf-16-le"), "x.csv")[1] == "UTF-16-LE without BOM"
+    assert decode("a,\u00e9".encode("cp1252"), "x.csv") == ("a,\u00e9", "cp1252")
+    assert decode(b"a,b", "x.csv", "latin-1") == ("a,b", "latin-1")
+    with pytest.raises(IntakeError) as info:
+        decode(b"\xff\xfe\x00", "x.csv")  # a UTF-16 mark followed by half a character
+    assert info.value.reason is Reason.BAD_ENCODING
+    with pytest.raises(IntakeError) as info:
+        decode("a,\u00e9".encode("utf-8"), "x.csv", "ascii")
+    assert info.value.reason is Reason.BAD_ENCODING
+    with pytest.raises(IntakeError) as info:
+        decode(b"\x81\x8d\x8f\x90\x9d", "x.csv")  # bytes undefined in cp1252 and invalid UTF-8
+    assert info.value.reason is Reason.BAD_ENCODING
+    with pytest.raises(IntakeError) as info:
+        decode(bytes(range(1, 9)) * 50, "x.csv")  # control characters
+    assert info.value.reason is Reason.UNREADABLE
+
+
+@pytest.mark.parametrize(
+    "name,header,kind",
+    [("maren_prices.csv", (), "prices"), ("x.csv", ("code", "sector"), "sectors"), ("x.csv", ("code", "weight"), "holdings"),
+     ("x.csv", ("code", "ex_date", "amount"), "dividends"), ("x.csv", ("date", "code", "eps"), "earnings"),
+     ("x.csv", ("date", "code", "mcap"), "market_cap"), ("bench.csv", (), "benchmark"), ("my_signal.csv", (), "signal"),
+     ("x.csv", ("date", "level"), "benchmark"), ("x.csv", ("date", "code", "close"), "prices"), ("x.csv", ("a", "b"), None)],
+)
+def test_guess_kind(name: str, header: tuple[str, ...], kind: str | None) -> None:
+    assert guess_kind(name, header) == kind
+
+
+def test_earnings_form_and_index_headers() -> None:
+    assert infer_earnings_form("P/E") == "pe" and infer_earnings_form("pe_ratio") == "pe"
+    assert infer_earnings_form("eps_ttm") == "eps" and infer_earnings_form("close") is None
+    assert looks_like_index("Maren All-Share") and looks_like_index("Composite Index")
+    assert not looks_like_index("TOR14")
