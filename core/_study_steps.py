@@ -32,7 +32,7 @@ from core.signals import (
     sector_zscore,
     standardise,
 )
-from core.stats import annualise, hac_lags, mean_inference, row_mean
+from core.stats import annualise, average_ranks, hac_lags, mean_inference, row_mean
 
 if TYPE_CHECKING:  # pragma: no cover
     from core.study import StudyConfig
@@ -51,7 +51,7 @@ def _grid(panel: Panel, notes: list[str]) -> Panel:
     if not isinstance(p.index, pd.DatetimeIndex):
         raise ConfigError("The panel's price index is not made of dates.",
                           hint="Build the panel with intake, which puts prices on month-end dates.")
-    me = month_end_index(p.index)
+    me = month_end_index(pd.DatetimeIndex(p.index))
     if me.has_duplicates:
         raise ConfigError("The panel's price table has two rows in the same month.",
                           hint="Keep one month-end row per month (intake does this).")
@@ -65,13 +65,13 @@ def _grid(panel: Panel, notes: list[str]) -> Panel:
         if f is None:
             return None
         g = f.copy()
-        g.index = month_end_index(g.index)
+        g.index = month_end_index(pd.DatetimeIndex(g.index))
         return g.reindex(index=full, columns=p.columns).astype(float)
 
     bench = None
     if panel.benchmark is not None:
         b = panel.benchmark.copy()
-        b.index = month_end_index(b.index)
+        b.index = month_end_index(pd.DatetimeIndex(b.index))
         bench = b[~b.index.duplicated(keep="last")].reindex(full).astype(float)
     prices = fix(p)
     assert prices is not None
@@ -94,11 +94,11 @@ def _signal(panel: Panel, cfg: "StudyConfig", u0: np.ndarray) -> RawSignal:
 def _note(rows: list[dict[str, Any]], dates: pd.DatetimeIndex, mask: np.ndarray, counts: np.ndarray,
           horizon: int, stage: str, reason: str) -> None:
     for i in np.flatnonzero(mask):
-        rows.append({"date": dates[i], "horizon": horizon, "stage": stage, "reason": reason, "count": int(counts[i])})
+        rows.append({"date": dates[int(i)], "horizon": horizon, "stage": stage, "reason": reason, "count": int(counts[i])})
 
 
 def _frame(a: np.ndarray, dates: pd.DatetimeIndex, cols: pd.Index) -> pd.DataFrame:
-    return pd.DataFrame(a, index=dates, columns=cols)
+    return pd.DataFrame(a, index=dates, columns=cols, copy=False)  # our own fresh array
 
 
 def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -> dict[str, Any]:
@@ -147,7 +147,12 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     zsec = None
     if panel.sectors is not None:
         zsec = sector_zscore(cleaned, sig.sign, codes, cfg.zscore_method, cfg.min_sector_size, cfg.small_sector_rule)
-    zeval = zsec if (cfg.sector_neutral and zsec is not None) else z
+    # a copy: result frames are built without copying, so no two of them may share an array
+    zeval = (zsec if (cfg.sector_neutral and zsec is not None) else z).copy()
+    if not np.isfinite(zeval).any():
+        raise InsufficientDataError(f"a z-score of {cfg.signal!r}", "at least two universe names with different "
+                                    "signal values on some date", "no such date",
+                                    hint="Check the signal varies across names (e.g. not all zero).")
     rows: list[dict[str, Any]] = []
     n_u = universe.sum(axis=1)
     _note(rows, dates, (n_u > 0) & ~np.isfinite(zeval).any(axis=1), n_u, 0, "signal",
@@ -171,8 +176,9 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     ric = np.full((t_len, len(hcols)), np.nan)
     pic = np.full_like(ric, np.nan)
     brd = np.zeros((t_len, len(hcols)), dtype=int)
+    zranks = average_ranks(zeval)
     for j, h in enumerate(cfg.horizons):
-        ric[:, j], pic[:, j], brd[:, j] = ic_by_date(zeval, fwd[h], cfg.min_breadth)
+        ric[:, j], pic[:, j], brd[:, j] = ic_by_date(zeval, fwd[h], cfg.min_breadth, zranks)
         has_fwd = np.arange(t_len) < t_len - h
         low = has_fwd & (brd[:, j] < cfg.min_breadth) & (n_u > 0)
         _note(rows, dates, low, brd[:, j], h, "ic", f"fewer names than min_breadth ({cfg.min_breadth})")
@@ -212,6 +218,11 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
                       "monotonicity": monotonicity(qmean[j])})
     counts = np.stack([(q == k).sum(axis=1) for k in range(1, n_q + 1)], axis=1)
 
+    monthly = monthly_returns(track, cfg.delisting_return)
+    m_q, _ = quantile_means(q, monthly, n_q)
+    qgrowth = pd.DataFrame(np.cumprod(1.0 + np.nan_to_num(m_q[:-1], nan=0.0), axis=0),
+                           index=pd.DatetimeIndex(dates[1:], name="date"), columns=qcols)
+
     tick("Fama-MacBeth", 0.7)
     controls = []
     if cfg.fm_log_market_cap and panel.market_cap is not None:
@@ -230,7 +241,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
 
     tick("backtest", 0.8)
     q_bt = assign_quantiles(zeval, n_q, codes, tiebreak) if cfg.backtest_within_sectors else q
-    bt = run_backtest(q_bt, n_q, universe, monthly_returns(track, cfg.delisting_return), dates, secs,
+    bt = run_backtest(q_bt, n_q, universe, monthly, dates, secs,
                       holding_months=cfg.holding_months, cost_bps=cfg.transaction_cost_bps,
                       risk_free_annual=cfg.risk_free_annual, comparison=cfg.comparison, benchmark_level=bench)
 
@@ -269,6 +280,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
             np.stack([annualise(qmean[j], h) for j, h in enumerate(cfg.horizons)]), index=hcols, columns=qcols),
         "spread": pd.DataFrame(spread, index=dates, columns=hcols),
         "spread_summary": pd.DataFrame(srows).set_index("horizon"),
+        "quantile_growth": qgrowth,
         "turnover": pd.DataFrame(quantile_turnover(q, n_q), index=dates, columns=qcols),
         "fm_slopes": pd.DataFrame(fm, index=dates, columns=hcols),
         "fm_summary": pd.DataFrame(frows).set_index("horizon"),

@@ -215,8 +215,7 @@ def run_backtest(
     if first is not None:
         ret, gret = ret.loc[first:], gret.loc[first:]
     growth = (1.0 + ret.fillna(0.0)).cumprod()
-    peak = np.maximum(growth.cummax(), 1.0)
-    drawdown = growth / peak - 1.0
+    drawdown = growth / growth.cummax().clip(lower=1.0) - 1.0
     rf = (1.0 + risk_free_annual) ** (1.0 / 12.0) - 1.0
     comp_col = comparison if comparison in ret.columns else "universe"
     comp = ret[comp_col].to_numpy(dtype=float)
@@ -250,8 +249,8 @@ def run_backtest(
         gross_returns=gret,
         growth=growth,
         drawdown=drawdown,
-        weights_cheapest=pd.DataFrame(wc, index=didx, columns=securities),
-        weights_long_short=pd.DataFrame(wls, index=didx, columns=securities),
+        weights_cheapest=pd.DataFrame(wc, index=didx, columns=securities, copy=False),
+        weights_long_short=pd.DataFrame(wls, index=didx, columns=securities, copy=False),
         turnover=turnover,
         stats=stats,
         cohorts=coh,

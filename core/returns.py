@@ -71,7 +71,7 @@ def price_track(price: np.ndarray, valid: np.ndarray, div: np.ndarray) -> PriceT
     last_idx = np.maximum.accumulate(np.where(valid, rows, -1), axis=0)
     has = last_idx >= 0
     carried = np.where(has, np.take_along_axis(price, np.maximum(last_idx, 0), axis=0), np.nan)
-    any_valid = valid.any(axis=0)
+    any_valid = np.asarray(valid.any(axis=0), dtype=bool)
     first = np.where(any_valid, np.argmax(valid, axis=0), -1)
     last = np.where(any_valid, t - 1 - np.argmax(valid[::-1], axis=0), -1)
     live = (rows >= first[None, :]) & (rows <= last[None, :]) & any_valid[None, :]

@@ -137,7 +137,7 @@ def dividend_yield(price: np.ndarray, div: np.ndarray) -> np.ndarray:
     --------
     >>> import numpy as np
     >>> d = np.zeros((12, 1)); d[[2, 5, 8, 11], 0] = [0.25, 0.25, 0.30, 0.30]
-    >>> float(dividend_yield(np.full((12, 1), 50.0), d)[11, 0])
+    >>> round(float(dividend_yield(np.full((12, 1), 50.0), d)[11, 0]), 12)
     0.022
     """
     ttm = trailing_dividends(div)

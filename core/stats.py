@@ -42,7 +42,7 @@ MAD_SCALE = 1.4826
 
 def _sorted_rows(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Row-sorted values (NaN last), the sorting permutation and the valid count per row."""
-    order = np.argsort(x, axis=1, kind="stable")  # NaN sorts last
+    order = np.argsort(x, axis=1, kind="quicksort")  # NaN sorts last; ties are resolved by value runs
     s = np.take_along_axis(x, order, axis=1)
     n = np.sum(~np.isnan(x), axis=1)
     return s, order, n
@@ -66,13 +66,18 @@ def average_ranks(x: np.ndarray) -> np.ndarray:
         return x.copy()
     s, order, n = _sorted_rows(x)
     pos = np.broadcast_to(np.arange(m), (t, m))
-    new_run = np.ones((t, m), dtype=bool)
-    new_run[:, 1:] = s[:, 1:] != s[:, :-1]
-    start = np.maximum.accumulate(np.where(new_run, pos, 0), axis=1)
-    end_run = np.ones((t, m), dtype=bool)
-    end_run[:, :-1] = new_run[:, 1:]
-    end = np.minimum.accumulate(np.where(end_run, pos, m - 1)[:, ::-1], axis=1)[:, ::-1]
-    r_sorted = (start + end) / 2.0 + 1.0
+    r_sorted = pos + 1.0
+    same = s[:, 1:] == s[:, :-1]  # NaN never equals NaN, so the NaN tail has no runs
+    tied = np.flatnonzero(same.any(axis=1))
+    if tied.size:  # average ranks only where a row has ties (rare for continuous data)
+        st, tp = s[tied], pos[: tied.size]
+        new_run = np.ones(st.shape, dtype=bool)
+        new_run[:, 1:] = ~same[tied]
+        start = np.maximum.accumulate(np.where(new_run, tp, 0), axis=1)
+        end_run = np.ones(st.shape, dtype=bool)
+        end_run[:, :-1] = new_run[:, 1:]
+        end = np.minimum.accumulate(np.where(end_run, tp, m - 1)[:, ::-1], axis=1)[:, ::-1]
+        r_sorted[tied] = (start + end) / 2.0 + 1.0
     r_sorted[pos >= n[:, None]] = np.nan
     ranks = np.empty_like(r_sorted)
     np.put_along_axis(ranks, order, r_sorted, axis=1)
@@ -220,27 +225,50 @@ def _row_constant(x: np.ndarray) -> np.ndarray:
 def row_pearson(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Pearson correlation per row over the positions where both are finite.
 
-    Returns ``(r, n)``; ``r`` is NaN when either side is constant or n < 3.
+    Returns ``(r, n)``; ``r`` is NaN when either side has no spread (its sum
+    of squared deviations is below ``1e-20`` of its sum of squares, i.e. the
+    values agree to about 10 significant digits) or n < 3.
+
+    Notes
+    -----
+    ``r = sum(dx dy) / sqrt(sum dx^2 sum dy^2)`` with ``dx = x - mean(x)``
+    over the common positions.
     """
     both = np.isfinite(x) & np.isfinite(y)
     n = both.sum(axis=1)
-    xm = np.where(both, x, np.nan)
-    ym = np.where(both, y, np.nan)
-    dx = np.where(both, xm - row_mean(xm)[:, None], 0.0)
-    dy = np.where(both, ym - row_mean(ym)[:, None], 0.0)
-    sxy = (dx * dy).sum(axis=1)
-    sxx = (dx * dx).sum(axis=1)
-    syy = (dy * dy).sum(axis=1)
-    ok = (n >= 3) & ~_row_constant(xm) & ~_row_constant(ym) & (sxx > 0) & (syy > 0)
+    xm = np.where(both, x, 0.0)
+    ym = np.where(both, y, 0.0)
+    nn = np.maximum(n, 1)[:, None]
+    dx = np.where(both, xm - xm.sum(axis=1, keepdims=True) / nn, 0.0)
+    dy = np.where(both, ym - ym.sum(axis=1, keepdims=True) / nn, 0.0)
+    sxy = np.einsum("ij,ij->i", dx, dy)
+    sxx = np.einsum("ij,ij->i", dx, dx)
+    syy = np.einsum("ij,ij->i", dy, dy)
+    qx = np.einsum("ij,ij->i", xm, xm)
+    qy = np.einsum("ij,ij->i", ym, ym)
+    ok = (n >= 3) & (sxx > 1e-20 * qx) & (syy > 1e-20 * qy) & (sxx > 0) & (syy > 0)
     with np.errstate(invalid="ignore", divide="ignore"):
-        r = sxy / np.sqrt(sxx * syy)
+        r = sxy / np.sqrt(np.where(ok, sxx * syy, 1.0))
     return np.where(ok, np.clip(r, -1.0, 1.0), np.nan), n
 
 
-def row_spearman(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Spearman rank correlation per row: Pearson on average ranks of the common positions."""
+def row_spearman(
+    x: np.ndarray, y: np.ndarray, x_ranks: np.ndarray | None = None
+) -> tuple[np.ndarray, np.ndarray]:
+    """Spearman rank correlation per row: Pearson on average ranks of the common positions.
+
+    ``x_ranks`` (optional) are the average ranks of all finite ``x``; rows where
+    ``y`` is finite wherever ``x`` is reuse them instead of ranking again.
+    """
     both = np.isfinite(x) & np.isfinite(y)
-    rx = average_ranks(np.where(both, x, np.nan))
+    if x_ranks is None:
+        rx = average_ranks(np.where(both, x, np.nan))
+    else:
+        same = (both == np.isfinite(x)).all(axis=1)
+        rx = np.where(same[:, None], np.where(both, x_ranks, np.nan), np.nan)
+        redo = ~same
+        if redo.any():
+            rx[redo] = average_ranks(np.where(both[redo], x[redo], np.nan))
     ry = average_ranks(np.where(both, y, np.nan))
     r, n = row_pearson(rx, ry)
     return r, n

@@ -16,7 +16,7 @@ Pipeline (:func:`run_study`)
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, field, replace
+from dataclasses import asdict, dataclass, field, fields, replace
 from typing import Any, Callable, get_args
 
 import numpy as np
@@ -34,6 +34,7 @@ from core._typing import (
 )
 from core.backtest import BacktestResult
 from core.errors import ConfigError, InsufficientDataError
+from core.evaluate.summary import ic_by_date_frame, summary_dict
 from core.panel import Panel
 
 __all__ = [
@@ -233,6 +234,26 @@ class StudyConfig:
         d = asdict(self)
         return {k: list(v) if isinstance(v, tuple) else v for k, v in d.items()}
 
+    @classmethod
+    def from_dict(cls, settings: dict[str, Any]) -> "StudyConfig":
+        """Build a configuration from a dict such as :meth:`to_dict` gives (lists become tuples).
+
+        Raises
+        ------
+        ConfigError
+            For an unknown setting name or an invalid value.
+        """
+        if not isinstance(settings, dict):
+            raise ConfigError("Study settings must be a mapping of setting names to values.",
+                              hint="Pass a dict such as StudyConfig().to_dict().")
+        known = {f.name for f in fields(cls)}
+        unknown = sorted(set(settings) - known)
+        if unknown:
+            raise ConfigError(f"Unknown study setting(s): {', '.join(repr(u) for u in unknown)}.",
+                              hint="Allowed: " + ", ".join(sorted(known)) + ".")
+        values: dict[str, Any] = {k: tuple(v) if isinstance(v, list) else v for k, v in settings.items()}
+        return cls(**values)
+
 
 @dataclass(frozen=True)
 class StudyResult:
@@ -288,8 +309,13 @@ class StudyResult:
     spread : DataFrame (D x H)
         Top-minus-bottom quantile forward return.
     spread_summary : DataFrame (H x statistics)
-        ``mean, se_hac, t_hac, hac_lags, ci_low, ci_high, n_dates,
-        mean_annualised, monotonicity``.
+        ``mean`` (time-mean of ``spread``, per horizon), ``se_hac, t_hac,
+        hac_lags, ci_low, ci_high, n_dates, se_naive``, ``mean_annualised``
+        (annualised top-quantile mean minus annualised bottom-quantile mean)
+        and ``monotonicity`` (Spearman of quantile order vs mean return).
+    quantile_growth : DataFrame (D x Q)
+        Growth of 1.0 in each quantile, rebalanced monthly with equal weights,
+        from one-month total returns (not excess), dated at the month's end.
     turnover : DataFrame (D x Q)
         One-way equal-weight turnover of each quantile from the previous date.
     fm_slopes : DataFrame (D x H)
@@ -334,6 +360,7 @@ class StudyResult:
     quantile_mean_annualised: pd.DataFrame
     spread: pd.DataFrame
     spread_summary: pd.DataFrame
+    quantile_growth: pd.DataFrame
     turnover: pd.DataFrame
     fm_slopes: pd.DataFrame
     fm_summary: pd.DataFrame
@@ -402,74 +429,3 @@ def run_study(
         progress("done", 1.0)
     return res
 
-
-def _f(x: object) -> float | None:
-    v = float(x)  # type: ignore[arg-type]
-    return v if np.isfinite(v) else None
-
-
-def summary_dict(result: StudyResult) -> dict[str, Any]:
-    """JSON-ready summary of a study.
-
-    Returns
-    -------
-    dict
-        ``{"config": {...}, "signal": str, "horizons": {"<h>": {...}}, "backtest": {...}}``;
-        per horizon ``mean_ic``, ``ic_t`` (HAC), ``ic_se``, ``ic_lags``,
-        ``ic_ci_low``, ``ic_ci_high``, ``ic_ir``, ``hit_share``, ``n_dates``,
-        ``mean_pearson_ic``, ``spread`` (mean over dates of the highest-signal
-        quantile's h-month forward return minus the lowest-signal quantile's,
-        not annualised), ``spread_t`` (HAC), ``spread_annualised``,
-        ``monotonicity``, ``fm_slope``, ``fm_t`` (HAC).  NaN becomes ``None``.
-    """
-    out: dict[str, Any] = {"config": result.config.to_dict(), "signal": result.signal_name, "horizons": {}}
-    ic, sp, fm = result.ic_summary, result.spread_summary, result.fm_summary
-    for h in result.config.horizons:
-        out["horizons"][str(h)] = {
-            "mean_ic": _f(ic.at[h, "mean_ic"]),
-            "ic_t": _f(ic.at[h, "t_hac"]),
-            "ic_se": _f(ic.at[h, "se_hac"]),
-            "ic_lags": int(ic.at[h, "hac_lags"]),
-            "ic_ci_low": _f(ic.at[h, "ci_low"]),
-            "ic_ci_high": _f(ic.at[h, "ci_high"]),
-            "ic_ir": _f(ic.at[h, "ic_ir"]),
-            "hit_share": _f(ic.at[h, "hit_share"]),
-            "n_dates": int(ic.at[h, "n_dates"]),
-            "mean_pearson_ic": _f(ic.at[h, "mean_pearson_ic"]),
-            "spread": _f(sp.at[h, "mean"]),
-            "spread_t": _f(sp.at[h, "t_hac"]),
-            "spread_annualised": _f(sp.at[h, "mean_annualised"]),
-            "monotonicity": _f(sp.at[h, "monotonicity"]),
-            "fm_slope": _f(fm.at[h, "mean_slope"]),
-            "fm_t": _f(fm.at[h, "t_hac"]),
-        }
-    st = result.backtest.stats
-    out["backtest"] = {
-        "holding_months": result.backtest.holding_months,
-        "comparison": result.backtest.comparison,
-        "cohort_share_beat": _f(result.backtest.cohort_share_beat),
-        "portfolios": {p: {c: _f(st.at[p, c]) for c in st.columns} for p in st.index},
-    }
-    out["excluded_dates"] = int(len(result.date_notes))
-    out["notes"] = list(result.notes)
-    return out
-
-
-def ic_by_date_frame(result: StudyResult) -> pd.DataFrame:
-    """One row per signal date and horizon: ``date`` (ISO text), ``horizon``, ``rank_ic``, ``pearson_ic``, ``breadth``.
-
-    Dates without a forward return for the horizon (the last h dates) are left out;
-    dates below the minimum breadth stay in with NaN ICs.
-    """
-    parts = []
-    n = len(result.rank_ic.index)
-    for h in result.config.horizons:
-        keep = np.arange(n) < n - h
-        parts.append(pd.DataFrame({
-            "date": [d.date().isoformat() for d in result.rank_ic.index[keep]],
-            "horizon": int(h),
-            "rank_ic": result.rank_ic[h].to_numpy(dtype=float)[keep],
-            "pearson_ic": result.pearson_ic[h].to_numpy(dtype=float)[keep],
-            "breadth": result.breadth[h].to_numpy(dtype=int)[keep],
-        }))
-    return pd.concat(parts, ignore_index=True)

@@ -92,6 +92,14 @@ def _controls(rec: DatasetRecord) -> html.Div:
                                                                       value=o.id_cleanup, clearable=False)]),
             html.Div([html.Label("Identifier pattern"), dcc.Input(id=_pid("ds-idregex", rec.id), type="text",
                                                                   value=o.id_regex or "", placeholder=r"e.g. ([A-Z]{3}\d{2})")]),
+            html.Div([html.Label("Signal name (own signal files)"),
+                      dcc.Input(id=_pid("ds-signame", rec.id), type="text", value=o.signal_name or "",
+                                placeholder="e.g. book yield")]),
+            html.Div([html.Label("Higher signal values mean"),
+                      dcc.Dropdown(id=_pid("ds-direction", rec.id), clearable=False,
+                                   value="cheaper" if o.higher_is_cheaper else "dearer",
+                                   options=[{"label": "cheaper (like a yield)", "value": "cheaper"},
+                                            {"label": "dearer (like a ratio of price)", "value": "dearer"}])]),
             html.Div([html.Label("Columns to leave out (comma-separated)"),
                       dcc.Input(id=_pid("ds-exclude", rec.id), type="text", value=", ".join(o.exclude_columns),
                                 placeholder=", ".join(suspects) if suspects else "none")]),
@@ -99,8 +107,6 @@ def _controls(rec: DatasetRecord) -> html.Div:
         html.Div(className="vs-row", children=[
             html.Button("Read again with these choices", id=_pid("ds-reread", rec.id), n_clicks=0,
                         className="vs-button"),
-            html.Span(f"Looks like an index, not a security: {', '.join(map(str, suspects))}" if suspects
-                      and not set(suspects) <= set(o.exclude_columns) else "", className="vs-hint"),
         ]),
     ])
 
@@ -131,6 +137,13 @@ def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
         if rows:
             body.append(html.Details([html.Summary(f"Where (first examples, {len(rows)} shown)"),
                                       text_table(rows, cols)]))
+        suspects = [str(x) for x in _tuple(r.get("suspect_columns")) if str(x) not in rec.options.exclude_columns]
+        if suspects:
+            body.append(html.Div(className="vs-alert vs-alert-info", children=[
+                f"Looks like an index, not a security: {', '.join(suspects)}. ",
+                html.Button(f"Leave out {', '.join(suspects)}", id=_pid("ds-drop-suspects", rec.id), n_clicks=0,
+                            className="vs-button vs-button-small"),
+            ]))
         notes = _tuple(r.get("notes"))
         if notes:
             body.append(html.Ul([html.Li(str(n)) for n in notes], className="vs-notes-list"))
@@ -140,7 +153,8 @@ def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
 
 
 def options_from_controls(base: Any, kind: Any, layout: Any, header: Any, dates: Any, decimal: Any,
-                          idclean: Any, idregex: Any, exclude: Any) -> Any:
+                          idclean: Any, idregex: Any, exclude: Any, signal_name: Any = None,
+                          direction: Any = "cheaper") -> Any:
     """New ReadOptions from the card's controls (ConfigError names a bad choice)."""
     from dataclasses import replace
 
@@ -155,4 +169,6 @@ def options_from_controls(base: Any, kind: Any, layout: Any, header: Any, dates:
         id_cleanup=idclean or "none",
         id_regex=(idregex or None) if (idclean == "regex") else None,
         exclude_columns=cols,
+        signal_name=(str(signal_name).strip() or None) if signal_name else None,
+        higher_is_cheaper=direction != "dearer",
     )

@@ -10,7 +10,7 @@ import plotly.graph_objects as go
 
 from app.figures.theme import MUTED, TEMPLATE_NAME
 
-__all__ = ["month", "span", "fmt_t", "fmt_num", "fmt_pct", "base_figure", "message_figure", "finite_dates"]
+__all__ = ["wrap", "month", "span", "fmt_t", "fmt_num", "fmt_pct", "base_figure", "message_figure", "finite_dates"]
 
 
 def month(ts: object) -> str:
@@ -52,13 +52,33 @@ def finite_dates(s: pd.Series) -> pd.DatetimeIndex:
     return pd.DatetimeIndex(s.index[np.isfinite(v)])
 
 
-def base_figure(title: str, subtitle: str, *, height: int = 440) -> go.Figure:
-    """An empty figure on the shared template with a title and a sample/statistics subtitle."""
+def wrap(text: str, width: int) -> tuple[str, int]:
+    """Break ``text`` into lines of at most ``width`` characters (existing <br> kept); returns (text, lines)."""
+    import textwrap
+
+    lines: list[str] = []
+    # Keep "t = 2.31" and similar statements on one line (non-breaking spaces around "=").
+    text = str(text).replace(" = ", "\u00a0=\u00a0")
+    for para in text.split("<br>"):
+        lines.extend(textwrap.wrap(para, width=width, break_long_words=False) or [""])
+    return "<br>".join(lines), len(lines)
+
+
+def base_figure(title: str, subtitle: str, *, height: int = 440, wide: bool = False) -> go.Figure:
+    """An empty figure on the shared template with a title and a sample/statistics subtitle.
+
+    Titles and subtitles are wrapped so that they fit a half-width card (``wide``: a full-width one);
+    the top margin grows with the number of lines, so nothing is clipped.
+    """
+    t, nt = wrap(title, 90 if wide else 52)
+    s, ns = wrap(subtitle, 150 if wide else 66) if subtitle else ("", 0)
+    top = 30 + 24 * nt + 19 * ns + 18
     fig = go.Figure()
     fig.update_layout(
         template=TEMPLATE_NAME,
-        title=dict(text=title, subtitle=dict(text=subtitle)),
-        height=height,
+        title=dict(text=t, subtitle=dict(text=s)),
+        height=height + max(0, top - 96),
+        margin=dict(t=top),
     )
     return fig
 

@@ -54,16 +54,29 @@ def growth_figure(result: StudyResult) -> go.Figure:
     cost = result.config.transaction_cost_bps
     subtitle = (f"Sample {span(dates)}, {len(dates)} months; costs {fmt_num(cost, 0)} bp per unit traded<br>"
                 + stats_text(result, "cheapest") + "; " + stats_text(result, "long_short"))
-    fig = base_figure(title, subtitle, height=480)
+    fig = base_figure(title, subtitle, height=480, wide=True)
     for col in bt.growth.columns:
         s = bt.growth[col]
         if not np.isfinite(s.to_numpy(dtype=float)).any():
             continue
         fig.add_trace(go.Scatter(x=s.index, y=s.to_numpy(dtype=float), mode="lines", name=_label(str(col)),
                                  line=dict(color=SERIES.get(str(col)), width=3 if col == "cheapest" else 2.2)))
-    fig.update_yaxes(type="log", title_text="growth of 1 (log scale)")
-    fig.update_layout(margin=dict(t=118))
+    vals = bt.growth.to_numpy(dtype=float)
+    vals = vals[np.isfinite(vals) & (vals > 0)]
+    fig.update_yaxes(type="log", title_text="growth of 1 (log scale)", tickmode="array",
+                     tickvals=_log_ticks(float(vals.min()), float(vals.max())) if vals.size else None)
     return fig
+
+
+def _log_ticks(lo: float, hi: float) -> list[float]:
+    """1-2-5 ticks covering [lo, hi] for a log axis."""
+    out = []
+    for e in range(int(np.floor(np.log10(lo))) - 1, int(np.ceil(np.log10(hi))) + 1):
+        for m in (1, 2, 5):
+            v = m * 10.0 ** e
+            if lo / 1.6 <= v <= hi * 1.6:
+                out.append(v)
+    return out
 
 
 def drawdown_figure(result: StudyResult) -> go.Figure:

@@ -34,8 +34,8 @@ def coverage_figure(panel: Panel, *, max_rows: int = 400) -> go.Figure:
     subtitle = (f"{len(secs)} securities x {len(dates)} month-ends ({span(dates)}); "
                 f"{share:.0%} of cells valid; names with a price per date: {int(per_date.min())} to {int(per_date.max())}"
                 + (f"; every {step}th security drawn" if step > 1 else ""))
-    height = int(min(900, max(360, 120 + 4 * len(shown))))
-    fig = base_figure(title, subtitle, height=height)
+    height = int(min(900, max(420, 160 + 5 * len(shown))))
+    fig = base_figure(title, subtitle, height=height, wide=True)
     fig.add_trace(go.Heatmap(
         z=z, x=dates, y=secs[shown], zmin=0, zmax=1, showscale=False,
         colorscale=[[0.0, "#f4f1ec"], [0.5, "#f4f1ec"], [0.5, CHEAP], [1.0, CHEAP]],

@@ -64,8 +64,9 @@ def ic_by_horizon_figure(result: StudyResult) -> go.Figure:
     hi = s["ci_high"].to_numpy(dtype=float)
     used = [finite_dates(result.rank_ic[h]) for h in hs]
     all_dates = pd.DatetimeIndex(sorted(set().union(*[set(u) for u in used])))
-    subtitle = (f"Sample {span(all_dates)}; bars: mean of monthly rank ICs, whiskers: 95% Newey-West "
-                f"interval; t and dates (n) above each bar")
+    names = fmt_num(s["mean_breadth"].mean(), 0)
+    subtitle = (f"Sample {span(all_dates)}, about {names} names a date; bars: mean of monthly rank ICs, "
+                f"whiskers: 95% Newey-West interval")
     fig = base_figure(title, subtitle)
     colors = [CHEAP if m >= 0 else SERIES["dearest"] for m in mean]
     fig.add_trace(go.Bar(
@@ -76,16 +77,13 @@ def ic_by_horizon_figure(result: StudyResult) -> go.Figure:
     ))
     top = np.nanmax(np.concatenate([hi, mean, [0.0]]))
     bottom = np.nanmin(np.concatenate([lo, mean, [0.0]]))
-    pad = 0.12 * max(top - bottom, 1e-3)
-    for lab, h, up in zip(labels, hs, hi):
+    pad = 0.08 * max(top - bottom, 1e-3)
+    ticks = []
+    for lab, h in zip(labels, hs):
         row = _ic_row(result, h)
-        fig.add_annotation(
-            x=lab, y=(up if np.isfinite(up) else 0.0) + 0.3 * pad, yanchor="bottom", showarrow=False,
-            text=f"t = {fmt_t(row['t_hac'])}<br>n = {int(row['n_dates'])}, {fmt_num(row['mean_breadth'], 0)} names",
-            font=dict(size=13),
-        )
-    fig.update_yaxes(title_text="rank IC", range=[bottom - pad, top + 2.2 * pad], zeroline=True)
-    fig.update_xaxes(title_text="horizon")
+        ticks.append(f"<b>{lab}</b><br>t={fmt_num(row['t_hac'], 1)}<br>n={int(row['n_dates'])}")
+    fig.update_xaxes(tickmode="array", tickvals=labels, ticktext=ticks, title_text="horizon; Newey-West t; dates")
+    fig.update_yaxes(title_text="rank IC", range=[bottom - pad, top + pad], zeroline=True)
     fig.update_layout(showlegend=False)
     return fig
 
@@ -144,7 +142,7 @@ def quantile_returns_figure(result: StudyResult, horizon: int, *, annualised: bo
 
 def spread_over_time_figure(result: StudyResult, horizon: int) -> go.Figure:
     """Cheapest-minus-dearest forward return per formation date, with a 12-date rolling mean."""
-    title = f"Cheapest minus dearest quantile, {horizon}-month forward return"
+    title = f"Cheapest minus dearest, {horizon}-month forward return"
     s = result.spread[horizon]
     dates = finite_dates(s)
     if len(dates) == 0:
@@ -264,13 +262,11 @@ def fm_slopes_figure(result: StudyResult) -> go.Figure:
                          hovertemplate="%{x}: %{y:.3%}<extra></extra>", name="mean slope"))
     hi = np.nan_to_num(m + 1.96 * se)
     lo = np.nan_to_num(m - 1.96 * se)
-    pad = 0.12 * max(float(np.max(np.r_[hi, 0.0]) - np.min(np.r_[lo, 0.0])), 1e-4)
-    for lab, h, up in zip(labels, hs, hi):
-        row = s.loc[h]
-        fig.add_annotation(x=lab, y=float(up) + 0.3 * pad, yanchor="bottom", showarrow=False,
-                           text=f"t = {fmt_t(row['t_hac'])}<br>n = {int(row['n_dates'])}", font=dict(size=13))
-    fig.update_yaxes(title_text="slope (return per z)", tickformat=".2%",
-                     range=[float(np.min(np.r_[lo, 0.0])) - pad, float(np.max(np.r_[hi, 0.0])) + 2.2 * pad])
-    fig.update_xaxes(title_text="horizon")
+    pad = 0.08 * max(float(np.max(np.r_[hi, 0.0]) - np.min(np.r_[lo, 0.0])), 1e-4)
+    ticks = [f"<b>{lab}</b><br>t={fmt_num(s.loc[h, 't_hac'], 1)}<br>n={int(s.loc[h, 'n_dates'])}"
+             for lab, h in zip(labels, hs)]
+    fig.update_xaxes(tickmode="array", tickvals=labels, ticktext=ticks, title_text="horizon; Newey-West t; dates")
+    fig.update_yaxes(title_text="slope (return per z)", tickformat=".1%",
+                     range=[float(np.min(np.r_[lo, 0.0])) - pad, float(np.max(np.r_[hi, 0.0])) + pad])
     fig.update_layout(showlegend=False)
     return fig

@@ -94,9 +94,9 @@ def _build() -> go.layout.Template:
         font=dict(family=FONT_FAMILY, size=BASE_FONT_SIZE, color=INK),
         title=dict(
             font=dict(size=18, color=INK),
-            x=0.0,
+            x=0.012,
             xanchor="left",
-            xref="paper",
+            xref="container",
             y=0.97,
             yanchor="top",
             subtitle=dict(font=dict(size=14, color=MUTED)),

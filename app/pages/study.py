@@ -10,7 +10,7 @@ from dash import Input, Output, State, dcc, html, no_update
 from app.components.common import chart, field, panel_choices
 from app.figures import backtest as fb
 from app.figures import study as fs
-from app.figures._common import message_figure, month
+from app.figures._common import month
 from app.jobs_ui import job_components, register_job_callbacks
 from app.services import normalise_selection, state
 from app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES
@@ -75,23 +75,25 @@ def layout(**_: Any) -> html.Div:
             html.H1("Study"),
             *job_components(P),
             html.Div(id=f"{P}-summary", className="vs-summary"),
-            html.Div(className="vs-row", children=[
-                field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[], value=None,
-                                                      className="vs-horizon-pick")),
-            ]),
-            html.Div(className="vs-grid", children=[chart(f"{P}-ic-horizon"), chart(f"{P}-ic-time")]),
-            html.Div(className="vs-grid", children=[chart(f"{P}-quantiles"), chart(f"{P}-spread")]),
-            html.Div(className="vs-grid", children=[
-                html.Div(className="vs-card", children=[
-                    field("Scatter date", dcc.Dropdown(id=f"{P}-scatter-date", clearable=False, value="pooled",
-                                                       options=[{"label": "all dates pooled (binned)", "value": "pooled"}])),
-                    dcc.Loading(dcc.Graph(id=f"{P}-scatter", config={"displaylogo": False}), type="dot", delay_show=300),
+            html.Div(id=f"{P}-results", hidden=True, children=[
+                html.Div(className="vs-row", children=[
+                    field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[], value=None,
+                                                          className="vs-horizon-pick")),
                 ]),
-                chart(f"{P}-fm"),
+                html.Div(className="vs-grid", children=[chart(f"{P}-ic-horizon"), chart(f"{P}-ic-time")]),
+                html.Div(className="vs-grid", children=[chart(f"{P}-quantiles"), chart(f"{P}-spread")]),
+                html.Div(className="vs-grid", children=[
+                    html.Div(className="vs-card", children=[
+                        field("Scatter date", dcc.Dropdown(id=f"{P}-scatter-date", clearable=False, value="pooled",
+                                                           options=[{"label": "all dates pooled (binned)", "value": "pooled"}])),
+                        dcc.Loading(dcc.Graph(id=f"{P}-scatter", config={"displaylogo": False}), type="dot", delay_show=300),
+                    ]),
+                    chart(f"{P}-fm"),
+                ]),
+                chart(f"{P}-growth", tall=True),
+                html.Div(className="vs-grid", children=[chart(f"{P}-drawdown"), chart(f"{P}-cohorts")]),
+                html.Div(id=f"{P}-notes", className="vs-notes"),
             ]),
-            chart(f"{P}-growth", tall=True),
-            html.Div(className="vs-grid", children=[chart(f"{P}-drawdown"), chart(f"{P}-cohorts")]),
-            html.Div(id=f"{P}-notes", className="vs-notes"),
         ]),
     ])
 
@@ -156,21 +158,21 @@ def _horizons(job: Any, current: Any) -> Any:
 
 @dash.callback(
     *[Output(f"{P}-{c}", "figure") for c in _CHARTS],
-    Output(f"{P}-summary", "children"), Output(f"{P}-notes", "children"),
+    Output(f"{P}-summary", "children"), Output(f"{P}-notes", "children"), Output(f"{P}-results", "hidden"),
     Input(f"{P}-job", "data"), Input(f"{P}-horizon", "value"),
 )
 def _figures(job: Any, horizon: Any) -> Any:
     res = state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
     if res is None:
         if isinstance(job, dict) and job.get("status") == "running":
-            return (no_update,) * (len(_CHARTS) + 2)
-        empty = message_figure("", "No study to show yet.")
-        return (*([empty] * len(_CHARTS)), None, None)
+            return (no_update,) * (len(_CHARTS) + 3)
+        # No result (no data, or the study failed: the alert says why): show no stale charts.
+        return (*([no_update] * len(_CHARTS)), None, None, True)
     h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]
     figs = [fs.ic_by_horizon_figure(res), fs.ic_over_time_figure(res, h), fs.quantile_returns_figure(res, h),
             fs.spread_over_time_figure(res, h), fs.fm_slopes_figure(res), fb.growth_figure(res),
             fb.drawdown_figure(res), fb.cohort_figure(res)]
-    return (*figs, _summary(res, h), _notes(res))
+    return (*figs, _summary(res, h), _notes(res), False)
 
 
 @dash.callback(

@@ -16,7 +16,9 @@ __all__ = ["ic_by_date", "ic_summary", "rolling_ic", "ROLLING_WINDOWS"]
 ROLLING_WINDOWS: tuple[int, ...] = (12, 36)
 
 
-def ic_by_date(z: np.ndarray, fwd: np.ndarray, min_breadth: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def ic_by_date(
+    z: np.ndarray, fwd: np.ndarray, min_breadth: int, z_ranks: np.ndarray | None = None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Spearman and Pearson IC per date over names with both a signal and a forward return.
 
     Parameters
@@ -27,6 +29,8 @@ def ic_by_date(z: np.ndarray, fwd: np.ndarray, min_breadth: int) -> tuple[np.nda
         Forward returns for one horizon.
     min_breadth : int
         Dates with fewer usable names get NaN ICs (and are reported by the caller).
+    z_ranks : ndarray (D x S), optional
+        ``average_ranks(z)``, computed once and reused across horizons.
 
     Returns
     -------
@@ -43,7 +47,7 @@ def ic_by_date(z: np.ndarray, fwd: np.ndarray, min_breadth: int) -> tuple[np.nda
     ----------
     Spearman, C. (1904). Am. J. Psychol. 15(1); scipy.stats.spearmanr / pearsonr.
     """
-    rho, n = row_spearman(z, fwd)
+    rho, n = row_spearman(z, fwd, z_ranks)
     r, _ = row_pearson(z, fwd)
     low = n < min_breadth
     return np.where(low, np.nan, rho), np.where(low, np.nan, r), n.astype(int)

@@ -57,7 +57,7 @@ def _resolve_date(result: "StudyResult", date: object | None) -> int:
             f"Screen date {ts.date()} is outside the study's dates.",
             hint=f"Allowed: month-ends from {idx[0].date()} to {idx[-1].date()}.",
         )
-    return int(idx.get_loc(me))
+    return int(idx.get_indexer(pd.Index([me]))[0])
 
 
 def screen_table(result: "StudyResult", date: object | None = None) -> pd.DataFrame:
@@ -164,7 +164,7 @@ def security_history(result: "StudyResult", security: str, horizon: int | None =
             hint="Allowed: " + ", ".join(str(x) for x in result.config.horizons) + ".",
         )
     fwd = result.forward_returns[h]
-    j = int(fwd.columns.get_loc(security))
+    j = int(fwd.columns.get_indexer(pd.Index([security]))[0])
     rz = zscore_rows(fwd.to_numpy(dtype=float), "mean_std", ddof=1)[:, j]
     out = pd.DataFrame(
         {

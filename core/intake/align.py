@@ -75,32 +75,43 @@ def align_to_months(data: pd.DataFrame, calendar: pd.DatetimeIndex, *, staleness
     value(month m) = value of the last observation dated within m; missing when
     ``month_end(m) - date > staleness_days`` and the input is daily or weekly.
     """
-    cols = pd.Index(sorted(data["security"].unique()), dtype="str") if columns is None else columns
-    empty_v = pd.DataFrame(np.nan, index=calendar, columns=cols)
+    sec_codes, uniq = pd.factorize(data["security"], sort=True)
+    cols = pd.Index(np.asarray(uniq, dtype=object), dtype="str") if columns is None else pd.Index(columns)
+    shape = (len(calendar), len(cols))
     if data.empty or len(calendar) == 0:
-        return AlignResult(empty_v, pd.DataFrame(False, index=calendar, columns=cols), 0, 0, 0)
-    d = data.sort_values("date", kind="stable")
-    me = month_end_index(d["date"])
-    frame = pd.DataFrame({"security": d["security"].to_numpy(), "me": me, "date": d["date"].to_numpy(), "value": d["value"].to_numpy()})
-    inside = frame["me"].isin(calendar).to_numpy()
+        return AlignResult(pd.DataFrame(np.nan, index=calendar, columns=cols), pd.DataFrame(False, index=calendar, columns=cols), 0, 0, 0)
+    dates = data["date"].to_numpy(dtype="datetime64[ns]")
+    month = dates.astype("datetime64[M]")
+    cal_m = calendar.to_numpy(dtype="datetime64[ns]").astype("datetime64[M]")
+    m_idx = (month - cal_m[0]).astype(np.int64)
+    inside = (m_idx >= 0) & (m_idx < len(calendar))
     outside = int((~inside).sum())
-    frame = frame[inside]
-    last = frame.drop_duplicates(["security", "me"], keep="last")
-    superseded = int(len(frame) - len(last))
-    if frequency not in LOW_FREQUENCIES:
-        age = (last["me"] - last["date"]).dt.days.to_numpy()
-        stale_mask = age > staleness_days
+    sc = sec_codes.astype(np.int64)
+    key = sc * (len(calendar) + 1) + np.where(inside, m_idx, len(calendar))
+    dn = dates.view(np.int64)
+    if key.size > 1 and not np.all((np.diff(key) > 0) | ((np.diff(key) == 0) & (np.diff(dn) >= 0))):
+        order = np.lexsort((dn, key))
     else:
-        stale_mask = np.zeros(len(last), dtype=bool)
-    good = last[~stale_mask]
-    values = good.pivot(index="me", columns="security", values="value").reindex(index=calendar, columns=cols)
-    values.index.name = "date"
-    values.columns.name = None
-    st = last[stale_mask]
-    stale = pd.DataFrame(False, index=calendar, columns=cols)
-    if len(st):
-        flag = st.assign(flag=True).pivot(index="me", columns="security", values="flag").reindex(index=calendar, columns=cols)
-        stale = flag.notna()
-        stale.index.name = "date"
-        stale.columns.name = None
-    return AlignResult(values.astype(float), stale, superseded, int(stale.to_numpy().sum()), outside)
+        order = np.arange(key.size)
+    ko = key[order]
+    last = np.ones(ko.size, dtype=bool)
+    last[:-1] = ko[:-1] != ko[1:]
+    pick = order[last & inside[order]]
+    superseded = int(inside.sum() - pick.size)
+    me = (cal_m[m_idx[pick]] + np.timedelta64(1, "M")).astype("datetime64[D]") - np.timedelta64(1, "D")
+    age = (me - dates[pick].astype("datetime64[D]")).astype(np.int64)
+    stale_pick = age > staleness_days if frequency not in LOW_FREQUENCIES else np.zeros(pick.size, dtype=bool)
+    # map the data's security codes to the requested columns
+    col_pos = cols.get_indexer(pd.Index(np.asarray(uniq, dtype=object), dtype="str"))
+    cpos = col_pos[sc[pick]]
+    known = cpos >= 0
+    values = np.full(shape, np.nan)
+    stale = np.zeros(shape, dtype=bool)
+    ok = known & ~stale_pick
+    values[m_idx[pick][ok], cpos[ok]] = data["value"].to_numpy(dtype=float)[pick][ok]
+    st = known & stale_pick
+    stale[m_idx[pick][st], cpos[st]] = True
+    vf = pd.DataFrame(values, index=calendar, columns=cols)
+    sf = pd.DataFrame(stale, index=calendar, columns=cols)
+    vf.index.name = sf.index.name = "date"
+    return AlignResult(vf, sf, superseded, int(stale.sum()), outside)

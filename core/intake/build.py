@@ -122,32 +122,28 @@ def _build(files: Sequence[ParsedFile], o: PanelOptions) -> Panel:
     # splits
     found = detect_splits(raw_prices, o.split_threshold)
     prices = raw_prices
-    applied, eps_adj = [], []
     divs = by.get("dividends", [None])[0]
     div_frame = divs.data.copy() if divs is not None else None
-    for _, r in found.iterrows():
-        sec, date, ratio = r["security"], r["date"], float(r["ratio"])
-        do = o.apply_all_suspected_splits or sec in o.confirmed_splits
-        applied.append(do)
-        adj = False
-        if do:
-            prices = apply_split(prices, sec, date, ratio)
-            if eps is not None and sec in eps.columns:
-                jump = shows_same_jump(eps[sec], date, ratio)
-                if jump is not None:
-                    eps = apply_split(eps, sec, jump, ratio)
-                    adj = True
-            if div_frame is not None:
-                ds = div_frame[div_frame["security"] == sec].set_index("ex_date")["amount"].sort_index()
-                jump = shows_same_jump(ds, date, ratio, window_months=12)
-                if jump is not None:
-                    m = (div_frame["security"] == sec) & (div_frame["ex_date"] < jump)
-                    div_frame.loc[m, "amount"] = div_frame.loc[m, "amount"] / ratio
-                    notes.append(f"{sec}: dividends before {jump:%Y-%m-%d} divided by {ratio:g} (the dividend series shows the split's jump)")
-        eps_adj.append(adj)
-        if do:
-            notes.append(f"{sec}: split of ratio {ratio:g} at {date:%Y-%m-%d} applied (prices before it divided by {ratio:g}); "
-                         + ("EPS before the jump divided likewise" if adj else "EPS left as stamped (it shows no matching jump, so it was taken as already adjusted)"))
+    applied = [bool(o.apply_all_suspected_splits or s in o.confirmed_splits) for s in found["security"]]
+    eps_adj = [False] * len(found)
+    for k in np.flatnonzero(np.asarray(applied, dtype=bool)):
+        sec, date, ratio = str(found["security"].iat[k]), pd.Timestamp(found["date"].iat[k]), float(found["ratio"].iat[k])
+        prices = apply_split(prices, sec, date, ratio)
+        if eps is not None and sec in eps.columns:
+            jump = shows_same_jump(eps[sec], date, ratio)
+            if jump is not None:
+                eps = apply_split(eps, sec, jump, ratio)
+                eps_adj[k] = True
+        if div_frame is not None:
+            ds = div_frame[div_frame["security"] == sec].set_index("ex_date")["amount"].sort_index()
+            djump = shows_same_jump(ds, date, ratio, window_months=12)
+            if djump is not None:
+                m = (div_frame["security"] == sec) & (div_frame["ex_date"] < djump)
+                div_frame.loc[m, "amount"] = div_frame.loc[m, "amount"] / ratio
+                notes.append(f"{sec}: dividends before {djump:%Y-%m-%d} divided by {ratio:g} (the dividend series shows the split's jump)")
+        notes.append(f"{sec}: split of ratio {ratio:g} at {date:%Y-%m-%d} applied (prices before it divided by {ratio:g}); "
+                     + ("EPS before the jump divided likewise" if eps_adj[k]
+                        else "EPS left as stamped (it shows no matching jump, so it was taken as already adjusted)"))
     splits = found.assign(applied=applied, eps_adjusted=eps_adj)[["security", "date", "ratio", "applied", "eps_adjusted"]] if len(found) else \
         pd.DataFrame({"security": pd.Series([], dtype="str"), "date": pd.Series([], dtype="datetime64[ns]"),
                       "ratio": pd.Series([], dtype=float), "applied": pd.Series([], dtype=bool), "eps_adjusted": pd.Series([], dtype=bool)})

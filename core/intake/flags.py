@@ -56,20 +56,13 @@ def security_table(prices: pd.DataFrame, stale: pd.DataFrame, eps: pd.DataFrame 
     last_i = np.where(any_ok, n - 1 - ok[::-1].argmax(axis=0), -1)
     n_valid = ok.sum(axis=0)
     span = np.where(any_ok, last_i - first_i + 1, 0)
-    out = pd.DataFrame(index=pd.Index(prices.columns, name="security"))
-    out["first_valid"] = pd.Series([cal[i] if i >= 0 else pd.NaT for i in first_i], index=out.index, dtype="datetime64[ns]")
-    out["last_valid"] = pd.Series([cal[i] if i >= 0 else pd.NaT for i in last_i], index=out.index, dtype="datetime64[ns]")
-    out["n_valid"] = n_valid.astype("int64")
-    out["coverage"] = n_valid / n if n else 0.0
-    out["n_gaps"] = (span - n_valid).astype("int64")
-    out["stale_months"] = stale.reindex(columns=prices.columns).fillna(False).to_numpy(dtype=bool).sum(axis=0).astype("int64")
-    out["max_flat_run"] = [longest_flat_run(v[:, j]) for j in range(v.shape[1])]
-    out["split_date"] = pd.Series(pd.NaT, index=out.index, dtype="datetime64[ns]")
-    out["split_ratio"] = np.nan
-    out["extreme_pe_months"] = 0
-    out["max_abs_pe"] = np.nan
-    flags: list[list[str]] = [[] for _ in range(len(out))]
-    for j in range(len(out)):
+    n_gaps = (span - n_valid).astype("int64")
+    stale_months = stale.reindex(columns=prices.columns).fillna(False).to_numpy(dtype=bool).sum(axis=0).astype("int64")
+    flat = np.array([longest_flat_run(v[:, j]) for j in range(v.shape[1])], dtype="int64")
+    split_date = np.full(len(prices.columns), np.datetime64("NaT"), dtype="datetime64[ns]")
+    split_ratio = np.full(len(prices.columns), np.nan)
+    flags: list[list[str]] = [[] for _ in range(len(prices.columns))]
+    for j in range(len(prices.columns)):
         if not any_ok[j]:
             flags[j].append("no_valid_price")
             continue
@@ -77,18 +70,30 @@ def security_table(prices: pd.DataFrame, stale: pd.DataFrame, eps: pd.DataFrame 
             flags[j].append("late_listing")
         if last_i[j] < n - 1:
             flags[j].append("delisted")
-        if out["n_gaps"].iat[j] > 0:
+        if n_gaps[j] > 0:
             flags[j].append("gaps")
-    pos = {s: k for k, s in enumerate(out.index)}
-    for _, r in splits.iterrows():
-        k = pos[r["security"]]
-        if pd.isna(out["split_date"].iat[k]):
-            out.iloc[k, out.columns.get_loc("split_date")] = r["date"]
-            out.iloc[k, out.columns.get_loc("split_ratio")] = r["ratio"]
-        flags[k].append("split_adjusted" if r["applied"] else "suspected_split")
-    for k in range(len(out)):
-        if out["stale_months"].iat[k] > 0 or out["max_flat_run"].iat[k] >= options.flat_run_months:
+    pos = {str(s): k for k, s in enumerate(prices.columns)}
+    for sec, date, ratio, applied in zip(splits["security"], splits["date"], splits["ratio"], splits["applied"]):
+        k = pos[str(sec)]
+        if np.isnat(split_date[k]):
+            split_date[k] = np.datetime64(pd.Timestamp(date).as_unit("ns").to_datetime64())
+            split_ratio[k] = float(ratio)
+        flags[k].append("split_adjusted" if bool(applied) else "suspected_split")
+    for k in range(len(flags)):
+        if stale_months[k] > 0 or flat[k] >= options.flat_run_months:
             flags[k].append("stale")
+    out = pd.DataFrame(index=pd.Index(prices.columns, name="security"))
+    out["first_valid"] = pd.Series([cal[i] if i >= 0 else pd.NaT for i in first_i], index=out.index, dtype="datetime64[ns]")
+    out["last_valid"] = pd.Series([cal[i] if i >= 0 else pd.NaT for i in last_i], index=out.index, dtype="datetime64[ns]")
+    out["n_valid"] = n_valid.astype("int64")
+    out["coverage"] = n_valid / n if n else 0.0
+    out["n_gaps"] = n_gaps
+    out["stale_months"] = stale_months
+    out["max_flat_run"] = flat
+    out["split_date"] = split_date
+    out["split_ratio"] = split_ratio
+    out["extreme_pe_months"] = 0
+    out["max_abs_pe"] = np.nan
     if eps is not None:
         e = eps.reindex(index=cal, columns=prices.columns).to_numpy(dtype=float)
         with np.errstate(divide="ignore", invalid="ignore"):

@@ -108,6 +108,10 @@ def parse_numbers(values: pd.Series, decimal: Literal["point", "comma"] = "point
         return NumberResult(out, status, percent)
 
     s = _as_text(values)
+    quick = _arrow_cast(s) if decimal == "point" else None
+    if quick is not None:
+        status[np.isnan(quick)] = BLANK
+        return NumberResult(quick, status, percent)
     blank = (s == "").to_numpy(dtype=bool, na_value=False).copy()
     # fast path: plain numbers
     if decimal == "point":
@@ -128,6 +132,27 @@ def parse_numbers(values: pd.Series, decimal: Literal["point", "comma"] = "point
         status[rest_idx] = st
         percent[rest_idx] = pc
     return NumberResult(out, status, percent)
+
+
+def _arrow_cast(s: pd.Series) -> np.ndarray | None:
+    """All cells plain numbers or blank (the common case): one arrow cast; else None."""
+    try:
+        import pyarrow as pa
+        import pyarrow.compute as pc
+
+        arr = pa.array(s.array) if not hasattr(s.array, "_pa_array") else s.array._pa_array
+        empty = pc.equal(arr, "")
+        arr = pc.if_else(empty, pa.scalar(None, pa.string()), arr)
+        out = pc.cast(arr, pa.float64()).to_numpy(zero_copy_only=False)
+        blank = np.asarray(empty.to_numpy(zero_copy_only=False), dtype=bool)
+    except Exception:
+        return None
+    v = np.asarray(out, dtype=float).copy()
+    with np.errstate(invalid="ignore"):
+        good = np.isfinite(v) & (np.abs(v) < _HUGE)
+    if not np.all(good | blank):  # "nan", "inf" or huge values: let the full parser classify them
+        return None
+    return v
 
 
 def _slow(r: pd.Series, decimal: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

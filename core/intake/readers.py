@@ -9,7 +9,6 @@ from __future__ import annotations
 import csv
 import datetime as _dt
 import io
-import re
 import zipfile
 from dataclasses import dataclass, field
 from typing import Any, Sequence
@@ -97,16 +96,18 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
                               hint="Give the row number of the header as the file shows it.")
     else:
         h = find_header(sample, name)
-    lines = text.splitlines(keepends=True)
-    if h >= len(lines):
+    offset = _line_offset(text, h)
+    if offset < 0:
         raise IntakeError(name, Reason.NO_HEADER, "the header row is past the end of the file.", hint="Check header_row.")
-    header = next(csv.reader([lines[h]], delimiter=delim), [])
+    end = text.find("\n", offset)
+    header_line = text[offset:] if end < 0 else text[offset:end + 1]
+    header = next(csv.reader([header_line.rstrip("\r\n")], delimiter=delim), [])
     header = [c.strip() for c in header]
     while header and not header[-1]:
         header.pop()
     if len(header) < 1:
         raise IntakeError(name, Reason.NO_HEADER, "the header row is empty.", row=h + 1, hint="Set header_row to the row with column names.")
-    body = "".join(lines[h + 1:])
+    body = "" if end < 0 else text[end + 1:]
     grid = None
     if len(body) >= FAST_PATH_MIN_CHARS:
         grid = _fast_text(body, header, delim, h + 1)
@@ -116,24 +117,38 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
     return Grid(header, cols, rows, "csv", enc, delim, h + 1, None, extra, ex)
 
 
+def _line_offset(text: str, h: int) -> int:
+    """Character offset where physical line ``h`` (0-based) starts, or -1."""
+    pos = 0
+    for _ in range(h):
+        nl = text.find("\n", pos)
+        if nl < 0:
+            return -1
+        pos = nl + 1
+    return pos if pos <= len(text) else -1
+
+
 def _fast_text(body: str, header: list[str], delim: str, header_row: int) -> tuple[list[pd.Series], np.ndarray, int, tuple[tuple[int, str], ...]] | None:
     """pyarrow's multithreaded reader; None when the simple row numbering would not hold."""
     import pyarrow as pa
     import pyarrow.csv as pacsv
 
     data = body.rstrip("\r\n")
-    if "\n\n" in data or "\n\r\n" in data or '"' in data and re.search(r'"[^"\n]*\n', data) is not None:
+    if "\n\n" in data or "\n\r\n" in data:
         return None
+    n_lines = data.count("\n") + 1
     names = [f"c{i}" for i in range(len(header))]
     try:
         table = pacsv.read_csv(
             io.BytesIO((data + "\n").encode("utf-8")),
             read_options=pacsv.ReadOptions(column_names=names, use_threads=True, block_size=1 << 24),
-            parse_options=pacsv.ParseOptions(delimiter=delim, newlines_in_values=False),
+            parse_options=pacsv.ParseOptions(delimiter=delim, newlines_in_values=True),
             convert_options=pacsv.ConvertOptions(column_types={c: pa.string() for c in names},
                                                  strings_can_be_null=False, quoted_strings_can_be_null=False),
         )
     except (pa.ArrowInvalid, pa.ArrowException):
+        return None
+    if table.num_rows != n_lines:  # a quoted value spans lines: row numbers would drift
         return None
     cols = [table.column(i).to_pandas().astype("str") for i in range(len(names))]
     rows = np.arange(table.num_rows, dtype=np.int64) + header_row + 1

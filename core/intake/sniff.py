@@ -107,7 +107,14 @@ def _printable_share(text: str) -> float:
 
 def split_sample(text: str, delimiter: str, max_lines: int = 80) -> list[list[str]]:
     """Parse the first ``max_lines`` physical lines with the csv module (one list per line)."""
-    lines = text.splitlines()[:max_lines]
+    pos, cuts = 0, 0
+    while cuts < max_lines:
+        nl = text.find("\n", pos)
+        if nl < 0:
+            pos = len(text)
+            break
+        pos, cuts = nl + 1, cuts + 1
+    lines = text[:pos].splitlines()[:max_lines]
     rows: list[list[str]] = []
     for line in lines:
         try:

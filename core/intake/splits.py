@@ -13,14 +13,6 @@ SPLIT_RATIOS: tuple[float, ...] = (1.5, 2.0, 3.0, 4.0, 5.0, 6.0, 8.0, 10.0, 20.0
 RATIO_TOLERANCE = 0.10
 
 
-def _match_ratio(move: float) -> float | None:
-    """Nearest split ratio to ``move`` (= price before / price after), or None."""
-    cands = np.array(SPLIT_RATIOS + tuple(1.0 / r for r in SPLIT_RATIOS))
-    err = np.abs(np.log(move) - np.log(cands))
-    k = int(np.argmin(err))
-    return float(cands[k]) if err[k] <= RATIO_TOLERANCE else None
-
-
 def detect_splits(prices: pd.DataFrame, threshold: float) -> pd.DataFrame:
     """Find one-period moves that look like an unadjusted split.
 
@@ -57,30 +49,64 @@ def detect_splits(prices: pd.DataFrame, threshold: float) -> pd.DataFrame:
     [['TOR14', 2.0]]
     """
     limit = float(np.log(1.0 / (1.0 - threshold)))
-    rows = []
-    for sec in prices.columns:
-        s = prices[sec]
-        v = s.to_numpy(dtype=float)
+    v = prices.to_numpy(dtype=float)
+    with np.errstate(invalid="ignore"):
         ok = np.isfinite(v) & (v > 0)
-        if ok.sum() < 3:
-            continue
-        p = v[ok]
-        dates = s.index[ok]
-        r = np.diff(np.log(p))
-        for t in np.flatnonzero(np.abs(r) >= limit) + 1:
-            move = p[t - 1] / p[t]
-            ratio = _match_ratio(move)
-            if ratio is None:
-                continue
-            half = abs(np.log(move)) / 2.0
-            after = p[t + 1: t + 4]
-            before = p[max(0, t - 3): t]
-            if after.size == 0:
-                continue
-            if abs(np.log(np.median(after) / p[t])) >= half or abs(np.log(np.median(before) / p[t - 1])) >= half:
-                continue
-            rows.append((str(sec), pd.Timestamp(dates[t]), ratio, float(move)))
-    return pd.DataFrame(rows, columns=["security", "date", "ratio", "move"]).astype({"ratio": float, "move": float})
+    okT = ok.T
+    vals = v.T[okT]                       # valid prices, security by security
+    col, when = np.nonzero(okT)           # security position and date position of each
+    empty = pd.DataFrame({"security": pd.Series([], dtype="str"), "date": pd.Series([], dtype="datetime64[ns]"),
+                          "ratio": pd.Series([], dtype=float), "move": pd.Series([], dtype=float)})
+    if vals.size < 3:
+        return empty
+    lv = np.log(vals)
+    same = col[1:] == col[:-1]
+    t = np.flatnonzero(same & (np.abs(np.diff(lv)) >= limit)) + 1
+    if t.size == 0:
+        return empty
+    move = vals[t - 1] / vals[t]
+    cands = np.array(SPLIT_RATIOS + tuple(1.0 / r for r in SPLIT_RATIOS))
+    err = np.abs(np.log(move)[:, None] - np.log(cands)[None, :])
+    best = err.argmin(axis=1)
+    matched = err[np.arange(t.size), best] <= RATIO_TOLERANCE
+    half = np.abs(np.log(move)) / 2.0
+    after = _neighbours(vals, col, t, (1, 2, 3))
+    before = _neighbours(vals, col, t, (-1, -2, -3))
+    med_a, has_a = _median3(after)
+    med_b, _ = _median3(before)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        stays = has_a & (np.abs(np.log(med_a / vals[t])) < half) & (np.abs(np.log(med_b / vals[t - 1])) < half)
+    keep = matched & stays
+    tk = t[keep]
+    return pd.DataFrame({
+        "security": pd.Series(np.asarray(prices.columns, dtype=object)[col[tk]], dtype="str"),
+        "date": pd.DatetimeIndex(prices.index[when[tk]]).as_unit("ns"),
+        "ratio": cands[best[keep]].astype(float),
+        "move": move[keep].astype(float),
+    }).reset_index(drop=True)
+
+
+def _neighbours(vals: np.ndarray, col: np.ndarray, t: np.ndarray, offsets: tuple[int, ...]) -> np.ndarray:
+    """Values at ``t + offset`` within the same security (NaN beyond it), one column per offset."""
+    out = np.full((t.size, len(offsets)), np.nan)
+    for k, off in enumerate(offsets):
+        idx = t + off
+        inside = (idx >= 0) & (idx < vals.size)
+        idx_c = np.clip(idx, 0, vals.size - 1)
+        good = inside & (col[idx_c] == col[t])
+        out[good, k] = vals[idx_c[good]]
+    return out
+
+
+def _median3(a: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Row medians of up to three values with NaN holes (NaN-free rows first), and whether any value exists."""
+    srt = np.sort(a, axis=1)  # NaN sorts last
+    k = np.isfinite(a).sum(axis=1)
+    med = np.full(a.shape[0], np.nan)
+    med[k == 1] = srt[k == 1, 0]
+    med[k == 2] = (srt[k == 2, 0] + srt[k == 2, 1]) / 2.0
+    med[k == 3] = srt[k == 3, 1]
+    return med, k > 0
 
 
 def apply_split(frame: pd.DataFrame, security: str, date: pd.Timestamp, ratio: float) -> pd.DataFrame:

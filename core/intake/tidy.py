@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
-from typing import Sequence
+from typing import Any, Callable, Sequence
 
 import numpy as np
 import pandas as pd
@@ -66,12 +66,20 @@ class _Ctx:
             return pd.Series(pd.DatetimeIndex(s).strftime("%Y-%m-%d"), dtype="str").fillna("")
         return s.astype("str").fillna("").str.strip()
 
-    def whole_column(self, j: int, reason: Reason) -> None:
-        n = self.grid.n_rows
+    def locator(self, j: int) -> Callable[[np.ndarray], tuple[np.ndarray, np.ndarray, np.ndarray]]:
+        """Example locations for cells of column ``j`` (text formatted only for those cells)."""
         rows, col = self.grid.rows, self.header[j]
-        txt = self.text(j)
-        self.tally.add(reason, np.ones(n, dtype=bool),
-                       lambda i: (rows[i], np.full(i.size, col, dtype=object), txt.to_numpy()[i]))
+
+        def locate(i: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+            cells = self.grid.columns[j].iloc[i].reset_index(drop=True)
+            txt = cells.astype("str").fillna("").str.strip() if not pd.api.types.is_datetime64_any_dtype(cells.dtype) \
+                else pd.Series(pd.DatetimeIndex(cells).strftime("%Y-%m-%d"), dtype="str").fillna("")
+            return rows[i], np.full(i.size, col, dtype=object), txt.to_numpy()
+
+        return locate
+
+    def whole_column(self, j: int, reason: Reason) -> None:
+        self.tally.add(reason, np.ones(self.grid.n_rows, dtype=bool), self.locator(j))
 
 
 # -- helpers --------------------------------------------------------------------------
@@ -151,6 +159,7 @@ def _decimal(ctx: _Ctx, cols: Sequence[int]) -> tuple[str, str]:
 
 
 def _frequency(dates: np.ndarray) -> str | None:
+    """Frequency label from the median spacing of the distinct dates."""
     u = np.unique(dates[~np.isnat(dates)])
     if u.size == 0:
         return None
@@ -285,7 +294,7 @@ def _date_column(ctx: _Ctx, avail: list[int]) -> tuple[int, bool]:
                       hint="Set date_column to the column that holds the dates.")
 
 
-def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, object]]:
+def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, Any]]:
     o, g = ctx.options, ctx.grid
     d, serial = _date_column(ctx, avail)
     rest = [j for j in avail if j != d]
@@ -330,10 +339,9 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
 
     # dates
     dres = parse_dates(ctx.col(d), o.date_order, allow_serial=serial, rows=g.rows)
-    date_txt = ctx.text(d)
     ctx.tally.add_parsed(int((dres.status == 0).sum()))
-    ctx.tally.add(Reason.BLANK, dres.status == 1, lambda i: (g.rows[i], np.full(i.size, ctx.header[d], dtype=object), date_txt.to_numpy()[i]))
-    ctx.tally.add(Reason.UNPARSEABLE_DATE, dres.status == 3, lambda i: (g.rows[i], np.full(i.size, ctx.header[d], dtype=object), date_txt.to_numpy()[i]))
+    ctx.tally.add(Reason.BLANK, dres.status == 1, ctx.locator(d))
+    ctx.tally.add(Reason.UNPARSEABLE_DATE, dres.status == 3, ctx.locator(d))
     if dres.ambiguous:
         ctx.notes.append(f"dates are ambiguous: {dres.order_reason}")
     date_ok = dres.status == 0
@@ -357,22 +365,22 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
     rowpos = np.tile(np.arange(n), len(vcols))
     ok = final == nb.PARSED
     final[ok & ~date_ok[rowpos]] = _NODATE
-    sec_ids: np.ndarray | None = None
     if sec is not None:
         raw_ids = ctx.text(sec)
         codes, uniq = pd.factorize(raw_ids)
         cleaned, misses = clean_ids(pd.Series(np.asarray(uniq, dtype=object), dtype="str"), o)
         if misses:
             ctx.notes.append(f"{misses} distinct identifiers did not match id_regex and were kept as written")
-        sec_ids = cleaned.to_numpy(dtype=object)[codes]
-        sec_blank = sec_ids == ""
+        ccodes, id_table = pd.factorize(cleaned, sort=True)
+        cell_code = ccodes[codes] if len(codes) else np.zeros(0, dtype=np.int64)
+        blank_code = np.flatnonzero(np.asarray(id_table, dtype=object) == "")
+        sec_blank = np.isin(cell_code, blank_code)
         ctx.tally.add_parsed(int((~sec_blank).sum()))
-        ctx.tally.add(Reason.BLANK, sec_blank, lambda i: (g.rows[i], np.full(i.size, ctx.header[sec], dtype=object), raw_ids.to_numpy()[i]))  # type: ignore[index]
+        ctx.tally.add(Reason.BLANK, sec_blank, ctx.locator(sec))
         ok = final == nb.PARSED
         final[ok & sec_blank[rowpos]] = _NOSEC
-        ids_per_cell = sec_ids
     else:
-        names = pd.Series([ctx.header[j] for j in vcols], dtype="str")
+        names = pd.Series([ctx.header[j] for j in vcols], dtype="str") if layout == "wide" else pd.Series([""], dtype="str")
         cleaned, misses = clean_ids(names, o)
         if misses:
             ctx.notes.append(f"{misses} column names did not match id_regex and were kept as written")
@@ -386,70 +394,74 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
                                   row=g.header_row, column=ctx.header[j], hint="Remove the extra column, or set duplicate_rule='last'.")
             ctx.notes.append(f"securities with more than one column: {', '.join(map(repr, twice[:10]))}; "
                              f"the {o.duplicate_rule} valid value per date wins")
-        ids_per_cell = None
+        ccodes, id_table = pd.factorize(cleaned, sort=True)
+        cell_code = ccodes
 
-    # tidy entries and duplicates
+    # tidy entries (integer keys) and duplicates
     valid = np.flatnonzero(final == nb.PARSED)
     ii = valid % n if n else valid
     jj = valid // n if n else valid
-    if sec is not None:
-        sec_of = sec_ids[ii]  # type: ignore[index]
-    elif layout == "series":
-        sec_of = np.full(valid.size, "", dtype=object)
-    else:
-        sec_of = col_ids[jj]
-    tidy = pd.DataFrame({"date": dres.dates[ii], "security": pd.Series(sec_of, dtype="str"), "value": vals[valid]})
-    dup = tidy.duplicated(["date", "security"], keep="first" if o.duplicate_rule == "first" else "last").to_numpy()
-    if dup.any():
+    sec_v = (cell_code[ii] if sec is not None else cell_code[jj]).astype(np.int64)
+    date_ns = dres.dates.astype("datetime64[ns]").view(np.int64)
+    dcodes, dvals = pd.factorize(date_ns[ii], sort=True)
+    key = sec_v * max(len(dvals), 1) + dcodes.astype(np.int64)
+    order = np.argsort(key, kind="stable")  # by security, then date, then file order
+    ks = key[order]
+    same_next = np.zeros(ks.size, dtype=bool)
+    if ks.size > 1:
+        same_next[:-1] = ks[:-1] == ks[1:]
+    same_prev = np.zeros(ks.size, dtype=bool)
+    same_prev[1:] = same_next[:-1]
+    drop = same_prev if o.duplicate_rule == "first" else same_next
+    if drop.any():
         if o.duplicate_rule == "error":
-            later = tidy.duplicated(["date", "security"], keep="first").to_numpy()
-            k = int(np.flatnonzero(later)[0])
-            when = pd.Timestamp(tidy["date"].iloc[k]).strftime("%Y-%m-%d")
-            who = f"security {tidy['security'].iloc[k]!r} " if layout != "series" else ""
+            k = int(order[same_prev].min())  # the earliest entry (in file order) that repeats another
+            when = pd.Timestamp(dres.dates[ii[k]]).strftime("%Y-%m-%d")
+            who = f"security {id_table[sec_v[k]]!r} " if layout != "series" else ""
             raise IntakeError(ctx.name, Reason.DUPLICATE_ENTRY, f"{who}has more than one value for {when}.",
                               row=int(g.rows[ii[k]]), column=ctx.header[vcols[jj[k]]],
                               hint="Remove the duplicate, or set duplicate_rule='last' (or 'first').")
-        final[valid[dup]] = _DUP
-        dd = pd.Series(dres.dates[date_ok])
-        n_dup_dates = int(dd.duplicated().sum())
-        ctx.notes.append(f"{int(dup.sum())} duplicate entries resolved ({o.duplicate_rule} wins)"
+        final[valid[order[drop]]] = _DUP
+        n_dup_dates = int(pd.Series(date_ns[date_ok]).duplicated().sum())
+        ctx.notes.append(f"{int(drop.sum())} duplicate entries resolved ({o.duplicate_rule} wins)"
                          + (f"; {n_dup_dates} date row(s) repeat an earlier date" if n_dup_dates else ""))
-        tidy = tidy[~dup]
+    keep = order[~drop]
+    ids = pd.Series(pd.array(np.asarray(id_table, dtype=object), dtype="str")).take(sec_v[keep]).reset_index(drop=True)
+    tidy = pd.DataFrame({"date": dres.dates[ii[keep]], "security": ids, "value": vals[valid[keep]]})
     _tally_values(ctx, final, vcols, stacked)
 
     # report fields
+    value_form: str | None = None
     if kind == "earnings":
-        form = o.earnings_form if o.earnings_form != "auto" else None
+        form: str | None = o.earnings_form if o.earnings_form != "auto" else None
         src = ctx.header[vcols[0]] if layout != "wide" else ctx.name
         if form is None:
             form = infer_earnings_form(src) or infer_earnings_form(ctx.name) or "eps"
-            ctx.notes.append(f"earnings read as {form.upper()} (" + ("from the header/file name" if infer_earnings_form(src) or infer_earnings_form(ctx.name) else "assumed; set earnings_form='pe' if these are P/E ratios") + ")")
-        value_form: str | None = form
+            ctx.notes.append(f"earnings read as {str(form).upper()} (" + ("from the header/file name" if infer_earnings_form(src) or infer_earnings_form(ctx.name) else "assumed; set earnings_form='pe' if these are P/E ratios") + ")")
+        value_form = form
     else:
         value_form = None
     suspects: tuple[str, ...] = ()
     if layout == "wide":
         suspects = tuple(ctx.header[j] for j in vcols if looks_like_index(ctx.header[j]))
     elif sec is not None:
-        suspects = tuple(sorted(s for s in tidy["security"].unique() if looks_like_index(s)))
+        suspects = tuple(sorted(str(s) for s in id_table if looks_like_index(str(s))))
     for s in suspects:
         ctx.notes.append(f"{s!r} looks like an index, composite or benchmark rather than a security; "
                          f"add it to exclude_columns if it is not one")
-    tidy = tidy.sort_values(["security", "date"], kind="stable").reset_index(drop=True)
-    dates = tidy["date"].to_numpy()
     if kind == "benchmark":
         out = tidy[["date", "value"]].reset_index(drop=True)
     elif kind == "dividends":
         out = tidy.rename(columns={"date": "ex_date", "value": "amount"})[["security", "ex_date", "amount"]]
     else:
         out = tidy
-    extra: dict[str, object] = dict(
+    extra: dict[str, Any] = dict(
         layout=layout if layout != "series" else "long",
         date_column=ctx.header[d], date_order=dres.order, date_order_reason=dres.order_reason,
-        decimal=decimal, n_securities=int(tidy["security"].nunique()) if kind != "benchmark" else 0,
-        first_date=pd.Timestamp(dates.min()) if dates.size else None,
-        last_date=pd.Timestamp(dates.max()) if dates.size else None,
-        frequency=_frequency(dates) if kind != "dividends" else "events", security_column=ctx.header[sec] if sec is not None else None,
+        decimal=decimal, n_securities=int((np.bincount(sec_v[keep], minlength=1) > 0).sum()) if kind != "benchmark" and keep.size else 0,
+        first_date=pd.Timestamp(dvals.min()) if keep.size else None,
+        last_date=pd.Timestamp(dvals.max()) if keep.size else None,
+        frequency=_frequency(dvals.astype("datetime64[ns]")) if kind != "dividends" else "events", security_column=ctx.header[sec] if sec is not None else None,
         value_column=ctx.header[vcols[0]] if layout != "wide" else None, value_form=value_form,
         suspect_columns=suspects, date_ambiguous=dres.ambiguous,
     )
@@ -472,7 +484,7 @@ def _tally_values(ctx: _Ctx, final: np.ndarray, vcols: Sequence[int], stacked: p
 
 
 # -- record kinds --------------------------------------------------------------------------
-def _records(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, object]]:
+def _records(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, Any]]:
     o, g = ctx.options, ctx.grid
     if o.security_column:
         s = _find(ctx, o.security_column, "security_column")
@@ -501,7 +513,7 @@ def _records(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict
     sec_blank = (ids == "").to_numpy(dtype=bool)
     rows = g.rows
     ctx.tally.add_parsed(int((~sec_blank).sum()))
-    ctx.tally.add(Reason.BLANK, sec_blank, lambda i: (rows[i], np.full(i.size, ctx.header[s], dtype=object), raw_ids.to_numpy()[i]))
+    ctx.tally.add(Reason.BLANK, sec_blank, ctx.locator(s))
     value_form: str | None = None
     decimal = "point"
     if kind == "holdings":
@@ -544,7 +556,7 @@ def _records(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict
         out = pd.DataFrame({"security": frame["security"].to_numpy(), "sector": pd.Series(frame["v"].to_numpy(), dtype="str").str.strip().to_numpy()})
         out = out.astype({"sector": "str"})
     out = out.astype({"security": "str"}).sort_values("security", kind="stable").reset_index(drop=True)
-    extra: dict[str, object] = dict(
+    extra: dict[str, Any] = dict(
         layout="records", date_column=None, date_order=None, date_order_reason=None,
         decimal=decimal if kind == "holdings" else None,
         n_securities=int(out["security"].nunique()), first_date=None, last_date=None, frequency=None,

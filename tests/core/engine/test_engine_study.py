@@ -80,6 +80,10 @@ def test_config_normalises_and_is_frozen() -> None:
         c.n_quantiles = 10  # type: ignore[misc]
     d = c.to_dict()
     assert d["horizons"] == [1, 3, 12] and json.dumps(d)
+    assert StudyConfig.from_dict(json.loads(json.dumps(d))) == c
+    assert hash(c) == hash(StudyConfig.from_dict(d))  # usable as a cache key
+    with pytest.raises(ConfigError, match="n_quantile"):
+        StudyConfig.from_dict({"n_quantile": 5})
 
 
 def test_degenerate_fewer_names_than_quantiles_everywhere() -> None:
@@ -285,3 +289,70 @@ def test_progress_is_reported(panel) -> None:  # type: ignore[no-untyped-def]
     run_study(panel, StudyConfig(horizons=(1,), min_breadth=5), progress=lambda s, f: seen.append((s, f)))
     fr = [f for _, f in seen]
     assert fr == sorted(fr) and fr[0] == 0.0 and seen[-1] == ("done", 1.0)
+
+
+def test_rank_ic_unchanged_under_monotone_transform_of_user_signal(panel) -> None:  # type: ignore[no-untyped-def]
+    # Spearman's rho depends only on ranks; order-statistic winsorising and z-scoring keep the order,
+    # so an increasing transform of the signal leaves every rank IC and quantile unchanged.
+    base = panel.signals[0]
+    tr = type(base)(base.name, np.exp(2.0 * base.values) + 3.0, base.higher_is_cheaper)
+    cfg = StudyConfig(signal=base.name, horizons=(1, 3), min_breadth=5)
+    a = run_study(panel, cfg)
+    b = run_study(panel.with_(signals=(tr,)), cfg)
+    pd.testing.assert_frame_equal(a.rank_ic, b.rank_ic, atol=1e-12, rtol=0)
+    pd.testing.assert_frame_equal(a.quantile, b.quantile, check_exact=True)
+
+
+def test_result_frames_do_not_share_memory(panel) -> None:  # type: ignore[no-untyped-def]
+    res = run_study(panel, StudyConfig(horizons=(1,), min_breadth=5))
+    before = res.zscore.iloc[5, 3]
+    sz = res.signal_z.copy()
+    assert np.isfinite(before)
+    assert not np.shares_memory(res.signal_z.to_numpy(), res.zscore.to_numpy())
+    pd.testing.assert_frame_equal(sz, res.zscore)
+
+
+def test_quantile_growth_compounds_monthly_quantile_returns(result: StudyResult) -> None:
+    g = result.quantile_growth
+    assert list(g.columns) == [1, 2, 3, 4, 5] and len(g) == len(result.signal_z) - 1
+    # with no delistings, the 1-month forward return is the monthly return: compare quantile 5
+    r1 = result.quantile_returns[1][5].to_numpy()[:-1]
+    np.testing.assert_allclose(g[5].to_numpy(), np.cumprod(1 + np.nan_to_num(r1)), rtol=1e-12)
+
+
+def test_degenerate_signal_without_spread() -> None:
+    p = make_panel(n_dates=24, n_sec=20, seed=6)
+    flat = p.with_(dividends=p.dividends.iloc[0:0])  # no events: every yield is 0
+    with pytest.raises(InsufficientDataError, match="different signal values"):
+        run_study(flat, StudyConfig(signal="dividend_yield", horizons=(1,)))
+
+
+def test_headline_ic_t_is_newey_west_from_statsmodels(result: StudyResult) -> None:
+    # statsmodels OLS on a constant with cov_type="HAC" (Bartlett, use_correction False) is the outside reference.
+    import statsmodels.api as sm
+
+    from core.stats import hac_lags
+
+    for h in (1, 3, 12):
+        x = result.rank_ic[h].dropna().to_numpy()
+        lags = hac_lags(h, x.size, "overlap_or_auto")
+        assert result.ic_summary.loc[h, "hac_lags"] == lags
+        fit = sm.OLS(x, np.ones_like(x)).fit(cov_type="HAC", cov_kwds={"maxlags": lags})
+        assert result.ic_summary.loc[h, "mean_ic"] == pytest.approx(fit.params[0], abs=1e-12)
+        assert result.ic_summary.loc[h, "se_hac"] == pytest.approx(fit.bse[0], rel=1e-9)
+        assert summary_dict(result)["horizons"][str(h)]["ic_t"] == pytest.approx(fit.tvalues[0], rel=1e-9)
+        s = result.spread[h].dropna().to_numpy()
+        fit_s = sm.OLS(s, np.ones_like(s)).fit(cov_type="HAC", cov_kwds={"maxlags": hac_lags(h, s.size)})
+        assert result.spread_summary.loc[h, "t_hac"] == pytest.approx(fit_s.tvalues[0], rel=1e-9)
+
+
+def test_backtest_stats_are_consistent_with_returns(result: StudyResult) -> None:
+    from core.stats import max_drawdown, sharpe_ratio
+
+    bt = result.backtest
+    r = bt.returns["cheapest"].dropna().to_numpy()
+    assert bt.stats.loc["cheapest", "sharpe"] == pytest.approx(sharpe_ratio(r, bt.risk_free_monthly))
+    assert bt.stats.loc["cheapest", "max_drawdown"] == pytest.approx(max_drawdown(r))
+    assert bt.stats.loc["cheapest", "ann_return"] == pytest.approx(np.prod(1 + r) ** (12 / r.size) - 1)
+    assert bt.growth["cheapest"].iloc[-1] == pytest.approx(np.prod(1 + r))
+    assert -bt.drawdown["cheapest"].min() == pytest.approx(max_drawdown(r))

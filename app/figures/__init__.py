@@ -1,0 +1,1 @@
+"""Pure figure functions (result in, plotly figure out) on one shared template."""

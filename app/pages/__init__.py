@@ -1,0 +1,1 @@
+"""Pages of the dashboard (Dash pages pattern): Data, Study, Screen and Company."""

@@ -1,0 +1,284 @@
+"""Data page: upload files, read each intake report, adjust how a file is read, check coverage and splits."""
+
+from __future__ import annotations
+
+import base64
+import binascii
+from typing import Any
+
+import dash
+from dash import ALL, Input, Output, State, ctx, dcc, html, no_update
+from dash.exceptions import PreventUpdate
+
+from app.components.common import GRAPH_CONFIG, text_table
+from app.components.intake_view import dataset_card, options_from_controls
+from app.figures.data import coverage_figure
+from app.jobs_ui import alert
+from app.services import normalise_selection, state
+from core.errors import ValueSiftError
+from core.intake import ReadOptions
+
+dash.register_page(__name__, path="/data", name="Data", order=0, title="ValueSift - Data")
+
+P = "data"
+_SINGLE = {"prices", "earnings", "dividends", "sectors", "holdings", "benchmark", "market_cap"}
+
+
+def layout(**_: Any) -> html.Div:
+    max_bytes = state().max_upload_bytes
+    return html.Div(className="vs-page", children=[
+        html.H1("Data"),
+        html.P("Drop your price, earnings, dividend, sector, holdings and benchmark files here (CSV, XLSX or "
+               "Parquet; several at once). Each file is read at once and its report shown below; nothing is "
+               "sent anywhere but this computer.", className="vs-lead"),
+        dcc.Store(id=f"{P}-version", data=0),
+        dcc.Upload(id=f"{P}-upload", multiple=True, max_size=max_bytes, className="vs-upload",
+                   className_active="vs-upload-active",
+                   children=html.Div(["Drag and drop files here, or ", html.Span("choose files", className="vs-link"),
+                                      html.Div(f"up to {max_bytes / 1024 / 1024:.0f} MB per upload", className="vs-hint")])),
+        dcc.Loading(html.Div(id=f"{P}-upload-alert"), type="dot"),
+        html.H2("Your files"),
+        html.Div(id=f"{P}-cards"),
+        html.H2("The combined panel"),
+        html.Div(id=f"{P}-panel-alert"),
+        html.Div(id=f"{P}-panel-summary"),
+        html.Div(className="vs-card vs-chart", children=[dcc.Loading(dcc.Graph(id=f"{P}-coverage", config=GRAPH_CONFIG),
+                                                                     type="dot")]),
+        html.H2("Suspected unadjusted splits"),
+        html.Div(id=f"{P}-splits"),
+        html.Div(className="vs-row", children=[
+            dcc.Checklist(id=f"{P}-split-pick", options=[], value=[], className="vs-split-pick"),
+            html.Button("Apply the adjustment to the confirmed splits", id=f"{P}-apply-splits", n_clicks=0,
+                        className="vs-button"),
+        ]),
+    ])
+
+
+def _out(sel: dict[str, list[str]]) -> dict[str, Any]:
+    st = state()
+    st.workspace.set_setting("selection", sel)
+    return {**sel, "instance": st.instance}
+
+
+def _with(sel: dict[str, list[str]], rec: Any) -> dict[str, list[str]]:
+    """Put a dataset in use; it replaces another of the same kind (except user signals)."""
+    ws = state().workspace
+    ids = []
+    for i in sel["ids"]:
+        try:
+            other = ws.get(i)
+        except KeyError:
+            continue
+        if rec.kind in _SINGLE and other.kind == rec.kind and other.id != rec.id:
+            continue
+        ids.append(i)
+    if rec.id not in ids:
+        ids.append(rec.id)
+    return {"ids": ids, "splits": sel["splits"]}
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
+    Output(f"{P}-upload-alert", "children"), Output(f"{P}-upload", "contents"),
+    Input(f"{P}-upload", "contents"), State(f"{P}-upload", "filename"), State("vs-selection", "data"),
+    State(f"{P}-version", "data"),
+    prevent_initial_call=True,
+)
+def _upload(contents: Any, names: Any, sel_raw: Any, version: Any) -> Any:
+    if not contents:
+        raise PreventUpdate
+    st = state()
+    contents = contents if isinstance(contents, list) else [contents]
+    names = names if isinstance(names, list) else [names]
+    sel = normalise_selection(sel_raw)
+    messages = []
+    for content, name in zip(contents, names):
+        name = str(name or "upload")
+        try:
+            raw = base64.b64decode(str(content).split(",", 1)[1], validate=False)
+        except (IndexError, binascii.Error):
+            messages.append(alert(f"{name}: the upload arrived damaged; please drop the file again."))
+            continue
+        rec = st.workspace.add_upload(name, raw, ReadOptions(max_bytes=st.max_upload_bytes))
+        if rec.ok:
+            sel = _with(sel, rec)
+        else:
+            messages.append(alert(rec.error or f"{name} could not be read."))
+    ok = len(contents) - len(messages)
+    if ok:
+        messages.insert(0, alert(f"Read {ok} of {len(contents)} file(s); their reports are below.", "info"))
+    return _out(sel), int(version or 0) + 1, messages, None
+
+
+@dash.callback(
+    Output(f"{P}-cards", "children"),
+    Input(f"{P}-version", "data"), Input("vs-selection", "data"),
+)
+def _cards(_v: Any, sel_raw: Any) -> Any:
+    st = state()
+    sel = normalise_selection(sel_raw)
+    recs = st.workspace.records()
+    if not recs:
+        return html.P("No files yet.", className="vs-hint")
+    return [dataset_card(r, r.id in sel["ids"]) for r in recs]
+
+
+def _triggered(values: list[Any]) -> str:
+    tid = ctx.triggered_id
+    if not isinstance(tid, dict) or not ctx.triggered or not ctx.triggered[0].get("value"):
+        raise PreventUpdate
+    return str(tid["id"])
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
+    Output(f"{P}-upload-alert", "children", allow_duplicate=True),
+    Input({"type": "ds-reread", "id": ALL}, "n_clicks"),
+    State({"type": "ds-reread", "id": ALL}, "id"),
+    State({"type": "ds-kind", "id": ALL}, "value"), State({"type": "ds-layout", "id": ALL}, "value"),
+    State({"type": "ds-header", "id": ALL}, "value"), State({"type": "ds-dates", "id": ALL}, "value"),
+    State({"type": "ds-decimal", "id": ALL}, "value"), State({"type": "ds-idclean", "id": ALL}, "value"),
+    State({"type": "ds-idregex", "id": ALL}, "value"), State({"type": "ds-exclude", "id": ALL}, "value"),
+    State({"type": "ds-signame", "id": ALL}, "value"), State({"type": "ds-direction", "id": ALL}, "value"),
+    State("vs-selection", "data"), State(f"{P}-version", "data"),
+    prevent_initial_call=True,
+)
+def _reread(clicks: Any, ids: Any, kinds: Any, layouts: Any, headers: Any, dates: Any, decimals: Any,
+            cleans: Any, regexes: Any, excludes: Any, signames: Any, directions: Any, sel_raw: Any,
+            version: Any) -> Any:
+    did = _triggered(clicks)
+    j = [i["id"] for i in ids].index(did)
+    st = state()
+    old = st.workspace.get(did)
+    try:
+        opts = options_from_controls(old.options, kinds[j], layouts[j], headers[j], dates[j], decimals[j],
+                                     cleans[j], regexes[j], excludes[j], signames[j], directions[j])
+    except ValueSiftError as err:
+        return no_update, no_update, alert(str(err))
+    return _reread_with(did, opts, sel_raw, version)
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
+    Output(f"{P}-upload-alert", "children", allow_duplicate=True),
+    Input({"type": "ds-drop-suspects", "id": ALL}, "n_clicks"),
+    State("vs-selection", "data"), State(f"{P}-version", "data"),
+    prevent_initial_call=True,
+)
+def _drop_suspects(clicks: Any, sel_raw: Any, version: Any) -> Any:
+    did = _triggered(clicks)
+    old = state().workspace.get(did)
+    rep = old.report or {}
+    sus = rep.get("suspect_columns") or {}
+    sus = sus.get("__tuple__", []) if isinstance(sus, dict) else list(sus)
+    cols = tuple(dict.fromkeys([*old.options.exclude_columns, *map(str, sus)]))
+    from dataclasses import replace
+
+    return _reread_with(did, replace(old.options, exclude_columns=cols), sel_raw, version)
+
+
+def _reread_with(did: str, opts: Any, sel_raw: Any, version: Any) -> Any:
+    st = state()
+    rec = st.workspace.reread(did, opts)
+    sel = normalise_selection(sel_raw)
+    sel = {"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}
+    msg = alert(f"{rec.name} was read again.", "info")
+    if rec.ok:
+        sel = _with(sel, rec)
+    else:
+        msg = alert(rec.error or f"{rec.name} could not be read.")
+    return _out(sel), int(version or 0) + 1, msg
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
+    Input({"type": "ds-delete", "id": ALL}, "n_clicks"),
+    State("vs-selection", "data"), State(f"{P}-version", "data"),
+    prevent_initial_call=True,
+)
+def _delete(clicks: Any, sel_raw: Any, version: Any) -> Any:
+    did = _triggered(clicks)
+    st = state()
+    try:
+        st.workspace.delete(did)
+    except KeyError:
+        raise PreventUpdate
+    sel = normalise_selection(sel_raw)
+    return _out({"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}), int(version or 0) + 1
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True),
+    Input({"type": "ds-use", "id": ALL}, "value"), State({"type": "ds-use", "id": ALL}, "id"),
+    State("vs-selection", "data"),
+    prevent_initial_call=True,
+)
+def _use(values: Any, ids: Any, sel_raw: Any) -> Any:
+    if not isinstance(ctx.triggered_id, dict):
+        raise PreventUpdate
+    sel = normalise_selection(sel_raw)
+    did = str(ctx.triggered_id["id"])
+    on = bool(values[[i["id"] for i in ids].index(did)])
+    if on == (did in sel["ids"]):
+        raise PreventUpdate
+    ws = state().workspace
+    if on:
+        try:
+            new = _with(sel, ws.get(did))
+        except KeyError:
+            raise PreventUpdate
+    else:
+        new = {"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}
+    return _out(new)
+
+
+@dash.callback(
+    Output(f"{P}-coverage", "figure"), Output(f"{P}-panel-summary", "children"), Output(f"{P}-panel-alert", "children"),
+    Output(f"{P}-splits", "children"), Output(f"{P}-split-pick", "options"), Output(f"{P}-split-pick", "value"),
+    Input("vs-selection", "data"), Input(f"{P}-version", "data"),
+)
+def _panel_view(sel_raw: Any, _v: Any) -> Any:
+    from app.figures._common import message_figure
+
+    st = state()
+    sel = normalise_selection(sel_raw)
+    empty = message_figure("Coverage", "Put a price file in use to see the coverage of the panel.")
+    if not st.usable_ids(sel):
+        return empty, None, alert("No file is in use yet.", "info"), None, [], []
+    try:
+        panel = st.panel(sel)
+    except ValueSiftError as err:
+        return empty, None, alert(str(err)), None, [], []
+    rep = panel.report
+    summary: list[Any] = []
+    if rep is not None:
+        sec = rep.securities
+        flags: dict[str, int] = {}
+        for f in sec["flags"].fillna("").astype(str):
+            for x in filter(None, f.split(";")):
+                flags[x] = flags.get(x, 0) + 1
+        summary.append(text_table([(k.replace("_", " "), v) for k, v in sorted(flags.items())],
+                                  ["flag", "securities"]))
+        if rep.panel_notes:
+            summary.append(html.Ul([html.Li(n) for n in rep.panel_notes], className="vs-notes-list"))
+    splits = rep.suspected_splits if rep is not None else None
+    if splits is None or splits.empty:
+        return coverage_figure(panel), summary, None, html.P("None found.", className="vs-hint"), [], []
+    rows = [(r["security"], str(r["date"])[:10], f"{float(r['ratio']):g}",
+             "applied" if bool(r["applied"]) else "not applied") for _, r in splits.iterrows()]
+    table = text_table(rows, ["security", "month", "ratio", "adjustment"])
+    opts = [{"label": f"confirm {r['security']} ({float(r['ratio']):g} for 1 on {str(r['date'])[:10]})",
+             "value": str(r["security"])} for _, r in splits.iterrows()]
+    return coverage_figure(panel), summary, None, table, opts, list(sel["splits"])
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True),
+    Input(f"{P}-apply-splits", "n_clicks"), State(f"{P}-split-pick", "value"), State("vs-selection", "data"),
+    prevent_initial_call=True,
+)
+def _apply_splits(n: Any, picked: Any, sel_raw: Any) -> Any:
+    if not n:
+        raise PreventUpdate
+    sel = normalise_selection(sel_raw)
+    return _out({"ids": sel["ids"], "splits": sorted(str(p) for p in (picked or []))})

@@ -1,0 +1,90 @@
+"""JSON-ready summaries of a study result (re-exported by :mod:`core.study`)."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+import pandas as pd
+
+if TYPE_CHECKING:  # pragma: no cover
+    from core.study import StudyResult
+
+__all__ = ["summary_dict", "ic_by_date_frame"]
+
+
+def _f(x: object) -> float | None:
+    v = float(x)  # type: ignore[arg-type]
+    return v if np.isfinite(v) else None
+
+
+def summary_dict(result: "StudyResult") -> dict[str, Any]:
+    """JSON-ready summary of a study.
+
+    Returns
+    -------
+    dict
+        ``{"config": {...}, "signal": str, "horizons": {"<h>": {...}}, "<h>": {...}, "backtest": {...}}``
+        (each horizon's block appears under ``"horizons"`` and, identically, at the top level);
+        per horizon ``mean_ic``, ``ic_t`` (HAC), ``ic_se``, ``ic_lags``,
+        ``ic_ci_low``, ``ic_ci_high``, ``ic_ir``, ``hit_share``, ``n_dates``,
+        ``mean_pearson_ic``, ``spread`` (mean over dates of the highest-signal
+        quantile's h-month forward return minus the lowest-signal quantile's,
+        not annualised), ``spread_t`` (HAC), ``spread_annualised``,
+        ``monotonicity``, ``fm_slope``, ``fm_t`` (HAC).  NaN becomes ``None``.
+    """
+    out: dict[str, Any] = {"config": result.config.to_dict(), "signal": result.signal_name, "horizons": {}}
+    ic, sp, fm = result.ic_summary, result.spread_summary, result.fm_summary
+    for h in result.config.horizons:
+        out["horizons"][str(h)] = {
+            "mean_ic": _f(ic.at[h, "mean_ic"]),
+            "ic_t": _f(ic.at[h, "t_hac"]),
+            "ic_se": _f(ic.at[h, "se_hac"]),
+            "ic_lags": int(ic.at[h, "hac_lags"]),  # type: ignore[arg-type]
+            "ic_ci_low": _f(ic.at[h, "ci_low"]),
+            "ic_ci_high": _f(ic.at[h, "ci_high"]),
+            "ic_ir": _f(ic.at[h, "ic_ir"]),
+            "hit_share": _f(ic.at[h, "hit_share"]),
+            "n_dates": int(ic.at[h, "n_dates"]),  # type: ignore[arg-type]
+            "mean_pearson_ic": _f(ic.at[h, "mean_pearson_ic"]),
+            "spread": _f(sp.at[h, "mean"]),
+            "spread_t": _f(sp.at[h, "t_hac"]),
+            "spread_annualised": _f(sp.at[h, "mean_annualised"]),
+            "monotonicity": _f(sp.at[h, "monotonicity"]),
+            "fm_slope": _f(fm.at[h, "mean_slope"]),
+            "fm_t": _f(fm.at[h, "t_hac"]),
+        }
+    st = result.backtest.stats
+    out["backtest"] = {
+        "holding_months": result.backtest.holding_months,
+        "comparison": result.backtest.comparison,
+        "cohort_share_beat": _f(result.backtest.cohort_share_beat),
+        "portfolios": {p: {c: _f(st.at[p, c]) for c in st.columns} for p in st.index},
+    }
+    # The same per-horizon blocks also sit at the top level under their horizon
+    # key ("1", "3", ...), so ``summary["12"]["mean_ic"]`` works as documented in README.
+    for key, block in out["horizons"].items():
+        out[key] = block
+    out["excluded_dates"] = int(len(result.date_notes))
+    out["notes"] = list(result.notes)
+    return out
+
+
+def ic_by_date_frame(result: "StudyResult") -> pd.DataFrame:
+    """One row per signal date and horizon: ``date`` (ISO text), ``horizon``, ``rank_ic``, ``pearson_ic``, ``breadth``.
+
+    Dates without a forward return for the horizon (the last h dates) are left out;
+    dates below the minimum breadth stay in with NaN ICs.
+    """
+    parts = []
+    n = len(result.rank_ic.index)
+    for h in result.config.horizons:
+        keep = np.arange(n) < n - h
+        parts.append(pd.DataFrame({
+            "date": [d.date().isoformat() for d in result.rank_ic.index[keep]],
+            "horizon": int(h),
+            "rank_ic": result.rank_ic[h].to_numpy(dtype=float)[keep],
+            "pearson_ic": result.pearson_ic[h].to_numpy(dtype=float)[keep],
+            "breadth": result.breadth[h].to_numpy(dtype=int)[keep],
+        }))
+    return pd.concat(parts, ignore_index=True)

@@ -1,0 +1,92 @@
+"""The workspace: atomic, hash-named files and a sqlite catalogue that survives a restart."""
+
+from __future__ import annotations
+
+import os
+import sqlite3
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+from app.workspace import Workspace, options_from_dict, options_to_dict, report_from_dict, report_to_dict
+from core.intake import ReadOptions, read_table
+
+PRICES = b"Date,QZA01,QZB02,Index Level\n31/01/2020,10,20,1000\n29/02/2020,11,n.a.,1010\n31/03/2020,12,22,990\n"
+
+
+def test_upload_is_stored_under_content_hashes(tmp_path: Path) -> None:
+    ws = Workspace(tmp_path)
+    rec = ws.add_upload("../../evil prices.csv", PRICES)
+    assert rec.ok and rec.kind == "prices"
+    files = sorted(p.relative_to(tmp_path).as_posix() for p in tmp_path.rglob("*") if p.is_file())
+    assert f"raw/{rec.sha256}.bin" in files
+    assert f"data/{rec.id}.parquet" in files
+    assert not any("evil" in f for f in files)           # never a path from the uploaded name
+    assert not any(Path(f).name.startswith(".tmp-") for f in files)   # atomic writes leave no temp file
+    assert (tmp_path / "raw" / f"{rec.sha256}.bin").read_bytes() == PRICES
+
+
+def test_catalogue_survives_a_restart(tmp_path: Path) -> None:
+    ws = Workspace(tmp_path)
+    rec = ws.add_upload("prices.csv", PRICES, ReadOptions(exclude_columns=("Index Level",)))
+    direct = read_table(PRICES, name="prices.csv", options=ReadOptions(exclude_columns=("Index Level",)))
+    again = Workspace(tmp_path)                        # a new process would see the same
+    [r] = again.records()
+    assert r.id == rec.id and r.name == "prices.csv" and r.options.exclude_columns == ("Index Level",)
+    pf = again.parsed_file(r.id)
+    pd.testing.assert_frame_equal(pf.data.reset_index(drop=True), direct.data.reset_index(drop=True),
+                                  check_dtype=False)
+    assert pf.report.cells_total == direct.report.cells_total
+    assert pf.report.cells_dropped == direct.report.cells_dropped
+    pd.testing.assert_frame_equal(pf.report.by_reason.astype(str), direct.report.by_reason.astype(str))
+    con = sqlite3.connect(tmp_path / "catalogue.sqlite3")
+    cols = [r[1] for r in con.execute("PRAGMA table_info(datasets)")]
+    con.close()
+    for c in ("id", "name", "kind", "sha256", "size", "uploaded_at", "options_json", "report_json"):
+        assert c in cols
+
+
+def test_reread_uses_kept_bytes_and_new_options(tmp_path: Path) -> None:
+    ws = Workspace(tmp_path)
+    rec = ws.add_upload("prices.csv", PRICES)
+    n_raw = len(list((tmp_path / "raw").iterdir()))
+    new = ws.reread(rec.id, ReadOptions(exclude_columns=("Index Level",)))
+    assert new.id != rec.id
+    assert [r.id for r in ws.records()] == [new.id]
+    assert len(list((tmp_path / "raw").iterdir())) == n_raw
+    assert "Index Level" not in set(ws.parsed_file(new.id).data["security"])
+    assert "Index Level" in set(read_table(PRICES, name="prices.csv").data["security"])
+
+
+def test_failed_upload_keeps_its_error_and_leaves_others_intact(tmp_path: Path) -> None:
+    ws = Workspace(tmp_path)
+    good = ws.add_upload("prices.csv", PRICES)
+    bad = ws.add_upload("empty.csv", b"")
+    assert not bad.ok and bad.error and "empty.csv" in bad.error
+    assert ws.get(good.id).ok and ws.parsed_file(good.id).data.shape[0] > 0
+    with pytest.raises(KeyError):
+        ws.parsed_file(bad.id)
+
+
+def test_delete_removes_unshared_files(tmp_path: Path) -> None:
+    ws = Workspace(tmp_path)
+    rec = ws.add_upload("prices.csv", PRICES)
+    ws.delete(rec.id)
+    assert ws.records() == []
+    assert not any((tmp_path / "raw").iterdir()) and not any((tmp_path / "data").iterdir())
+
+
+def test_options_and_report_round_trip() -> None:
+    o = ReadOptions(kind="prices", exclude_columns=("A", "B"), header_row=3, date_order="dmy")
+    assert options_from_dict(options_to_dict(o)) == o
+    rep = read_table(PRICES, name="prices.csv").report
+    back = report_from_dict(report_to_dict(rep))
+    assert back.first_date == rep.first_date and back.notes == rep.notes and back.cells_total == rep.cells_total
+
+
+def test_settings_are_kept(tmp_path: Path) -> None:
+    ws = Workspace(tmp_path)
+    ws.set_setting("selection", {"ids": ["a"], "splits": []})
+    assert Workspace(tmp_path).get_setting("selection") == {"ids": ["a"], "splits": []}
+    assert os.path.exists(tmp_path / "catalogue.sqlite3")
