@@ -147,6 +147,13 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
             return flask.redirect("/study" if sel.get("ids") else "/data", code=302)
         return None
 
+    @server.after_request
+    def _headers(resp: flask.Response) -> flask.Response:
+        resp.headers.setdefault("X-Content-Type-Options", "nosniff")
+        resp.headers.setdefault("X-Frame-Options", "DENY")
+        resp.headers.setdefault("Referrer-Policy", "no-referrer")
+        return resp
+
     # Take over the callbacks of the page modules now, so a second app in the same process gets its own.
     with server.test_request_context("/"):
         app._setup_server()

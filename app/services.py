@@ -98,9 +98,9 @@ class AppState:
             "CACHE_TYPE": "FileSystemCache",
             "CACHE_DIR": str(workspace.cache_dir),
             "CACHE_DEFAULT_TIMEOUT": 0,
-            "CACHE_THRESHOLD": 64,
+            "CACHE_THRESHOLD": 16,      # results of large universes are big; keep the folder bounded
         })
-        self.results = LRU(8)
+        self.results = LRU(4)
         self.panels = LRU(4)
         self.jobs: dict[str, StudyJob] = {}
         self._jobs_lock = threading.Lock()

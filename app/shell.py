@@ -40,7 +40,17 @@ def layout() -> Any:
 
 
 def register_shell_callbacks(app: dash.Dash) -> None:
-    """Fill an empty or stale selection from the workspace's last selection."""
+    """Mark the current page in the navigation; fill an empty or stale selection from the workspace."""
+
+    pages = [p for p in dash.page_registry.values() if p.get("nav", True) is not False]
+
+    @app.callback(
+        *[Output(f"nav-{p['name'].lower()}", "className") for p in pages],
+        Input("vs-url", "pathname"),
+    )
+    def _active(path: str | None) -> Any:
+        return tuple("vs-nav-link vs-nav-active" if (path or "").startswith(p["relative_path"]) else "vs-nav-link"
+                     for p in pages)
 
     @app.callback(
         Output("vs-selection", "data"),

@@ -6,7 +6,9 @@ back at the end.  Nothing here reads files or mutates the panel.
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any, Callable
+import os
+from concurrent.futures import ThreadPoolExecutor
+from typing import TYPE_CHECKING, Any, Callable, TypeVar
 
 import numpy as np
 import pandas as pd
@@ -15,7 +17,14 @@ from core.backtest import run_backtest
 from core.errors import ConfigError, InsufficientDataError
 from core.evaluate.famamacbeth import fm_slopes
 from core.evaluate.ic import ic_by_date, ic_summary, rolling_ic
-from core.evaluate.quantiles import assign_quantiles, monotonicity, quantile_means, quantile_turnover
+from core.evaluate.quantiles import (
+    _fast_means,
+    _quantile_index,
+    _quantile_masks,
+    assign_quantiles,
+    monotonicity,
+    quantile_turnover,
+)
 from core.panel import Panel, month_end_index
 from core.returns import excess_returns, forward_returns, level_forward_returns, monthly_returns, price_track
 from core.signals import (
@@ -40,6 +49,22 @@ if TYPE_CHECKING:  # pragma: no cover
 __all__ = ["compute_study"]
 
 Progress = Callable[[str, float], None]
+_T = TypeVar("_T")
+
+#: Worker threads for the per-horizon steps (numpy releases the GIL inside its array loops).
+#: ``VALUESIFT_THREADS=1`` runs everything in the calling thread.
+_THREADS = max(1, int(os.environ.get("VALUESIFT_THREADS", "0") or 0) or min(os.cpu_count() or 1, 4))
+#: Below this many cells per array a thread pool costs more than it saves.
+_THREAD_MIN_CELLS = 200_000
+
+
+def _per_horizon(fn: Callable[[int], _T], horizons: tuple[int, ...], cells: int) -> list[_T]:
+    """``[fn(h) for h in horizons]``, on a small thread pool for large panels (same results, same order)."""
+    workers = min(_THREADS, len(horizons))
+    if workers < 2 or cells < _THREAD_MIN_CELLS:
+        return [fn(h) for h in horizons]
+    with ThreadPoolExecutor(max_workers=workers, thread_name_prefix="valuesift-horizon") as pool:
+        return list(pool.map(fn, horizons))
 
 
 def _grid(panel: Panel, notes: list[str]) -> Panel:
@@ -162,23 +187,28 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     div = panel.dividend_matrix().to_numpy(dtype=float) if panel.dividends is not None else np.zeros_like(price)
     track = price_track(price, valid, div)
     bench = panel.benchmark.to_numpy(dtype=float) if panel.benchmark is not None else None
-    fwd: dict[int, np.ndarray] = {}
-    delisted = {}
-    for h in cfg.horizons:
+    cells = t_len * n_sec
+
+    def fwd_one(h: int) -> tuple[np.ndarray, np.ndarray]:
         r, gone = forward_returns(track, valid, h, cfg.dividend_treatment, cfg.delisting_return)
         r = np.where(universe, r, np.nan)
         bf = level_forward_returns(bench, h) if bench is not None else None
-        fwd[h] = excess_returns(r, cfg.excess_over, bf)
-        delisted[h] = (gone & universe).sum(axis=1)
+        return excess_returns(r, cfg.excess_over, bf), (gone & universe).sum(axis=1)
+
+    fwd: dict[int, np.ndarray] = {}
+    delisted = {}
+    for h, (f_h, d_h) in zip(cfg.horizons, _per_horizon(fwd_one, cfg.horizons, cells)):
+        fwd[h], delisted[h] = f_h, d_h
 
     tick("information coefficients", 0.4)
     hcols = pd.Index(list(cfg.horizons), name="horizon")
     ric = np.full((t_len, len(hcols)), np.nan)
     pic = np.full_like(ric, np.nan)
     brd = np.zeros((t_len, len(hcols)), dtype=int)
-    zranks = average_ranks(zeval)
+    zranks = average_ranks(zeval)  # ranked once, shared by every horizon
+    ics = _per_horizon(lambda h: ic_by_date(zeval, fwd[h], cfg.min_breadth, zranks), cfg.horizons, cells)
     for j, h in enumerate(cfg.horizons):
-        ric[:, j], pic[:, j], brd[:, j] = ic_by_date(zeval, fwd[h], cfg.min_breadth, zranks)
+        ric[:, j], pic[:, j], brd[:, j] = ics[j]
         has_fwd = np.arange(t_len) < t_len - h
         low = has_fwd & (brd[:, j] < cfg.min_breadth) & (n_u > 0)
         _note(rows, dates, low, brd[:, j], h, "ic", f"fewer names than min_breadth ({cfg.min_breadth})")
@@ -204,8 +234,11 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     spread = np.full((t_len, len(hcols)), np.nan)
     qmean = np.full((len(hcols), n_q), np.nan)
     srows = []
+    qmasks = _quantile_masks(q, n_q)  # shared by every horizon and the monthly returns
+    qidx = _quantile_index(q, n_q)
+    qms = _per_horizon(lambda h: _fast_means(qidx, fwd[h])[0], cfg.horizons, cells)
     for j, h in enumerate(cfg.horizons):
-        means, _ = quantile_means(q, fwd[h], n_q)
+        means = qms[j]
         qret[h] = pd.DataFrame(means, index=dates, columns=qcols)
         spread[:, j] = means[:, -1] - means[:, 0]
         qmean[j] = row_mean(means.T)
@@ -216,10 +249,10 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
                       "n_dates": int(inf["n_dates"]), "se_naive": inf["se_naive"],
                       "mean_annualised": float(annualise(qmean[j, -1], h) - annualise(qmean[j, 0], h)),
                       "monotonicity": monotonicity(qmean[j])})
-    counts = np.stack([(q == k).sum(axis=1) for k in range(1, n_q + 1)], axis=1)
+    counts = np.stack([qk.sum(axis=1) for qk in qmasks], axis=1)
 
     monthly = monthly_returns(track, cfg.delisting_return)
-    m_q, _ = quantile_means(q, monthly, n_q)
+    m_q, _ = _fast_means(qidx, monthly)
     qgrowth = pd.DataFrame(np.cumprod(1.0 + np.nan_to_num(m_q[:-1], nan=0.0), axis=0),
                            index=pd.DatetimeIndex(dates[1:], name="date"), columns=qcols)
 
@@ -232,8 +265,9 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     groups = codes if cfg.fm_sector_dummies else None
     fm = np.full((t_len, len(hcols)), np.nan)
     frows = []
+    fms = _per_horizon(lambda h: fm_slopes(zeval, fwd[h], controls, groups)[0], cfg.horizons, cells)
     for j, h in enumerate(cfg.horizons):
-        fm[:, j], _ = fm_slopes(zeval, fwd[h], controls, groups)
+        fm[:, j] = fms[j]
         s = fm[:, j][np.isfinite(fm[:, j])]
         inf = mean_inference(s, hac_lags(h, int(s.size), cfg.hac_lag_rule))
         frows.append({"horizon": h, "mean_slope": inf["mean"], "se_hac": inf["se_hac"], "t_hac": inf["t_hac"],

@@ -190,13 +190,14 @@ def run_backtest(
     wd = _overlap(w_dear_c, h)
     wls = wc - wd
     cost = cost_bps / 1e4
+    r_cheap = _port_returns(wc, monthly)
     gross = {
-        "cheapest": _port_returns(wc, monthly),
-        "long_short": _port_returns(wc, monthly) - _port_returns(wd, monthly),
+        "cheapest": r_cheap,
+        "long_short": r_cheap - _port_returns(wd, monthly),
         "universe": _port_returns(w_univ, monthly),
     }
     traded_c = _traded(wc)
-    traded_ls = _traded(wc) + _traded(wd)
+    traded_ls = traded_c + _traded(wd)
     net = dict(gross)
     net["cheapest"] = gross["cheapest"] - cost * traded_c
     net["long_short"] = gross["long_short"] - cost * traded_ls

@@ -122,7 +122,8 @@ def forward_returns(
     gone = (track.last_valid[None, :] < rows + h) & (track.last_valid[None, :] < t - 1)
     ok = valid[start]
     gone &= ok
-    r = np.where(gone, (1.0 + r) * (1.0 + delisting_return) - 1.0, r)
+    if gone.any():  # delistings are few: adjust only those entries (same formula, same numbers)
+        r[gone] = (1.0 + r[gone]) * (1.0 + delisting_return) - 1.0
     out[start] = np.where(ok, r, np.nan)
     delisted[start] = gone
     return out, delisted

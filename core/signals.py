@@ -274,12 +274,13 @@ def sector_zscore(
     out = np.full(x.shape, np.nan)
     small = np.zeros(x.shape, dtype=bool)
     for c in np.unique(codes):
-        in_c = fin & (codes == c)[None, :]
+        cols = np.flatnonzero(codes == c)  # work on the sector's own columns only
+        in_c = fin[:, cols]
         n = in_c.sum(axis=1)
-        z = standardise(np.where(in_c, x, np.nan), sign, method)
+        z = standardise(np.where(in_c, x[:, cols], np.nan), sign, method)
         big = (n >= min_size)[:, None]
-        out = np.where(in_c & big, z, out)
-        small |= in_c & ~big
+        out[:, cols] = np.where(in_c & big, z, np.nan)
+        small[:, cols] = in_c & ~big
     if small.any() and small_rule != "drop":
         universe_z = standardise(x, sign, method)
         if small_rule == "pool":

@@ -198,28 +198,31 @@ def zscore_rows(x: np.ndarray, method: ZScoreMethod = "mean_std", ddof: int = 1)
     values) gives NaN for the whole row, never 0 and never a warning.
     """
     x = np.asarray(x, dtype=float)
+    fin = np.isfinite(x)
+    n = fin.sum(axis=1)
     if method == "mean_std":
-        centre, scale = row_mean(x), row_std(x, ddof=ddof)
+        # row_mean and row_std inlined with one finiteness mask (same operations, same numbers)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            tot = np.where(fin, x, 0.0).sum(axis=1)
+            centre = np.where(n > 0, tot / np.maximum(n, 1), np.nan)
+            d = np.where(fin, x - centre[:, None], 0.0)
+            ss = (d * d).sum(axis=1)
+            scale = np.where(n > ddof, np.sqrt(ss / np.maximum(n - ddof, 1)), np.nan)
+        del d
     else:
         centre = row_median(x)
         scale = MAD_SCALE * _row_mad(x, centre)
     # A constant row can leave a rounding-sized scale: treat a spread below 1e-10 of the
     # values' magnitude as no spread at all.
-    fin = np.isfinite(x)
-    const = _row_constant(np.where(fin, x, np.nan))
-    size = np.where(fin, np.abs(x), 0.0).max(axis=1, initial=0.0)
-    ok = np.isfinite(scale) & (scale > 1e-10 * size) & ~const
-    with np.errstate(invalid="ignore", divide="ignore"):
-        z = (x - centre[:, None]) / np.where(ok, scale, np.nan)[:, None]
-    return np.where(ok[:, None], z, np.nan)
-
-
-def _row_constant(x: np.ndarray) -> np.ndarray:
-    """True where a row has fewer than two distinct finite values."""
-    fin = np.isfinite(x)
     big = np.where(fin, x, -np.inf).max(axis=1, initial=-np.inf)
     small = np.where(fin, x, np.inf).min(axis=1, initial=np.inf)
-    return ~(big > small)
+    const = ~(big > small)
+    # the largest |value| of a row is the larger of |max| and |min| (0 for an empty row)
+    size = np.where(n > 0, np.maximum(np.abs(big), np.abs(small)), 0.0)
+    ok = np.isfinite(scale) & (scale > 1e-10 * size) & ~const
+    with np.errstate(invalid="ignore", divide="ignore"):
+        # a row that is not ok is divided by NaN, so the whole row is NaN
+        return (x - centre[:, None]) / np.where(ok, scale, np.nan)[:, None]
 
 
 def row_pearson(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -236,6 +239,11 @@ def row_pearson(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """
     both = np.isfinite(x) & np.isfinite(y)
     n = both.sum(axis=1)
+    return _masked_pearson(x, y, both, n), n
+
+
+def _masked_pearson(x: np.ndarray, y: np.ndarray, both: np.ndarray, n: np.ndarray) -> np.ndarray:
+    """:func:`row_pearson` given the common-finite mask ``both`` and its row counts ``n``."""
     xm = np.where(both, x, 0.0)
     ym = np.where(both, y, 0.0)
     nn = np.maximum(n, 1)[:, None]
@@ -249,7 +257,7 @@ def row_pearson(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     ok = (n >= 3) & (sxx > 1e-20 * qx) & (syy > 1e-20 * qy) & (sxx > 0) & (syy > 0)
     with np.errstate(invalid="ignore", divide="ignore"):
         r = sxy / np.sqrt(np.where(ok, sxx * syy, 1.0))
-    return np.where(ok, np.clip(r, -1.0, 1.0), np.nan), n
+    return np.where(ok, np.clip(r, -1.0, 1.0), np.nan)
 
 
 def row_spearman(
@@ -261,17 +269,25 @@ def row_spearman(
     ``y`` is finite wherever ``x`` is reuse them instead of ranking again.
     """
     both = np.isfinite(x) & np.isfinite(y)
+    n = both.sum(axis=1)
+    return _masked_spearman(x, y, both, n, x_ranks), n
+
+
+def _masked_spearman(
+    x: np.ndarray, y: np.ndarray, both: np.ndarray, n: np.ndarray, x_ranks: np.ndarray | None
+) -> np.ndarray:
+    """:func:`row_spearman` given the common-finite mask ``both`` and its row counts ``n``."""
     if x_ranks is None:
         rx = average_ranks(np.where(both, x, np.nan))
     else:
         same = (both == np.isfinite(x)).all(axis=1)
-        rx = np.where(same[:, None], np.where(both, x_ranks, np.nan), np.nan)
+        rx = np.where(same[:, None] & both, x_ranks, np.nan)
         redo = ~same
         if redo.any():
             rx[redo] = average_ranks(np.where(both[redo], x[redo], np.nan))
     ry = average_ranks(np.where(both, y, np.nan))
-    r, n = row_pearson(rx, ry)
-    return r, n
+    # the ranks are finite exactly where ``both`` holds
+    return _masked_pearson(rx, ry, both, n)
 
 
 def auto_lags(t: int) -> int:

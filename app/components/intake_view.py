@@ -9,7 +9,7 @@ from dash import dcc, html
 from app.components.common import text_table
 from app.workspace import DatasetRecord
 
-__all__ = ["dataset_card", "KIND_OPTIONS", "options_from_controls"]
+__all__ = ["dataset_card", "card_order", "KIND_OPTIONS", "options_from_controls"]
 
 KIND_OPTIONS = [{"label": k, "value": k} for k in
                 ("prices", "earnings", "dividends", "sectors", "holdings", "benchmark", "market_cap", "signal")]
@@ -111,6 +111,15 @@ def _controls(rec: DatasetRecord) -> html.Div:
     ])
 
 
+_KIND_RANK = {k["value"]: i for i, k in enumerate(KIND_OPTIONS)}
+
+
+def card_order(recs: list[DatasetRecord]) -> list[DatasetRecord]:
+    """Failed reads first (they need attention), then by kind (prices first), newest first within a kind."""
+    by_time = sorted(recs, key=lambda r: r.uploaded_at, reverse=True)
+    return sorted(by_time, key=lambda r: (r.ok, _KIND_RANK.get(r.kind or "", 99)))
+
+
 def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
     """One upload: status, the report (or the error) and the controls to read it differently."""
     head = html.Div(className="vs-card-head", children=[
@@ -128,6 +137,13 @@ def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
         body.append(html.Div(rec.error or "The file could not be read.", className="vs-alert vs-alert-error", role="alert"))
     else:
         r = rec.report or {}
+        suspects = [str(x) for x in _tuple(r.get("suspect_columns")) if str(x) not in rec.options.exclude_columns]
+        if suspects:
+            body.append(html.Div(className="vs-alert vs-alert-info", children=[
+                f"Looks like an index, not a security: {', '.join(suspects)}. ",
+                html.Button(f"Leave out {', '.join(suspects)}", id=_pid("ds-drop-suspects", rec.id), n_clicks=0,
+                            className="vs-button vs-button-small"),
+            ]))
         body.append(text_table(_summary_rows(r), class_name="vs-table vs-kv"))
         cols, rows = _frame_rows(r.get("by_reason"))
         if rows:
@@ -137,13 +153,6 @@ def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
         if rows:
             body.append(html.Details([html.Summary(f"Where (first examples, {len(rows)} shown)"),
                                       text_table(rows, cols)]))
-        suspects = [str(x) for x in _tuple(r.get("suspect_columns")) if str(x) not in rec.options.exclude_columns]
-        if suspects:
-            body.append(html.Div(className="vs-alert vs-alert-info", children=[
-                f"Looks like an index, not a security: {', '.join(suspects)}. ",
-                html.Button(f"Leave out {', '.join(suspects)}", id=_pid("ds-drop-suspects", rec.id), n_clicks=0,
-                            className="vs-button vs-button-small"),
-            ]))
         notes = _tuple(r.get("notes"))
         if notes:
             body.append(html.Ul([html.Li(str(n)) for n in notes], className="vs-notes-list"))

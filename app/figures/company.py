@@ -10,34 +10,39 @@ import plotly.graph_objects as go
 
 from app.figures._common import base_figure, finite_dates, fmt_num, fmt_t, message_figure, month, span
 from app.figures.study import return_label, signal_label
-from app.figures.theme import CHEAP, DEAR, MUTED, NEUTRAL
+from app.figures.theme import CHEAP, DEAR, MUTED, diverging
 from core.evaluate.screen import security_history
 from core.study import StudyResult
 
 __all__ = ["signal_history_figure", "later_returns_figure"]
 
 
-def _bands(result: StudyResult) -> tuple[pd.Series, pd.Series, pd.Series, pd.Series]:
-    """Per date: universe median of the raw signal, the outer quantile breakpoints and the name count."""
+def _bands(result: StudyResult) -> tuple[pd.Series, pd.DataFrame, pd.Series]:
+    """Per date: universe median of the raw signal, the quantile breakpoints (k/q) and the name count."""
     raw = result.signal_raw.to_numpy(dtype=float)
     uni = result.universe.reindex_like(result.signal_raw).fillna(False).to_numpy(dtype=bool)
     x = np.where(uni & np.isfinite(raw), raw, np.nan)
     n = np.isfinite(x).sum(axis=1)
     q = result.config.n_quantiles
+    probs = [k / q for k in range(1, q)]
     med = np.full(x.shape[0], np.nan)
-    lo = np.full(x.shape[0], np.nan)
-    hi = np.full(x.shape[0], np.nan)
+    bps = np.full((x.shape[0], len(probs)), np.nan)
     ok = n >= max(3, q)
     if ok.any():
-        with np.errstate(invalid="ignore"):
-            qs = np.nanquantile(x[ok], [1.0 / q, 0.5, 1.0 - 1.0 / q], axis=1)
-        lo[ok], med[ok], hi[ok] = qs[0], qs[1], qs[2]
+        qs = np.nanquantile(x[ok], [0.5, *probs], axis=1)
+        med[ok] = qs[0]
+        bps[ok] = qs[1:].T
     idx = result.signal_raw.index
-    return pd.Series(med, idx), pd.Series(lo, idx), pd.Series(hi, idx), pd.Series(n, idx)
+    return pd.Series(med, idx), pd.DataFrame(bps, index=idx, columns=probs), pd.Series(n, idx)
+
+
+def _rgba(hex_colour: str, alpha: float) -> str:
+    h = hex_colour.lstrip("#")
+    return f"rgba({int(h[0:2], 16)},{int(h[2:4], 16)},{int(h[4:6], 16)},{alpha})"
 
 
 def signal_history_figure(result: StudyResult, security: str) -> go.Figure:
-    """The company's signal over time against the universe median and the outer quantile breakpoints."""
+    """The company's signal over time against the universe median and the quantile bands."""
     title = f"{security}: {signal_label(result)} against the universe"
     if security not in result.signal_raw.columns:
         return message_figure(title, "This security is not part of the study.")
@@ -45,19 +50,22 @@ def signal_history_figure(result: StudyResult, security: str) -> go.Figure:
     dates = finite_dates(own)
     if len(dates) == 0:
         return message_figure(title, "This security never has a signal value in the study.")
-    med, lo, hi, n = _bands(result)
+    med, bps, n = _bands(result)
     q = result.config.n_quantiles
     last = dates.max()
     qnow = result.quantile.loc[last, security] if security in result.quantile.columns else np.nan
     label = "" if not np.isfinite(qnow) else f"; quantile {int(q - qnow + 1)} of {q} (1 = cheapest) on {month(last)}"
     subtitle = (f"{len(dates)} month-ends with a value ({span(dates)}); universe of {fmt_num(n[n > 0].mean(), 0)} names "
-                f"on average; shaded: between the 1/{q} and {q - 1}/{q} points of the universe{label}")
+                f"on average; bands: the universe's {q} quantiles (blue = cheaper, brown = dearer){label}")
     fig = base_figure(title, subtitle, wide=True)
-    fig.add_trace(go.Scatter(x=hi.index, y=hi.to_numpy(dtype=float), mode="lines", line=dict(width=0, color=NEUTRAL),
-                             name=f"cheapest {100 / q:.0f}% above this", showlegend=False, hoverinfo="skip"))
-    fig.add_trace(go.Scatter(x=lo.index, y=lo.to_numpy(dtype=float), mode="lines", line=dict(width=0, color=NEUTRAL),
-                             fill="tonexty", fillcolor="rgba(173,164,150,0.25)", name="middle of the universe",
-                             hoverinfo="skip"))
+    colours = diverging(q)
+    # The inner quantiles as filled bands between successive breakpoints (the outer two are open-ended).
+    for k in range(bps.shape[1]):
+        y = bps.iloc[:, k].to_numpy(dtype=float)
+        fill = None if k == 0 else "tonexty"
+        fig.add_trace(go.Scatter(x=bps.index, y=y, mode="lines", line=dict(width=0.6, color="rgba(120,112,100,0.5)"),
+                                 fill=fill, fillcolor=_rgba(colours[k], 0.16), hoverinfo="skip",
+                                 name=f"quantile bands ({q})", showlegend=k == 1, legendgroup="bands"))
     fig.add_trace(go.Scatter(x=med.index, y=med.to_numpy(dtype=float), mode="lines", name="universe median",
                              line=dict(color=MUTED, width=2, dash="dash")))
     fig.add_trace(go.Scatter(x=own.index, y=own.to_numpy(dtype=float), mode="lines", name=str(security),

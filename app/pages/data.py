@@ -11,7 +11,7 @@ from dash import ALL, Input, Output, State, ctx, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
 from app.components.common import GRAPH_CONFIG, text_table
-from app.components.intake_view import dataset_card, options_from_controls
+from app.components.intake_view import card_order, dataset_card, options_from_controls
 from app.figures.data import coverage_figure
 from app.jobs_ui import alert
 from app.services import normalise_selection, state
@@ -120,7 +120,7 @@ def _cards(_v: Any, sel_raw: Any) -> Any:
     recs = st.workspace.records()
     if not recs:
         return html.P("No files yet.", className="vs-hint")
-    return [dataset_card(r, r.id in sel["ids"]) for r in recs]
+    return [dataset_card(r, r.id in sel["ids"]) for r in card_order(recs)]
 
 
 def _triggered(values: list[Any]) -> str:
@@ -259,6 +259,11 @@ def _panel_view(sel_raw: Any, _v: Any) -> Any:
                 flags[x] = flags.get(x, 0) + 1
         summary.append(text_table([(k.replace("_", " "), v) for k, v in sorted(flags.items())],
                                   ["flag", "securities"]))
+        al = rep.alignment
+        if al is not None and len(al):
+            summary.append(html.H4("Set aside while aligning to month-ends"))
+            summary.append(text_table(al[["file", "reason", "count"]].itertuples(index=False, name=None),
+                                      ["file", "reason", "count"]))
         if rep.panel_notes:
             summary.append(html.Ul([html.Li(n) for n in rep.panel_notes], className="vs-notes-list"))
     splits = rep.suspected_splits if rep is not None else None

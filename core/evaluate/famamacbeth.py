@@ -9,8 +9,15 @@ __all__ = ["fm_slopes"]
 
 def _demean(x: np.ndarray, mask: np.ndarray, codes: np.ndarray) -> np.ndarray:
     """Subtract the per-date mean within each group over ``mask`` (zero outside ``mask``)."""
+    uniq = np.unique(codes)
+    if uniq.size == 1:  # one group (no dummies): the plain per-date mean, without a group loop
+        n = mask.sum(axis=1)
+        s = np.where(mask, x, 0.0).sum(axis=1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            mu = np.where(n > 0, s / np.maximum(n, 1), 0.0)
+        return np.where(mask, x - mu[:, None], 0.0)
     out = np.zeros_like(x)
-    for c in np.unique(codes):
+    for c in uniq:
         m = mask & (codes == c)[None, :]
         n = m.sum(axis=1)
         s = np.where(m, x, 0.0).sum(axis=1)
@@ -68,9 +75,14 @@ def fm_slopes(
         mask &= np.isfinite(c)
     n = mask.sum(axis=1)
     present = np.zeros(z.shape[0], dtype=int)
-    for c in np.unique(codes):
-        present += (mask & (codes == c)[None, :]).any(axis=1)
-    zd = _demean(np.where(mask, z, 0.0), mask, codes)
+    uniq = np.unique(codes)
+    if uniq.size == 1:
+        present += mask.any(axis=1)
+    else:
+        for c in uniq:
+            present += (mask & (codes == c)[None, :]).any(axis=1)
+    zm = np.where(mask, z, 0.0)
+    zd = _demean(zm, mask, codes)
     yd = _demean(np.where(mask, y, 0.0), mask, codes)
     szz = (zd * zd).sum(axis=1)
     szy = (zd * yd).sum(axis=1)
@@ -78,7 +90,7 @@ def fm_slopes(
     enough = n > present + k
     with np.errstate(invalid="ignore", divide="ignore"):
         if not controls:
-            ok = enough & (szz > 1e-14 * np.maximum((np.where(mask, z, 0.0) ** 2).sum(axis=1), 1e-300))
+            ok = enough & (szz > 1e-14 * np.maximum((zm ** 2).sum(axis=1), 1e-300))
             b = np.where(ok, szy / np.where(ok, szz, 1.0), np.nan)
         else:
             xd = _demean(np.where(mask, controls[0], 0.0), mask, codes)

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 
 from core._typing import HacLagRule
-from core.stats import hac_lags, mean_inference, row_pearson, row_spearman
+from core.stats import _masked_pearson, _masked_spearman, hac_lags, mean_inference
 
 __all__ = ["ic_by_date", "ic_summary", "rolling_ic", "ROLLING_WINDOWS"]
 
@@ -47,8 +47,10 @@ def ic_by_date(
     ----------
     Spearman, C. (1904). Am. J. Psychol. 15(1); scipy.stats.spearmanr / pearsonr.
     """
-    rho, n = row_spearman(z, fwd, z_ranks)
-    r, _ = row_pearson(z, fwd)
+    both = np.isfinite(z) & np.isfinite(fwd)  # one mask and count shared by both correlations
+    n = both.sum(axis=1)
+    rho = _masked_spearman(z, fwd, both, n, z_ranks)
+    r = _masked_pearson(z, fwd, both, n)
     low = n < min_breadth
     return np.where(low, np.nan, rho), np.where(low, np.nan, r), n.astype(int)
 

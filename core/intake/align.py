@@ -41,10 +41,11 @@ def month_calendar(dates: pd.Series | np.ndarray) -> pd.DatetimeIndex:
     >>> month_calendar(np.array(["2019-01-15", "2019-03-02"], dtype="datetime64[ns]")).strftime("%Y-%m-%d").tolist()
     ['2019-01-31', '2019-02-28', '2019-03-31']
     """
-    d = pd.DatetimeIndex(pd.Series(dates).dropna())
-    if d.empty:
+    arr = np.asarray(dates, dtype="datetime64[ns]")
+    arr = arr[~np.isnat(arr)]
+    if arr.size == 0:
         return pd.DatetimeIndex([], name="date", dtype="datetime64[ns]")
-    me = month_end_index(d)
+    me = month_end_index(pd.DatetimeIndex([arr.min(), arr.max()]))
     out = pd.date_range(me.min(), me.max(), freq="ME", name="date")
     return out.as_unit("ns")
 

@@ -127,7 +127,9 @@ def _build(files: Sequence[ParsedFile], o: PanelOptions) -> Panel:
     applied = [bool(o.apply_all_suspected_splits or s in o.confirmed_splits) for s in found["security"]]
     eps_adj = [False] * len(found)
     for k in np.flatnonzero(np.asarray(applied, dtype=bool)):
-        sec, date, ratio = str(found["security"].iat[k]), pd.Timestamp(found["date"].iat[k]), float(found["ratio"].iat[k])
+        sec = str(found["security"].to_numpy()[k])
+        date = pd.Timestamp(found["date"].to_numpy()[k])
+        ratio = float(found["ratio"].to_numpy(dtype=float)[k])
         prices = apply_split(prices, sec, date, ratio)
         if eps is not None and sec in eps.columns:
             jump = shows_same_jump(eps[sec], date, ratio)

@@ -107,11 +107,11 @@ def parse_numbers(values: pd.Series, decimal: Literal["point", "comma"] = "point
         out = np.where(status == PARSED, v, np.nan)
         return NumberResult(out, status, percent)
 
-    s = _as_text(values)
-    quick = _arrow_cast(s) if decimal == "point" else None
+    quick = _arrow_cast(values) if decimal == "point" else None
     if quick is not None:
         status[np.isnan(quick)] = BLANK
         return NumberResult(quick, status, percent)
+    s = _as_text(values)
     blank = (s == "").to_numpy(dtype=bool, na_value=False).copy()
     # fast path: plain numbers
     if decimal == "point":
@@ -140,8 +140,8 @@ def _arrow_cast(s: pd.Series) -> np.ndarray | None:
         import pyarrow as pa
         import pyarrow.compute as pc
 
-        arr = pa.array(s.array) if not hasattr(s.array, "_pa_array") else s.array._pa_array
-        empty = pc.equal(arr, "")
+        arr = s.array._pa_array if hasattr(s.array, "_pa_array") else pa.array(s.astype("str").fillna("").tolist(), pa.string())
+        empty = pc.fill_null(pc.equal(arr, ""), True)
         arr = pc.if_else(empty, pa.scalar(None, pa.string()), arr)
         out = pc.cast(arr, pa.float64()).to_numpy(zero_copy_only=False)
         blank = np.asarray(empty.to_numpy(zero_copy_only=False), dtype=bool)

@@ -84,6 +84,8 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
     text, enc = decode(raw, name, options.encoding)
     if text.startswith("\ufeff"):
         text = text[1:]
+    if "\n" not in text and "\r" in text:  # old-style line ends (CR only)
+        text = text.replace("\r", "\n")
     if not text.strip():
         raise IntakeError(name, Reason.EMPTY_FILE, "the file holds only blank lines.", hint="Check that the right file was chosen.")
     delim = options.delimiter or sniff_delimiter(text)

@@ -139,6 +139,34 @@ def _number_profile(s: pd.Series, decimal: str = "point") -> tuple[float, int]:
     return float(bad.mean()), int(len(smp))
 
 
+def _number_profiles(ctx: _Ctx, cols: Sequence[int], decimal: str, k: int = 200) -> dict[int, tuple[float, int]]:
+    """:func:`_number_profile` of many columns at once, on their first ``k`` rows (one parse for all)."""
+    import pyarrow as pa
+
+    out: dict[int, tuple[float, int]] = {}
+    pieces: list[tuple[int, pa.Array | pa.ChunkedArray]] = []
+    for j in cols:
+        c = ctx.col(j)
+        if pd.api.types.is_numeric_dtype(c.dtype) or pd.api.types.is_datetime64_any_dtype(c.dtype):
+            out[j] = (0.0, int(c.head(k).notna().sum()))
+            continue
+        pa_arr = getattr(c.array, "_pa_array", None)
+        pieces.append((j, pa_arr.slice(0, k) if pa_arr is not None else pa.array(c.head(k).astype("str").fillna("").tolist(), pa.string())))
+    if not pieces:
+        return out
+    chunks = [ch.cast(pa.large_string()) for _, a in pieces for ch in (a.chunks if isinstance(a, pa.ChunkedArray) else [a])]
+    stacked = pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array(chunks, pa.large_string())))
+    owner = np.repeat(np.arange(len(pieces)), [len(a) for _, a in pieces])
+    text_heads = pieces
+    r = parse_numbers(stacked, "comma" if decimal == "comma" else "point")
+    nonblank = r.status != nb.BLANK
+    bad = np.bincount(owner, weights=(r.status == nb.UNPARSEABLE).astype(float), minlength=len(text_heads))
+    size = np.bincount(owner, weights=nonblank.astype(float), minlength=len(text_heads))
+    for t, (j, _) in enumerate(text_heads):
+        out[j] = (float(bad[t] / size[t]) if size[t] else 0.0, int(size[t]))
+    return out
+
+
 def _date_profile(s: pd.Series, allow_serial: bool) -> float:
     smp = _sample(s)
     if smp.empty:
@@ -302,7 +330,7 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
         raise IntakeError(ctx.name, Reason.NO_VALUE_COLUMN, "the file has a date column but no value columns.",
                           row=g.header_row, hint="Check the delimiter and the header row.")
     decimal, dec_reason = _decimal(ctx, rest)
-    profiles = {j: _number_profile(ctx.col(j), decimal) for j in rest}
+    profiles = _number_profiles(ctx, rest, decimal)
     text_cols = [j for j in rest if profiles[j][1] > 0 and profiles[j][0] >= 0.5]
     numeric = [j for j in rest if j not in text_cols]
     if kind == "benchmark":
@@ -426,8 +454,9 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
         ctx.notes.append(f"{int(drop.sum())} duplicate entries resolved ({o.duplicate_rule} wins)"
                          + (f"; {n_dup_dates} date row(s) repeat an earlier date" if n_dup_dates else ""))
     keep = order[~drop]
-    ids = pd.Series(pd.array(np.asarray(id_table, dtype=object), dtype="str")).take(sec_v[keep]).reset_index(drop=True)
-    tidy = pd.DataFrame({"date": dres.dates[ii[keep]], "security": ids, "value": vals[valid[keep]]})
+    sec_k = sec_v[keep]
+    ids = pd.Series(pd.array(np.asarray(id_table, dtype=object), dtype="str")).take(sec_k).reset_index(drop=True)
+    tidy = pd.DataFrame({"date": dres.dates[ii[keep]], "security": ids, "value": vals[valid[keep]]}, copy=False)
     _tally_values(ctx, final, vcols, stacked)
 
     # report fields
@@ -458,7 +487,7 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
     extra: dict[str, Any] = dict(
         layout=layout if layout != "series" else "long",
         date_column=ctx.header[d], date_order=dres.order, date_order_reason=dres.order_reason,
-        decimal=decimal, n_securities=int((np.bincount(sec_v[keep], minlength=1) > 0).sum()) if kind != "benchmark" and keep.size else 0,
+        decimal=decimal, n_securities=int(1 + np.count_nonzero(np.diff(sec_k))) if kind != "benchmark" and keep.size else 0,
         first_date=pd.Timestamp(dvals.min()) if keep.size else None,
         last_date=pd.Timestamp(dvals.max()) if keep.size else None,
         frequency=_frequency(dvals.astype("datetime64[ns]")) if kind != "dividends" else "events", security_column=ctx.header[sec] if sec is not None else None,

@@ -78,3 +78,17 @@ def test_two_apps_in_one_process_each_get_the_page_callbacks(tmp_path: Path) -> 
     b = create_app(tmp_path / "two")
     assert len(a.callback_map) == len(b.callback_map) > 10
     assert a.server.extensions["valuesift"].workspace.root != b.server.extensions["valuesift"].workspace.root
+
+
+def test_company_page_renders_identifiers_as_text(plain_app: dash.Dash) -> None:
+    import sys
+
+    from app.ids import encode_id
+
+    page = sys.modules["app.pages.company"]
+    nasty = "<img src=x onerror=alert(1)>"
+    layout = page.layout(code=encode_id(nasty))
+    title = next(c for c in layout.children if getattr(c, "id", None) == "company-title")
+    assert title.children == nasty                  # a plain string child: React renders it as text
+    bad = page.layout(code="a/b")
+    assert "does not name a security" in str(bad.children[1].children)

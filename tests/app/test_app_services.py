@@ -13,6 +13,7 @@ from app import jobs_ui
 from app.server import create_app
 from app.services import normalise_selection
 from app.settings import config_from_settings
+from core.errors import InsufficientDataError
 
 
 def _wait(st, key: str, limit: float = 120.0):  # type: ignore[no-untyped-def]
@@ -132,11 +133,9 @@ def test_a_running_study_shows_progress_and_disables_the_controls(demo_app, monk
         progress("quantiles", 0.55)
         reached.set()
         release.wait(60)
-        raise services.InsufficientDataError("the test universe", "10 names", "3")
+        raise InsufficientDataError("the test universe", "10 names", "3")
 
     monkeypatch.setattr(services, "run_study", staged)
-    monkeypatch.setattr(services, "InsufficientDataError", __import__("core.errors", fromlist=["x"]).InsufficientDataError,
-                        raising=False)
     with app.server.test_request_context("/"):
         job, poll_off, msg, fs_disabled, hidden = jobs_ui.launch(sel, {"n_quantiles": 9}, None)
         assert job["status"] == "running" and not poll_off and fs_disabled and not hidden

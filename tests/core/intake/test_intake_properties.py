@@ -115,3 +115,40 @@ def test_random_text_raises_only_intake_error(text: str, kind: str) -> None:
         return
     rep = pf.report
     assert rep.cells_total == rep.cells_parsed + rep.cells_blank + rep.cells_unparseable + rep.cells_dropped
+
+
+def _valid_files() -> dict[str, bytes]:
+    import openpyxl
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["date", "TOR14", "VEL22"])
+    for m in range(1, 7):
+        ws.append([f"2019-{m:02d}-28", 10.0 + m, 20.0 - m])
+    xb = io.BytesIO()
+    wb.save(xb)
+    pb = io.BytesIO()
+    pq.write_table(pa.table({"date": pd.date_range("2019-01-31", periods=6, freq="ME"), "TOR14": np.arange(6.0) + 1}), pb)
+    csv_b = b"Title\nDate,TOR14,VEL22\n31/01/2019,\"1,234.50\",n.a.\n28/02/2019,12,(3)\n"
+    return {"prices.xlsx": xb.getvalue(), "prices.parquet": pb.getvalue(), "prices.csv": csv_b}
+
+
+def test_mutated_files_raise_only_intake_error() -> None:
+    rng = np.random.default_rng(11)
+    for name, good in _valid_files().items():
+        for k in range(60):
+            raw = bytearray(good)
+            if k % 3 == 0:
+                raw = raw[: int(rng.integers(1, len(raw)))]  # truncated
+            else:
+                for pos in rng.integers(0, len(raw), int(rng.integers(1, 12))):
+                    raw[int(pos)] = int(rng.integers(0, 256))  # flipped bytes
+            try:
+                pf = read_table(bytes(raw), name=name)
+            except IntakeError as err:
+                assert err.file == name
+                continue
+            rep = pf.report
+            assert rep.cells_total == rep.cells_parsed + rep.cells_blank + rep.cells_unparseable + rep.cells_dropped

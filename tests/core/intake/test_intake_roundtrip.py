@@ -235,3 +235,20 @@ def test_damaged_parquet() -> None:
     with pytest.raises(IntakeError) as info:
         read_table(b"date,TOR14\n", name="prices.parquet")
     assert info.value.reason is Reason.UNSUPPORTED_FORMAT
+
+
+@pytest.mark.parametrize("ending", ["\r\n", "\r"], ids=["crlf", "cr-only"])
+@pytest.mark.parametrize("fast", [False, True], ids=["python-reader", "arrow-reader"])
+def test_line_endings(ending: str, fast: bool, monkeypatch: pytest.MonkeyPatch) -> None:
+    if fast:
+        monkeypatch.setattr(readers, "FAST_PATH_MIN_CHARS", 0)
+    df = make_frame(8, n_dates=5, n_secs=3)
+    raw = write_text(df, "wide", ",", "point", preamble=1).decode().replace("\n", ending).encode()
+    pf = read_table(raw, name="prices.csv")
+    assert pf.report.header_row == 2
+    back = _wide(pf.data).reindex(index=df.index, columns=df.columns)
+    pd.testing.assert_frame_equal(back, df, check_names=False, check_freq=False, check_column_type=False, check_index_type=False)
+    # examples point at the real file rows
+    blank_rows = pf.report.examples[pf.report.examples["reason"] == "blank"]["row"].tolist()
+    want = [i + 3 for i, row in enumerate(df.to_numpy()) for j in range(df.shape[1]) if np.isnan(row[j])]
+    assert set(blank_rows) <= set(want) and len(blank_rows) == min(5, len(want))

@@ -1,0 +1,323 @@
+"""Build the committee bundle: one folder (report, charts, tables, manifest) and its ZIP.
+
+One function, :func:`write_bundle`, serves both the dashboard's Export page
+and ``valuesift study ... --out DIR``.  It only formats the
+:class:`core.study.StudyResult` it is given; nothing is recomputed.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import platform
+import re
+import shutil
+import zipfile
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from pathlib import Path
+from typing import Any, Callable, Iterable, Sequence
+
+import pandas as pd
+
+from app.bundle import charts as bc
+from app.bundle import tables as bt
+from app.bundle.content import report_input
+from app.bundle.pdf import build_pdf
+from app.caution import CAUTION
+from core.errors import ConfigError
+from core.study import StudyResult, summary_dict
+
+__all__ = ["BundlePaths", "write_bundle", "bundle_name", "default_horizon", "INCLUDE_CHOICES", "merge_inputs"]
+
+Progress = Callable[[str, float], None]
+
+#: Every chart and table key :func:`write_bundle` accepts in ``include``.
+INCLUDE_CHOICES: tuple[str, ...] = tuple(f"chart:{k}" for k in bc.CHART_KEYS) + tuple(f"table:{k}" for k in bt.TABLE_KEYS)
+
+
+@dataclass(frozen=True)
+class BundlePaths:
+    """Where the bundle went.
+
+    Attributes
+    ----------
+    folder : Path
+        The unzipped bundle.
+    zip : Path
+        The ZIP of the same files.
+    files : tuple of str
+        Relative paths of every file in the bundle (as listed in the manifest, plus manifest.json).
+    images_rendered : bool
+        False when no browser could render the PNG/SVG images.
+    note : str or None
+        Why images are missing (the hint shown to the user), else None.
+    pages : int
+        Pages of report.pdf.
+    """
+
+    folder: Path
+    zip: Path
+    files: tuple[str, ...]
+    images_rendered: bool
+    note: str | None
+    pages: int
+
+
+_UNSAFE = re.compile(r"[^A-Za-z0-9._-]+")
+
+
+def _safe(text: str) -> str:
+    s = _UNSAFE.sub("-", str(text)).strip("-._")
+    return s or "study"
+
+
+def bundle_name(study_name: str, result: StudyResult) -> str:
+    """``<study>_<signal>_<universe>_<as-of date>`` in safe characters (letters, digits, ``.-_``)."""
+    asof = str(result.screen.attrs.get("date") or result.signal_z.index[-1].date().isoformat())
+    return "_".join(_safe(p)[:60] for p in (study_name, result.signal_name, result.config.universe, asof))
+
+
+def default_horizon(result: StudyResult) -> int:
+    """The horizon the per-horizon charts are drawn at: 12 months if studied, else the first (as the Study page)."""
+    hs = result.config.horizons
+    return 12 if 12 in hs else int(hs[0])
+
+
+def merge_inputs(inputs: Sequence[dict[str, Any]] | None, panel: Any) -> list[dict[str, Any]]:
+    """Input files with name, kind, size, SHA-256, rows and securities (the panel's sources fill gaps)."""
+    sources = [dict(s) for s in (getattr(panel, "sources", ()) or ())]
+    base = [dict(i) for i in inputs] if inputs else sources
+    out = []
+    for item in base:
+        match = next((s for s in sources if s.get("name") == item.get("name")
+                      and s.get("sha256") == item.get("sha256")), {})
+        merged = {k: item.get(k, match.get(k)) for k in ("name", "kind", "size", "sha256", "rows", "securities")}
+        out.append({k: (int(v) if k in ("size", "rows", "securities") and v is not None else v) for k, v in merged.items()})
+    return out
+
+
+def _split_include(include: Iterable[str] | None) -> tuple[list[str], list[str]]:
+    if include is None:
+        return list(bc.CHART_KEYS), list(bt.TABLE_KEYS)
+    chosen = list(include)
+    bad = [c for c in chosen if c not in INCLUDE_CHOICES]
+    if bad:
+        raise ConfigError(f"The bundle cannot include {', '.join(repr(b) for b in bad)}.",
+                          hint="Allowed: " + ", ".join(INCLUDE_CHOICES) + ".")
+    charts = [k for k in bc.CHART_KEYS if f"chart:{k}" in chosen]
+    tables = [k for k in bt.TABLE_KEYS if f"table:{k}" in chosen]
+    return charts, tables
+
+
+def _sha(path: Path) -> str:
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for block in iter(lambda: fh.read(1 << 20), b""):
+            h.update(block)
+    return h.hexdigest()
+
+
+def _versions() -> dict[str, str]:
+    from importlib.metadata import PackageNotFoundError, version
+
+    out = {"python": platform.python_version()}
+    for pkg in ("pandas", "numpy", "scipy", "statsmodels", "plotly", "kaleido", "reportlab", "openpyxl"):
+        try:
+            out[pkg] = version(pkg)
+        except PackageNotFoundError:
+            out[pkg] = "not installed"
+    return out
+
+
+def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any]] | None, out_dir: str | Path, *,
+                 study_name: str, title: str | None = None, note: str | None = None,
+                 include: Iterable[str] | None = None, progress: Progress | None = None,
+                 horizon: int | None = None, created: datetime | None = None,
+                 zip_path: str | Path | None = None) -> BundlePaths:
+    """Write the committee bundle of a study to ``out_dir`` and a ZIP of it.
+
+    Parameters
+    ----------
+    result : StudyResult
+        The study (formatted, never recomputed).
+    panel : Panel
+        The panel the study ran on (intake report, sources, coverage chart).
+    inputs : list of dict, optional
+        Input files as the caller knows them (``name, kind, size, sha256``); ``panel.sources`` fills
+        rows and security counts (and everything when None).
+    out_dir : path
+        Folder for the unzipped bundle (created; other files in it are left alone).
+    study_name : str
+        Name on the cover and in the ZIP's file name.
+    title, note : str, optional
+        Cover title (default: a question about the signal) and a note printed on the cover.
+    include : iterable of str, optional
+        ``"chart:<key>"`` and ``"table:<key>"`` items (see :data:`INCLUDE_CHOICES`); default all.
+    progress : callable(stage, fraction), optional
+    horizon : int, optional
+        Horizon of the per-horizon charts (default :func:`default_horizon`).
+    created : datetime, optional
+        Creation time (UTC) written to the manifest and the cover (default now).
+    zip_path : path, optional
+        Where the ZIP goes (default ``out_dir / (bundle_name + ".zip")``).
+
+    Returns
+    -------
+    BundlePaths
+
+    Raises
+    ------
+    ConfigError
+        An unknown ``include`` item or a horizon the study does not have.
+
+    Notes
+    -----
+    The same result, panel, inputs, options and ``created`` give byte-identical files where the
+    renderers allow it (tables, summary.json, HTML, README, manifest, PDF with reportlab's
+    invariant mode); only the creation time differs between two builds at different times.
+    """
+    def tick(stage: str, frac: float) -> None:
+        if progress is not None:
+            progress(stage, frac)
+
+    charts, tables = _split_include(include)
+    h = int(horizon) if horizon is not None else default_horizon(result)
+    if h not in result.config.horizons:
+        raise ConfigError(f"The bundle's chart horizon {h} is not a horizon of this study.",
+                          hint="Allowed: " + ", ".join(str(x) for x in result.config.horizons) + ".")
+    when = (created or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
+    folder = Path(out_dir)
+    for sub in ("charts", "tables"):
+        (folder / sub).mkdir(parents=True, exist_ok=True)
+    written: list[str] = []
+    name = bundle_name(study_name, result)
+    files_in = merge_inputs(inputs, panel)
+
+    tick("drawing the charts", 0.02)
+    specs = [c for c in bc.CHARTS if c.key in charts]
+    figs = {c.key: bc.figure_for(c, result, h, panel) for c in specs}
+    tick("starting the browser and writing tables", 0.05)
+    job = bc.start_render(figs, progress=lambda s, f: tick(s, 0.1 + 0.7 * f))
+    if specs:
+        shutil.copyfile(bc.plotly_js_path(), folder / "charts" / "plotly.min.js")
+        written.append("charts/plotly.min.js")
+    for c in specs:
+        bc.write_html(figs[c.key], folder / "charts" / f"{c.key}.html", title=c.title)
+        written.append(f"charts/{c.key}.html")
+
+    all_tables = bt.result_tables(result, panel)
+    chosen = {k: all_tables[k] for k in tables}
+    for k, df in chosen.items():
+        bt.write_csv(df, folder / "tables" / f"{k}.csv", raw=(k == "ic_by_date"))
+        written.append(f"tables/{k}.csv")
+    asof = str(result.screen.attrs.get("date") or "")
+    if chosen:
+        (folder / "tables" / "tables.xlsx").write_bytes(bt.xlsx_bytes(chosen, stamp=asof or "2000-01-01"))
+        written.append("tables/tables.xlsx")
+    summary = summary_dict(result)
+    summary["study_name"] = study_name
+    summary["inputs"] = [{k: f[k] for k in ("name", "kind", "size", "sha256")} for f in files_in]
+    (folder / "summary.json").write_text(json.dumps(summary, indent=2, sort_keys=True, allow_nan=False) + "\n",
+                                         encoding="utf-8", newline="\n")
+    written.append("summary.json")
+
+    outcome = job.wait()
+    for c in specs:
+        if c.key in outcome.png:
+            (folder / "charts" / f"{c.key}.png").write_bytes(outcome.png[c.key])
+            (folder / "charts" / f"{c.key}.svg").write_bytes(outcome.svg[c.key])
+            written += [f"charts/{c.key}.png", f"charts/{c.key}.svg"]
+    tick("laying out the report", 0.84)
+    data = report_input(result, panel, files_in, study_name=study_name, title=title, note=note, horizon=h,
+                        chart_keys=[c.key for c in specs], png=outcome.png, images_note=outcome.note,
+                        created=when)
+    pages = build_pdf(data, folder / "report.pdf")
+    written.append("report.pdf")
+
+    tick("writing the manifest", 0.94)
+    readme = _readme(written, chosen, outcome.note, name)
+    (folder / "README.txt").write_text(readme, encoding="utf-8", newline="\n")
+    written.append("README.txt")
+    manifest = {
+        "tool": "ValueSift",
+        "tool_version": _tool_version(),
+        "created_utc": when.isoformat().replace("+00:00", "Z"),
+        "study_name": study_name,
+        "title": data.title,
+        "note": note,
+        "as_of": asof,
+        "bundle": {"name": name, "chart_horizon": h, "charts": [c.key for c in specs], "tables": list(chosen),
+                   "images_rendered": bool(outcome.png), "images_note": outcome.note},
+        "configuration": result.config.to_dict(),
+        "inputs": files_in,
+        "software": _versions(),
+        "files": [{"path": p, "bytes": (folder / p).stat().st_size, "sha256": _sha(folder / p)}
+                  for p in sorted(written)],
+    }
+    (folder / "manifest.json").write_text(json.dumps(manifest, indent=2, sort_keys=True, allow_nan=False) + "\n",
+                                          encoding="utf-8", newline="\n")
+    written.append("manifest.json")
+
+    tick("packing the ZIP", 0.97)
+    zpath = Path(zip_path) if zip_path is not None else folder / f"{name}.zip"
+    _zip(folder, sorted(written), zpath, name)
+    tick("done", 1.0)
+    return BundlePaths(folder=folder, zip=zpath, files=tuple(sorted(written)), images_rendered=bool(outcome.png),
+                       note=outcome.note, pages=pages)
+
+
+def _tool_version() -> str:
+    import core
+
+    return str(core.__version__)
+
+
+def _zip(folder: Path, files: Sequence[str], path: Path, root: str) -> None:
+    """A ZIP with one top folder ``root``, fixed entry times and sorted entries (reproducible)."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    tmp = path.with_suffix(path.suffix + ".part")
+    with zipfile.ZipFile(tmp, "w", compression=zipfile.ZIP_DEFLATED, compresslevel=6) as z:
+        for rel in files:
+            zi = zipfile.ZipInfo(f"{root}/{rel}", date_time=bt.FIXED_ZIP_TIME)
+            zi.compress_type = zipfile.ZIP_DEFLATED
+            zi.external_attr = 0o644 << 16
+            z.writestr(zi, (folder / rel).read_bytes())
+    tmp.replace(path)
+
+
+_FILE_TEXT = {
+    "report.pdf": "the committee report: cover with the configuration and input files, summary, one page per "
+                  "chart with its reading, the screen, and the data-quality appendix",
+    "summary.json": "the headline figures per horizon (the same fields as `valuesift study` writes)",
+    "manifest.json": "tool and software versions, creation time, configuration, input files and a SHA-256 of "
+                     "every other file",
+    "README.txt": "this file",
+    "charts/plotly.min.js": "the plotly.js library, shared by every interactive chart (works with no network)",
+    "tables/tables.xlsx": "every table below as one sheet each",
+}
+
+
+def _readme(files: Sequence[str], tables: dict[str, pd.DataFrame], note: str | None, name: str) -> str:
+    titles = {c.key: c.title for c in bc.CHARTS}
+    lines = [f"ValueSift committee bundle {name}", "", "What each file is:", ""]
+    for rel in sorted(set(files) | {"manifest.json", "README.txt"}):
+        stem = Path(rel).stem
+        if rel in _FILE_TEXT:
+            text = _FILE_TEXT[rel]
+        elif rel.startswith("charts/"):
+            kind = {".png": "image for a 16:9 slide (2560 x 1440 pixels)", ".svg": "scalable vector image",
+                    ".html": "interactive chart; open it in a web browser"}[Path(rel).suffix]
+            text = f"{titles.get(stem, stem)}: {kind}"
+        elif rel.startswith("tables/"):
+            text = f"{bt.TABLES.get(stem, stem)} (CSV)"
+        else:
+            text = ""
+        lines.append(f"  {rel}\n      {text}")
+    lines += ["", "Numbers: returns and spreads are decimal fractions (0.01 = 1 %); ICs are Spearman rank "
+              "correlations; t-statistics use Newey-West standard errors with the lags stated in the tables.",
+              "Text cells of the tables that could start a spreadsheet formula carry a leading apostrophe."]
+    if note:
+        lines += ["", "Images: " + note]
+    lines += ["", "Caution: " + CAUTION, ""]
+    return "\n".join(lines)

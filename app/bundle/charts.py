@@ -1,0 +1,217 @@
+"""The bundle's charts: the dashboard's own figure functions, sized for a slide, rendered once per bundle.
+
+Static images go through Plotly's static export (``kaleido`` 1.x driving a
+local Chrome/Chromium): one browser is opened per bundle and every image is
+rendered through it, instead of one browser per image.  When no browser can be
+found, :func:`render_static` returns no images and a plain hint
+(:data:`NO_BROWSER_HINT`); the rest of the bundle is built all the same.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import os
+import re
+import shutil
+import threading
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Callable
+
+import plotly.graph_objects as go
+
+from app.figures import backtest as fb
+from app.figures._common import wrap
+from app.figures import data as fd
+from app.figures import study as fs
+from core.study import StudyResult
+
+__all__ = ["ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
+           "plotly_js_path", "find_browser", "NO_BROWSER_HINT", "RenderOutcome", "RenderJob", "start_render"]
+
+#: A 16:9 slide at 2x: 1280 x 720 layout pixels, rendered at scale 2 (2560 x 1440 PNG).
+SLIDE = {"width": 1280, "height": 720, "scale": 2}
+
+NO_BROWSER_HINT = (
+    "The chart images could not be rendered because no Chrome or Chromium browser was found. "
+    "To enable them, install Chromium (on Debian: apt-get install chromium) or set the environment "
+    "variable BROWSER_PATH to a Chrome or Chromium executable, then build the bundle again. "
+    "The interactive charts (charts/*.html) and every table are included regardless."
+)
+
+
+@dataclass(frozen=True)
+class ChartSpec:
+    """One chart of the bundle: file stem, heading and how it is drawn."""
+
+    key: str
+    title: str
+    draw: Callable[[StudyResult, int, Any], go.Figure]
+    per_horizon: bool
+
+
+CHARTS: tuple[ChartSpec, ...] = (
+    ChartSpec("ic_by_horizon", "Information coefficient by horizon", lambda r, h, p: fs.ic_by_horizon_figure(r), False),
+    ChartSpec("ic_over_time", "Information coefficient over time", lambda r, h, p: fs.ic_over_time_figure(r, h), True),
+    ChartSpec("quantile_returns", "Returns by quantile (annualised)",
+              lambda r, h, p: fs.quantile_returns_figure(r, h, annualised=True), True),
+    ChartSpec("spread_over_time", "Cheapest minus dearest over time", lambda r, h, p: fs.spread_over_time_figure(r, h),
+              True),
+    ChartSpec("scatter", "Signal against later return", lambda r, h, p: fs.scatter_figure(r, h), True),
+    ChartSpec("fm_slopes", "Fama-MacBeth slopes", lambda r, h, p: fs.fm_slopes_figure(r), False),
+    ChartSpec("growth", "Backtest: growth of 1", lambda r, h, p: fb.growth_figure(r), False),
+    ChartSpec("drawdown", "Backtest: drawdowns", lambda r, h, p: fb.drawdown_figure(r), False),
+    ChartSpec("cohorts", "Backtest: each cohort against the comparison", lambda r, h, p: fb.cohort_figure(r), False),
+    ChartSpec("coverage", "Data coverage", lambda r, h, p: fd.coverage_figure(p), False),
+)
+CHART_KEYS: tuple[str, ...] = tuple(c.key for c in CHARTS)
+
+
+def figure_for(spec: ChartSpec, result: StudyResult, horizon: int, panel: Any) -> go.Figure:
+    """The dashboard's figure, with layout updates for a 16:9 slide (the figure function is not changed)."""
+    fig = spec.draw(result, horizon, panel)
+    fig.update_layout(width=SLIDE["width"], height=SLIDE["height"], autosize=False)
+    _rewrap_for_slide(fig)
+    if spec.key == "coverage":
+        # Security labels do not fit a slide; the rows stay drawn (the subtitle states the sample).
+        fig.update_yaxes(showticklabels=False)
+    return fig
+
+
+def _rewrap_for_slide(fig: go.Figure) -> None:
+    """Titles are wrapped for a dashboard card; on a full-width slide they get fewer, longer lines."""
+    title = fig.layout.title
+    if title is None or title.text is None:
+        return
+    t, nt = wrap(str(title.text).replace("<br>", " "), 95)
+    sub = title.subtitle.text if title.subtitle is not None and title.subtitle.text else ""
+    s, ns = wrap(str(sub).replace("<br>", " "), 150) if sub else ("", 0)
+    fig.update_layout(title=dict(text=t, subtitle=dict(text=s)), margin=dict(t=30 + 24 * nt + 19 * ns + 18))
+
+
+def plotly_js_path() -> Path:
+    """The plotly.min.js shipped inside the installed plotly package (used offline)."""
+    import plotly
+
+    return Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
+
+
+_DIV_ID = re.compile(r"[^A-Za-z0-9_-]")
+
+
+def write_html(fig: go.Figure, path: Path, *, title: str, script: str = "plotly.min.js") -> None:
+    """An interactive chart page that loads the shared plotly.min.js by relative path (no network).
+
+    The div id is derived from the file name so the page is the same for the same figure.
+    """
+    g = go.Figure(fig)
+    g.update_layout(width=None, autosize=True)
+    html = g.to_html(include_plotlyjs=script, full_html=True, div_id=_DIV_ID.sub("-", path.stem),
+                     include_mathjax=False, config={"displaylogo": False, "responsive": True})
+    html = html.replace("<head>", f"<head><title>{_escape(title)}</title>", 1)
+    path.write_text(html, encoding="utf-8", newline="\n")
+
+
+def _escape(text: str) -> str:
+    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+
+
+def find_browser() -> str | None:
+    """The Chrome/Chromium kaleido would use: ``BROWSER_PATH`` if set (it must exist), else one on PATH."""
+    env = os.environ.get("BROWSER_PATH")
+    if env:
+        return env if Path(env).is_file() and os.access(env, os.X_OK) else None
+    for name in ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable", "chrome"):
+        hit = shutil.which(name)
+        if hit:
+            return hit
+    return None
+
+
+@dataclass(frozen=True)
+class RenderOutcome:
+    """PNG and SVG bytes per chart key (empty when nothing could be rendered) and a note saying why."""
+
+    png: dict[str, bytes]
+    svg: dict[str, bytes]
+    note: str | None
+
+
+_RENDER_LOCK = threading.Lock()      # one browser at a time on a small machine
+
+
+def _stable_svg(svg: bytes) -> bytes:
+    """Replace plotly's random per-plot id (used in clip-path ids) by a fixed one, so the SVG is reproducible."""
+    m = re.search(rb'clip([0-9a-f]{6})', svg)
+    if not m:
+        return svg
+    return svg.replace(m.group(1), b"vsplot")
+
+
+class RenderJob:
+    """Static rendering running in its own thread (started by :func:`start_render`); :meth:`wait` gives the outcome."""
+
+    def __init__(self, figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None) -> None:
+        self._figs = figs
+        self._progress = progress
+        self._outcome: RenderOutcome | None = None
+        self._thread = threading.Thread(target=self._main, name="bundle-render", daemon=True)
+        self._thread.start()
+
+    def _main(self) -> None:
+        with _RENDER_LOCK:
+            self._outcome = _render(self._figs, self._progress)
+
+    def wait(self) -> RenderOutcome:
+        self._thread.join()
+        assert self._outcome is not None
+        return self._outcome
+
+
+def start_render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None = None) -> RenderJob:
+    """Start :func:`render_static` in the background (the browser starts while tables are written)."""
+    return RenderJob(figs, progress)
+
+
+def render_static(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None = None) -> RenderOutcome:
+    """Render every figure to PNG (slide size at 2x) and SVG through one browser.
+
+    Returns a :class:`RenderOutcome`; with no browser (or a browser that fails to start) the
+    dicts are empty and ``note`` is :data:`NO_BROWSER_HINT` (plus the cause), never an exception.
+    """
+    return start_render(figs, progress).wait()
+
+
+def _render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None) -> RenderOutcome:
+    if not figs:
+        return RenderOutcome({}, {}, None)
+    browser = find_browser()
+    if browser is None:
+        return RenderOutcome({}, {}, NO_BROWSER_HINT)
+    try:
+        import kaleido
+    except ImportError:  # pragma: no cover - kaleido is a dependency
+        return RenderOutcome({}, {}, "The chart images could not be rendered: the kaleido package is not "
+                                     "installed (pip install kaleido). " + NO_BROWSER_HINT)
+
+    png: dict[str, bytes] = {}
+    svg: dict[str, bytes] = {}
+    keys = list(figs)
+
+    async def run() -> None:
+        # One browser (kaleido's persistent process) for the whole bundle.
+        async with kaleido.Kaleido(n=1, mathjax=False, path=browser, timeout=120) as k:
+            for i, key in enumerate(keys):
+                if progress is not None:
+                    progress(f"rendering chart {i + 1} of {len(keys)}", i / len(keys))
+                fig = figs[key]
+                opts = {"width": SLIDE["width"], "height": SLIDE["height"]}
+                png[key] = await k.calc_fig(fig, opts={**opts, "format": "png", "scale": SLIDE["scale"]})
+                svg[key] = _stable_svg(await k.calc_fig(fig, opts={**opts, "format": "svg", "scale": 1}))
+
+    try:
+        asyncio.run(run())      # this thread's own event loop, whatever loop the caller runs
+    except BaseException as err:  # noqa: BLE001 - reported as a note, never a crash
+        cause = f"{type(err).__name__}: {str(err)[:300]}"
+        return RenderOutcome({}, {}, NO_BROWSER_HINT + f" (The browser at {browser} failed: {cause})")
+    return RenderOutcome(png, svg, None)

@@ -1,0 +1,219 @@
+"""The report's content as text and small frames, generated from the result (the PDF module only lays it out)."""
+
+from __future__ import annotations
+
+from datetime import datetime
+from typing import Any, Sequence
+
+import numpy as np
+import pandas as pd
+
+import core
+from app.bundle.charts import CHARTS
+from app.bundle.pdf import ReportInput
+from app.bundle.text import CHART_READINGS, headline_sentences, share_word, signal_definition, universe_words
+from app.caution import CAUTION
+from app.figures._common import fmt_num, fmt_pct, span
+from app.figures.study import return_label, signal_label
+from core.study import StudyResult
+
+__all__ = ["report_input", "summary_rows", "screen_frames"]
+
+
+def _short_verdict(t: Any) -> str:
+    v = float(t) if t is not None else float("nan")
+    if not np.isfinite(v):
+        return "n/a"
+    return "noise" if abs(v) < 2 else "5% level" if abs(v) < 3 else "strong"
+
+
+def summary_rows(result: StudyResult) -> pd.DataFrame:
+    """The summary table of the report: one row per horizon, formatted as printed."""
+    rows = []
+    for h in result.config.horizons:
+        ss, ic, fm = result.spread_summary.loc[h], result.ic_summary.loc[h], result.fm_summary.loc[h]
+        rows.append({
+            "Horizon": f"{h} m",
+            "Spread a year": fmt_pct(ss["mean_annualised"], 1),
+            "Spread per period": fmt_pct(ss["mean"], 2),
+            "Spread t": fmt_num(ss["t_hac"], 2),
+            "Spread 95% interval": f"{fmt_pct(ss['ci_low'], 2)} to {fmt_pct(ss['ci_high'], 2)}",
+            "Mean rank IC": fmt_num(ic["mean_ic"], 3),
+            "IC t": fmt_num(ic["t_hac"], 2),
+            "IC 95% interval": f"{fmt_num(ic['ci_low'], 3)} to {fmt_num(ic['ci_high'], 3)}",
+            "FM slope (t)": f"{fmt_pct(fm['mean_slope'], 2)} ({fmt_num(fm['t_hac'], 2)})",
+            "Dates": str(int(ic["n_dates"])),
+            "Evidence (spread)": _short_verdict(ss["t_hac"]),
+        })
+    return pd.DataFrame(rows)
+
+
+def _fmt_signal(result: StudyResult, v: float) -> str:
+    if not np.isfinite(v):
+        return ""
+    return fmt_pct(v, 2) if result.signal_name in ("earnings_yield", "dividend_yield") else fmt_num(v, 3)
+
+
+def screen_frames(result: StudyResult) -> tuple[str, pd.DataFrame, pd.DataFrame]:
+    """Title, the cheapest and the dearest rows of the screen (holdings when the panel has them)."""
+    s = result.screen
+    held = s["holding_weight"].notna() if "holding_weight" in s.columns else pd.Series(False, index=s.index)
+    who = "holdings" if bool(held.any()) else "securities of the universe"
+    base = s[held.to_numpy(dtype=bool)] if bool(held.any()) else s
+    ranked = base[np.isfinite(base["zscore"].to_numpy(dtype=float))]
+    n = len(ranked)
+    k = min(15, (n + 1) // 2)
+    cheap, dear = ranked.iloc[:k], ranked.iloc[max(k, n - 15):]
+
+    def show(df: pd.DataFrame) -> pd.DataFrame:
+        return pd.DataFrame({
+            "Security": df.index.astype(str),
+            "Sector": df["sector"].astype(str).to_numpy(),
+            "Signal": [_fmt_signal(result, float(v)) for v in df["signal"]],
+            "P/E": df["pe_display"].astype(str).to_numpy(),
+            "Z-score": [fmt_num(v, 2) for v in df["zscore"]],
+            "Z in sector": [fmt_num(v, 2) for v in df["sector_zscore"]],
+            "Quantile": df["quantile_label"].astype(str).to_numpy(),
+            "Z chg 3 m": [fmt_num(v, 2) for v in df["z_change_3m"]],
+            "Z chg 12 m": [fmt_num(v, 2) for v in df["z_change_12m"]],
+            "Flags": [str(f) if str(f) else "none" for f in df["flags"]],
+        }).replace("n/a", "")
+
+    left_out = len(base) - n
+    title = (f"The screen on {s.attrs.get('date', '')}: the {len(cheap)} cheapest and {len(dear)} dearest of "
+             f"{n} {who} by {signal_label(result)}"
+             + (f" ({left_out} without a z-score are left out; see tables/screen.csv)" if left_out else ""))
+    return title, show(cheap), show(dear)
+
+
+def _facts(result: StudyResult, panel: Any, horizon: int, created: datetime, study_name: str) -> list[tuple[str, str]]:
+    uni = result.universe.sum(axis=1)
+    used = uni[uni > 0]
+    asof = str(result.screen.attrs.get("date", ""))
+    n_asof = int(uni.loc[pd.Timestamp(asof)]) if asof and pd.Timestamp(asof) in uni.index else 0
+    dates = result.signal_z.index
+    hs = ", ".join(str(h) for h in result.config.horizons)
+    return [
+        ("Study", study_name),
+        ("As of", f"{asof} (the latest month-end with a signal)"),
+        ("Universe", f"{universe_words(result)}: {n_asof} names on the as-of date, {used.mean():.0f} on average "
+                     f"over {len(used)} month-ends"),
+        ("Signal", f"{signal_label(result)}. {signal_definition(result)}"),
+        ("Horizons", f"{hs} months; per-horizon charts drawn at {horizon} months"),
+        ("Data period", f"{span(dates)} ({len(dates)} month-ends); universe present {span(used.index)}"),
+        ("Returns", f"{return_label(result, horizon).replace(f'{horizon}-month ', '')}, dividends "
+                    f"{'reinvested' if result.config.dividend_treatment == 'reinvest' else 'kept as cash'}"),
+        ("Prepared", f"{created.strftime('%Y-%m-%d %H:%M')} UTC with ValueSift {core.__version__}"),
+    ]
+
+
+def _config_rows(result: StudyResult) -> list[tuple[str, str]]:
+    out = []
+    for k, v in result.config.to_dict().items():
+        text = ", ".join(str(x) for x in v) if isinstance(v, list) else str(v)
+        out.append((k, text if text else "(none)"))
+    return out
+
+
+def _quality(panel: Any, result: StudyResult) -> tuple[pd.DataFrame, list[str], pd.DataFrame]:
+    rep = getattr(panel, "report", None)
+    lines: list[str] = []
+    files = pd.DataFrame(columns=["File", "Kind", "Rows", "Securities", "Dates", "Cells", "Parsed", "Blank",
+                                  "Unparseable", "Dropped"])
+    reasons = pd.DataFrame(columns=["File", "Category", "Reason", "Cells", "First places"])
+    if rep is not None:
+        frows, rrows = [], []
+        for f in rep.files:
+            dates = "" if f.first_date is None or pd.isna(f.first_date) else \
+                f"{pd.Timestamp(f.first_date).date()} to {pd.Timestamp(f.last_date).date()}"
+            frows.append([f.name, f.kind, f"{f.n_rows:,}", f"{f.n_securities:,}", dates, f"{f.cells_total:,}",
+                          f"{f.cells_parsed:,}", f"{f.cells_blank:,}", f"{f.cells_unparseable:,}", f"{f.cells_dropped:,}"])
+            for _, r in f.by_reason.iterrows():
+                ex = f.examples[f.examples["reason"] == r["reason"]].head(3)
+                where = "; ".join(f"row {int(e['row'])}, {e['column']}: {str(e['value'])[:18]!r}" for _, e in ex.iterrows())
+                rrows.append([f.name, str(r["category"]), str(r["reason"]), f"{int(r['count']):,}", where])
+            lines.extend(f"{f.name}: {n}" for n in f.notes)
+        files = pd.DataFrame(frows, columns=files.columns)
+        reasons = pd.DataFrame(rrows, columns=reasons.columns)
+        sec = rep.securities
+        lines.append(f"Securities in the panel: {len(sec)}" + (
+            f"; median price coverage {float(sec['coverage'].median()):.1%}" if len(sec) and "coverage" in sec else ""))
+        for flag in ("late_listing", "delisted", "suspected_split", "split_adjusted", "stale", "extreme_pe",
+                     "negative_earnings", "no_earnings", "looks_like_index"):
+            names = rep.flagged(flag)
+            if names:
+                shown = ", ".join(names[:10]) + (f" and {len(names) - 10} more" if len(names) > 10 else "")
+                lines.append(f"Flag {flag.replace('_', ' ')}: {len(names)} ({shown})")
+        for _, r in rep.suspected_splits.iterrows():
+            lines.append(f"Suspected split: {r['security']} at {pd.Timestamp(r['date']).date()}, ratio "
+                         f"{float(r['ratio']):g}, {'applied' if bool(r['applied']) else 'not applied'}")
+        for _, r in rep.alignment.iterrows():
+            lines.append(f"Set aside while aligning to month-ends: {r['file']}, {r['reason']}: {int(r['count'])}")
+        lines.extend(f"Panel note: {n}" for n in rep.panel_notes)
+        if rep.holdings_total is not None:
+            lines.append(f"Holdings weights as read sum to {rep.holdings_total:.4f}")
+    dn = result.date_notes
+    if dn is not None and len(dn):
+        g = dn.groupby(["stage", "horizon", "reason"], as_index=False).agg(dates=("date", "count"))
+        for _, r in g.iterrows():
+            where = f" at {int(r['horizon'])} months" if int(r["horizon"]) else ""
+            lines.append(f"Study, {r['stage']}{where}: {int(r['dates'])} date(s) left out: {r['reason']}")
+    lines.extend(f"Study note: {n}" for n in result.notes)
+    return files, lines, reasons
+
+
+def report_input(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any]], *, study_name: str,
+                 title: str | None, note: str | None, horizon: int, chart_keys: Sequence[str],
+                 png: dict[str, bytes], images_note: str | None, created: datetime) -> ReportInput:
+    """Everything :func:`app.bundle.pdf.build_pdf` lays out, from the numbers of ``result``."""
+    word = share_word(result.config.n_quantiles)
+    lead = []
+    for h in result.config.horizons:
+        sent = headline_sentences(result, h)
+        lead.append(sent[0])
+    hh = horizon
+    lead.append(" ".join(headline_sentences(result, hh)[1:]))
+    bts = result.backtest.stats
+    after = []
+    if "cheapest" in bts.index:
+        c = bts.loc["cheapest"]
+        after.append(f"Backtest (monthly rebalanced, held {result.backtest.holding_months} month(s), costs "
+                     f"{fmt_num(result.config.transaction_cost_bps, 0)} bp): the cheapest {word} earned "
+                     f"{fmt_pct(c['ann_return'], 1)} a year, Sharpe {fmt_num(c['sharpe'], 2)}, worst drawdown "
+                     f"{fmt_pct(c['max_drawdown'], 0)}; {fmt_pct(result.backtest.cohort_share_beat, 0)} of its cohorts "
+                     f"beat the {result.backtest.comparison}.")
+    after.append("How to read t: below 2 in absolute value the figure is not distinguishable from noise; 2 to 3 is "
+                 "distinguishable at the usual 5% level; 3 or more is strong. Newey-West standard errors allow "
+                 "for the overlap of multi-month returns. Every figure is in tables/summary.csv and summary.json.")
+    titles = {c.key: c.title for c in CHARTS}
+    chart_pages = []
+    for key in chart_keys:
+        heading = titles[key] + (f", {hh} months" if any(c.key == key and c.per_horizon for c in CHARTS) else "")
+        chart_pages.append((key, heading, png.get(key), CHART_READINGS[key](result, hh, panel)))
+    st, cheap, dear = screen_frames(result)
+    qf, ql, qr = _quality(panel, result)
+    asof = str(result.screen.attrs.get("date", ""))
+    default_title = f"Has {signal_label(result)} been rewarded? Study {study_name}, as of {asof}"
+    return ReportInput(
+        title=title or default_title,
+        study_name=study_name,
+        footer=f"ValueSift {core.__version__} - study {study_name} - as of {asof} - research use only, "
+               f"not investment advice",
+        facts=_facts(result, panel, hh, created, study_name),
+        configuration=_config_rows(result),
+        inputs=list(inputs),
+        caution=CAUTION,
+        note=note or None,
+        summary_lead=lead,
+        summary_table=summary_rows(result),
+        summary_after=after,
+        charts=chart_pages,
+        images_note=images_note,
+        screen_title=st,
+        screen_cheap=cheap,
+        screen_dear=dear,
+        quality_files=qf,
+        quality_lines=ql,
+        quality_reasons=qr,
+    )
+

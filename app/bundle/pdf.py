@@ -1,0 +1,302 @@
+"""report.pdf: cover, one-page summary, one page per chart, the screen and a data-quality appendix.
+
+Built with reportlab's page layout engine on landscape A4 in one font family
+(Bitstream Vera, shipped inside reportlab, so every machine prints the same
+glyphs).  ``invariant=1`` fixes the document id and dates, so the same input
+gives the same bytes.  Every dynamic string is escaped before layout.
+"""
+
+from __future__ import annotations
+
+import io
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Sequence
+from xml.sax.saxutils import escape
+
+import pandas as pd
+from reportlab import rl_config
+from reportlab.lib import colors
+from reportlab.lib.pagesizes import A4, landscape
+from reportlab.lib.styles import ParagraphStyle
+from reportlab.lib.units import mm
+from reportlab.pdfbase import pdfmetrics
+from reportlab.pdfbase.ttfonts import TTFont
+from reportlab.pdfgen import canvas as rl_canvas
+from reportlab.platypus import (CondPageBreak, Image, KeepTogether, PageBreak, Paragraph, SimpleDocTemplate,
+                                Spacer, Table, TableStyle)
+
+__all__ = ["ReportInput", "build_pdf", "FONT"]
+
+# Binary streams as they are (JPEG passes through; no ASCII85 text encoding that costs time and 25 % size).
+rl_config.useA85 = 0
+
+FONT = "VSSans"
+_PAGE = landscape(A4)
+_MARGIN = 14 * mm
+_INK = colors.HexColor("#26313d")
+_MUTED = colors.HexColor("#6f7782")
+_CHEAP = colors.HexColor("#1f4f85")
+_RULE = colors.HexColor("#cfc9bf")
+_SHADE = colors.HexColor("#f1eee8")
+
+
+def _register_fonts() -> None:
+    import reportlab
+
+    if FONT in pdfmetrics.getRegisteredFontNames():
+        return
+    base = Path(reportlab.__file__).parent / "fonts"
+    pdfmetrics.registerFont(TTFont(FONT, str(base / "Vera.ttf")))
+    pdfmetrics.registerFont(TTFont(FONT + "-Bold", str(base / "VeraBd.ttf")))
+    pdfmetrics.registerFont(TTFont(FONT + "-Italic", str(base / "VeraIt.ttf")))
+    pdfmetrics.registerFont(TTFont(FONT + "-BoldItalic", str(base / "VeraBI.ttf")))
+    from reportlab.lib.fonts import addMapping
+
+    addMapping(FONT, 0, 0, FONT)
+    addMapping(FONT, 1, 0, FONT + "-Bold")
+    addMapping(FONT, 0, 1, FONT + "-Italic")
+    addMapping(FONT, 1, 1, FONT + "-BoldItalic")
+
+
+def _styles() -> dict[str, ParagraphStyle]:
+    _register_fonts()
+    body = ParagraphStyle("body", fontName=FONT, fontSize=9.5, leading=12.5, textColor=_INK)
+    return {
+        "title": ParagraphStyle("title", parent=body, fontName=FONT + "-Bold", fontSize=22, leading=27, spaceAfter=4),
+        "subtitle": ParagraphStyle("subtitle", parent=body, fontSize=12, leading=15, textColor=_MUTED, spaceAfter=8),
+        "h1": ParagraphStyle("h1", parent=body, fontName=FONT + "-Bold", fontSize=15, leading=19, spaceAfter=6),
+        "h2": ParagraphStyle("h2", parent=body, fontName=FONT + "-Bold", fontSize=11, leading=14, spaceBefore=6,
+                             spaceAfter=3),
+        "body": body,
+        "reading": ParagraphStyle("reading", parent=body, fontSize=10.5, leading=14),
+        "small": ParagraphStyle("small", parent=body, fontSize=7.6, leading=9.4),
+        "cell": ParagraphStyle("cell", parent=body, fontSize=7.6, leading=9.2),
+        "cellb": ParagraphStyle("cellb", parent=body, fontName=FONT + "-Bold", fontSize=7.6, leading=9.2),
+        "mono": ParagraphStyle("mono", parent=body, fontName="Courier", fontSize=7, leading=9),
+        "caution": ParagraphStyle("caution", parent=body, fontSize=9, leading=12, borderColor=_DEAR_BORDER,
+                                  borderWidth=0.8, borderPadding=6, backColor=colors.HexColor("#fbf6ef"),
+                                  spaceBefore=6, spaceAfter=6),
+        "missing": ParagraphStyle("missing", parent=body, fontSize=11, leading=15, borderColor=_RULE,
+                                  borderWidth=0.8, borderPadding=10, backColor=_SHADE),
+    }
+
+
+_DEAR_BORDER = colors.HexColor("#c77a2e")
+
+
+def _p(text: Any, style: ParagraphStyle) -> Paragraph:
+    return Paragraph(escape(str(text)), style)
+
+
+@dataclass(frozen=True)
+class ReportInput:
+    """Everything the report lays out (all text already generated from the numbers)."""
+
+    title: str
+    study_name: str
+    footer: str
+    facts: Sequence[tuple[str, str]]
+    configuration: Sequence[tuple[str, str]]
+    inputs: Sequence[dict[str, Any]]
+    caution: str
+    note: str | None
+    summary_lead: Sequence[str]
+    summary_table: pd.DataFrame
+    summary_after: Sequence[str]
+    charts: Sequence[tuple[str, str, bytes | None, Sequence[str]]]   # (key, heading, png or None, two lines)
+    images_note: str | None
+    screen_title: str
+    screen_cheap: pd.DataFrame
+    screen_dear: pd.DataFrame
+    quality_files: pd.DataFrame
+    quality_lines: Sequence[str]
+    quality_reasons: pd.DataFrame
+
+
+class _NumberedCanvas(rl_canvas.Canvas):
+    """Writes "page x of y" and the footer once the page count is known."""
+
+    footer = ""
+
+    def __init__(self, *args: Any, **kwargs: Any) -> None:
+        super().__init__(*args, **kwargs)
+        self._saved: list[dict[str, Any]] = []
+
+    def showPage(self) -> None:  # noqa: N802 - reportlab's name
+        self._saved.append(dict(self.__dict__))
+        self._startPage()
+
+    def save(self) -> None:
+        n = len(self._saved)
+        for state in self._saved:
+            self.__dict__.update(state)
+            self._footer(n)
+            super().showPage()
+        super().save()
+
+    def _footer(self, n: int) -> None:
+        w, _ = _PAGE
+        self.setFont(FONT, 7.5)
+        self.setFillColor(_MUTED)
+        self.setStrokeColor(_RULE)
+        self.line(_MARGIN, 10 * mm, w - _MARGIN, 10 * mm)
+        self.drawString(_MARGIN, 6.5 * mm, self.footer[:150])
+        self.drawRightString(w - _MARGIN, 6.5 * mm, f"page {self._pageNumber} of {n}")
+
+
+def _table(rows: list[list[Any]], widths: Sequence[float], *, header: bool = True, zebra: bool = True,
+           align_right_from: int | None = None) -> Table:
+    t = Table(rows, colWidths=list(widths), repeatRows=1 if header else 0)
+    style = [
+        ("FONT", (0, 0), (-1, -1), FONT, 7.6),
+        ("TEXTCOLOR", (0, 0), (-1, -1), _INK),
+        ("VALIGN", (0, 0), (-1, -1), "TOP"),
+        ("LINEBELOW", (0, 0), (-1, 0 if header else -1), 0.6 if header else 0.25, _RULE),
+        ("TOPPADDING", (0, 0), (-1, -1), 2),
+        ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+        ("LEFTPADDING", (0, 0), (-1, -1), 3),
+        ("RIGHTPADDING", (0, 0), (-1, -1), 3),
+    ]
+    if header:
+        style += [("FONT", (0, 0), (-1, 0), FONT + "-Bold", 7.6), ("BACKGROUND", (0, 0), (-1, 0), _SHADE)]
+    if zebra:
+        for i in range(2 if header else 1, len(rows), 2):
+            style.append(("BACKGROUND", (0, i), (-1, i), colors.HexColor("#f8f6f2")))
+    if align_right_from is not None:
+        style.append(("ALIGN", (align_right_from, 1 if header else 0), (-1, -1), "RIGHT"))
+    t.setStyle(TableStyle(style))
+    return t
+
+
+def _frame_rows(df: pd.DataFrame, st: dict[str, ParagraphStyle], wrap: Sequence[str] = ()) -> list[list[Any]]:
+    rows: list[list[Any]] = [[_p(c, st["cellb"]) for c in df.columns]]
+    for rec in df.itertuples(index=False, name=None):
+        rows.append([_p(v, st["cell"]) if c in wrap else ("" if v is None else str(v)) for c, v in zip(df.columns, rec)])
+    return rows
+
+
+def _image(png: bytes, max_w: float, max_h: float) -> Image:
+    """The slide image for print: JPEG (quality 92, no chroma subsampling), which the PDF embeds as is.
+
+    The lossless 2x PNG is in charts/; a JPEG keeps the report small and fast to build.
+    """
+    from PIL import Image as PILImage
+
+    im = PILImage.open(io.BytesIO(png)).convert("RGB")
+    buf = io.BytesIO()
+    im.save(buf, format="JPEG", quality=92, subsampling=0, optimize=False)
+    buf.seek(0)
+    ratio = im.height / im.width
+    w = min(max_w, max_h / ratio)
+    return Image(buf, width=w, height=w * ratio)
+
+
+def build_pdf(data: ReportInput, path: Path) -> int:
+    """Write the report to ``path``; returns the number of pages."""
+    st = _styles()
+    w, h = _PAGE
+    usable_w = w - 2 * _MARGIN
+    usable_h = h - 2 * _MARGIN - 6 * mm
+    story: list[Any] = []
+
+    # -- cover -------------------------------------------------------------------------------
+    story.append(_p(data.title, st["title"]))
+    story.append(_p(f"Study {data.study_name!s}: the committee report", st["subtitle"]))
+    facts = [[_p(k, st["cellb"]), _p(v, st["cell"])] for k, v in data.facts]
+    conf = [[_p(k, st["cell"]), _p(v, st["cell"])] for k, v in data.configuration]
+    half = (len(conf) + 1) // 2
+    left = _table(facts, [26 * mm, usable_w - 152 * mm - 26 * mm], header=False, zebra=False)
+    c1 = _table(conf[:half], [40 * mm, 28 * mm], header=False)
+    c2 = _table(conf[half:], [40 * mm, 28 * mm], header=False)
+    conf_block = [[_p("Every configuration choice", st["h2"]), ""], [c1, c2]]
+    right = Table(conf_block, colWidths=[70 * mm, 70 * mm])
+    right.setStyle(TableStyle([("SPAN", (0, 0), (1, 0)), ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                               ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
+    top = Table([[left, right]], colWidths=[usable_w - 146 * mm, 146 * mm])
+    top.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"), ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
+    story.append(top)
+    story.append(_p("Input files", st["h2"]))
+    frows: list[list[Any]] = [[_p(x, st["cellb"]) for x in ("file (as uploaded)", "kind", "bytes", "rows",
+                                                             "securities", "SHA-256")]]
+    for f in data.inputs:
+        frows.append([_p(f.get("name", ""), st["cell"]), str(f.get("kind", "")), f"{int(f.get('size', 0)):,}",
+                      "" if f.get("rows") is None else f"{int(f['rows']):,}",
+                      "" if f.get("securities") is None else f"{int(f['securities']):,}",
+                      _p(f.get("sha256", ""), st["mono"])])
+    story.append(_table(frows, [58 * mm, 22 * mm, 20 * mm, 16 * mm, 18 * mm, usable_w - 134 * mm], align_right_from=None))
+    if data.note:
+        story.append(_p("Note: " + data.note, st["body"]))
+    story.append(_p(data.caution, st["caution"]))
+    story.append(PageBreak())
+
+    # -- summary -----------------------------------------------------------------------------
+    story.append(_p("Summary", st["h1"]))
+    for s in data.summary_lead:
+        story.append(_p(s, st["reading"]))
+        story.append(Spacer(1, 3))
+    story.append(Spacer(1, 4))
+    tbl = data.summary_table
+    n = len(tbl.columns)
+    widths = [usable_w * 0.07] + [usable_w * 0.93 / (n - 1)] * (n - 1)
+    story.append(_table(_frame_rows(tbl, st, wrap=list(tbl.columns)), widths, align_right_from=1))
+    story.append(Spacer(1, 6))
+    for s in data.summary_after:
+        story.append(_p(s, st["body"]))
+        story.append(Spacer(1, 2))
+    story.append(PageBreak())
+
+    # -- charts ------------------------------------------------------------------------------
+    img_h = usable_h - 70
+    for key, heading, png, lines in data.charts:
+        block: list[Any] = [_p(heading, st["h1"])]
+        if png is not None:
+            block.append(_image(png, usable_w, img_h))
+        else:
+            block.append(_p(data.images_note or "The image of this chart could not be rendered.", st["missing"]))
+            block.append(Spacer(1, 8))
+            block.append(_p(f"The interactive chart is charts/{key}.html in this bundle.", st["body"]))
+        block.append(Spacer(1, 6))
+        for line in lines:
+            if line:
+                block.append(_p(line, st["reading"]))
+        story.append(KeepTogether(block))
+        story.append(PageBreak())
+
+    # -- screen ------------------------------------------------------------------------------
+    story.append(_p(data.screen_title, st["h2"]))
+    sw = [20 * mm, 26 * mm, 16 * mm, 15 * mm, 14 * mm, 15 * mm, 27 * mm, 15 * mm, 15 * mm]
+    sw.append(usable_w - sum(sw))
+    for label, df in (("Cheapest", data.screen_cheap), ("Dearest", data.screen_dear)):
+        story.append(CondPageBreak(60 * mm))
+        story.append(_p(f"{label} {len(df)}", st["h2"]))
+        t = _table(_frame_rows(df, st, wrap=["Security", "Sector", "Quantile", "Flags"]), sw, align_right_from=2)
+        t.setStyle(TableStyle([("TOPPADDING", (0, 0), (-1, -1), 1), ("BOTTOMPADDING", (0, 0), (-1, -1), 1),
+                               ("ALIGN", (6, 1), (6, -1), "LEFT"), ("ALIGN", (9, 1), (9, -1), "LEFT")]))
+        story.append(t)
+    story.append(PageBreak())
+
+    # -- data quality ------------------------------------------------------------------------
+    story.append(_p("Appendix: data quality", st["h1"]))
+    q = data.quality_files
+    qw = [46 * mm] + [(usable_w - 46 * mm) / (len(q.columns) - 1)] * (len(q.columns) - 1)
+    story.append(_table(_frame_rows(q, st, wrap=list(q.columns)), qw, align_right_from=2))
+    if len(data.quality_reasons):
+        story.append(_p("Cells set aside, by file and reason", st["h2"]))
+        r = data.quality_reasons
+        rw = [46 * mm, 30 * mm, 50 * mm, 22 * mm]
+        rw.append(usable_w - sum(rw))
+        story.append(_table(_frame_rows(r, st, wrap=list(r.columns)), rw))
+    story.append(_p("Securities, splits and notes", st["h2"]))
+    for line in data.quality_lines:
+        story.append(_p(line, st["small"]))
+        story.append(Spacer(1, 1.5))
+
+    canvas_cls = type("_Canvas", (_NumberedCanvas,), {"footer": data.footer})
+    doc = SimpleDocTemplate(str(path), pagesize=_PAGE, leftMargin=_MARGIN, rightMargin=_MARGIN,
+                            topMargin=_MARGIN, bottomMargin=_MARGIN + 4 * mm, invariant=1,
+                            title=data.title, author="ValueSift", subject=f"Study {data.study_name}",
+                            creator="ValueSift", producer="ValueSift (reportlab)")
+    doc.build(story, canvasmaker=canvas_cls)
+    return int(doc.page)
+

@@ -1,0 +1,292 @@
+"""Plain-language sentences of the report, generated from the result's numbers (never canned text).
+
+Every sentence here reads its figures from a :class:`core.study.StudyResult`
+(or the panel), so a different study gives a different reading.  Wording of
+the evidence follows one rule, stated once (common practice for a t-statistic
+of a mean): ``|t| < 2`` is "not distinguishable from noise", ``2 <= |t| < 3``
+is "distinguishable from zero at the usual 5 % level", ``|t| >= 3`` is "strong".
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from app.figures._common import fmt_num, fmt_pct, month, span
+from core.study import StudyResult
+
+__all__ = [
+    "verdict",
+    "share_word",
+    "headline_sentences",
+    "CHART_READINGS",
+    "signal_definition",
+    "universe_words",
+]
+
+_SHARE_WORDS = {2: "half", 3: "third", 4: "quarter", 5: "fifth", 10: "tenth", 20: "twentieth"}
+
+_DEFINITIONS = {
+    "earnings_yield": "Earnings yield: trailing-twelve-month earnings per share divided by the price "
+                      "(higher = cheaper; loss-makers get a negative yield and rank dearest).",
+    "dividend_yield": "Dividend yield: dividends with ex-dates in the trailing twelve months divided by "
+                      "the price (higher = cheaper).",
+    "composite": "Composite: the mean of the cross-sectional z-scores of {parts} (higher = cheaper).",
+}
+
+
+def _f(x: Any) -> float:
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        return float("nan")
+    return v
+
+
+def verdict(t: Any) -> str:
+    """The evidence in words for a t-statistic (see the module docstring for the thresholds)."""
+    v = _f(t)
+    if not np.isfinite(v):
+        return "cannot be judged (too few dates)"
+    if abs(v) < 2:
+        return "not distinguishable from noise"
+    if abs(v) < 3:
+        return "distinguishable from zero at the usual 5% level, though not by a wide margin"
+    return "strong by the usual standard (|t| of 3 or more)"
+
+
+def share_word(n_quantiles: int) -> str:
+    """'fifth' for quintiles, 'tenth' for deciles, else '1/n'."""
+    return _SHARE_WORDS.get(int(n_quantiles), f"1/{int(n_quantiles)}")
+
+
+def signal_definition(result: StudyResult) -> str:
+    """What the signal is, in one sentence."""
+    name = result.signal_name
+    if name == "composite":
+        return _DEFINITIONS["composite"].format(parts=", ".join(p.replace("_", " ") for p in result.config.composite_of))
+    if name in _DEFINITIONS:
+        return _DEFINITIONS[name]
+    return f"Your own signal {name!r}, as supplied in your signal file (oriented so that higher = cheaper)."
+
+
+def universe_words(result: StudyResult) -> str:
+    """The universe rule in words."""
+    cfg = result.config
+    if cfg.universe == "holdings":
+        base = "the holdings"
+    elif cfg.universe == "sectors":
+        base = "the sectors " + ", ".join(cfg.universe_sectors)
+    else:
+        base = "all securities in the price file"
+    if cfg.min_history_months:
+        base += f" with at least {cfg.min_history_months} months of prices"
+    return base
+
+
+def headline_sentences(result: StudyResult, horizon: int) -> list[str]:
+    """The committee sentences of one horizon: the spread in words, its t and interval, then the IC.
+
+    The numbers are those of ``summary_dict`` (spread_annualised, spread_t, ic_ci_low...), formatted
+    as printed: percentages to 1 decimal, t-statistics to 2, ICs to 3.
+    """
+    ss = result.spread_summary.loc[horizon]
+    ic = result.ic_summary.loc[horizon]
+    word = share_word(result.config.n_quantiles)
+    n = int(ss["n_dates"])
+    dates = result.spread[horizon].dropna().index
+    ann = _f(ss["mean_annualised"])
+    t = _f(ss["t_hac"])
+    if not np.isfinite(ann):
+        first = f"At {horizon} months there is no date with both the cheapest and the dearest {word} filled."
+        return [first]
+    lead, lag = ("cheapest", "dearest") if ann >= 0 else ("dearest", "cheapest")
+    first = (f"Over {n} months of portfolio formation ({span(dates)}), holding for {horizon} month"
+             f"{'s' if horizon != 1 else ''}, the {lead} {word} of the universe out-earned the {lag} {word} "
+             f"by {fmt_pct(abs(ann), 1)} a year; t = {fmt_num(t, 2)} ({verdict(t)}).")
+    second = (f"Per {horizon}-month period the mean spread was {fmt_pct(ss['mean'], 2)} (95% interval "
+              f"{fmt_pct(ss['ci_low'], 2)} to {fmt_pct(ss['ci_high'], 2)}, Newey-West with {int(ss['hac_lags'])} "
+              f"lags).")
+    third = (f"The mean rank IC was {fmt_num(ic['mean_ic'], 3)} (t = {fmt_num(ic['t_hac'], 2)}, 95% interval "
+             f"{fmt_num(ic['ci_low'], 3)} to {fmt_num(ic['ci_high'], 3)}, {int(ic['n_dates'])} dates): "
+             f"{verdict(ic['t_hac'])}.")
+    return [first, second, third]
+
+
+# -- chart readings: two lines each, from the numbers --------------------------------------
+def _ic_by_horizon(result: StudyResult, h: int, panel: Any) -> list[str]:
+    s = result.ic_summary
+    m = s["mean_ic"].to_numpy(dtype=float)
+    t = s["t_hac"].to_numpy(dtype=float)
+    hs = [int(x) for x in s.index]
+    if not np.isfinite(m).any():
+        return ["No horizon has enough dates for an information coefficient.", ""]
+    j = int(np.nanargmax(np.abs(t))) if np.isfinite(t).any() else int(np.nanargmax(np.abs(m)))
+    strong = [f"{hs[i]} m" for i in range(len(hs)) if np.isfinite(t[i]) and abs(t[i]) >= 2]
+    line1 = (f"The mean rank IC runs from {fmt_num(np.nanmin(m), 3)} to {fmt_num(np.nanmax(m), 3)} across "
+             f"{len(hs)} horizons; the clearest is {hs[j]} months (IC {fmt_num(m[j], 3)}, t = {fmt_num(t[j], 2)}).")
+    line2 = (f"{len(strong)} of {len(hs)} horizons have |t| of 2 or more ({', '.join(strong)}); "
+             if strong else f"None of the {len(hs)} horizons reaches |t| = 2: ") + \
+        ("the others are not distinguishable from noise." if strong else "the IC is not distinguishable from noise.")
+    return [line1, line2]
+
+
+def _ic_over_time(result: StudyResult, h: int, panel: Any) -> list[str]:
+    ic = result.rank_ic[h].dropna()
+    row = result.ic_summary.loc[h]
+    if ic.empty:
+        return [f"No date has an IC at the {h}-month horizon.", ""]
+    line1 = (f"At {h} months the rank IC was above zero on {fmt_pct(row['hit_share'], 0)} of {len(ic)} dates "
+             f"({span(ic.index)}); mean {fmt_num(row['mean_ic'], 3)}, t = {fmt_num(row['t_hac'], 2)}.")
+    roll = ic.rolling(12, min_periods=12).mean().dropna()
+    if roll.empty:
+        return [line1, "Too few dates for a 12-date rolling mean."]
+    lo, hi = roll.idxmin(), roll.idxmax()
+    line2 = (f"The 12-date rolling mean ranged from {fmt_num(roll.min(), 3)} (to {month(lo)}) to "
+             f"{fmt_num(roll.max(), 3)} (to {month(hi)}); the IC is {verdict(row['t_hac'])}.")
+    return [line1, line2]
+
+
+def _quantiles(result: StudyResult, h: int, panel: Any) -> list[str]:
+    qa = result.quantile_mean_annualised.loc[h].to_numpy(dtype=float)
+    ss = result.spread_summary.loc[h]
+    word = share_word(result.config.n_quantiles)
+    if not np.isfinite(qa).any():
+        return [f"No date has returns for every quantile at {h} months.", ""]
+    line1 = (f"Annualised, the cheapest {word} returned {fmt_pct(qa[-1], 1)} a year and the dearest "
+             f"{fmt_pct(qa[0], 1)} over {int(ss['n_dates'])} formation dates (holding {h} months).")
+    mono = _f(ss["monotonicity"])
+    shape = ("returns rise steadily from dearest to cheapest" if mono >= 0.9 else
+             "returns rise from dearest to cheapest, but not step by step" if mono > 0 else
+             "returns do not rise from dearest to cheapest")
+    line2 = f"Monotonicity {fmt_num(mono, 2)}: {shape}; the spread's t = {fmt_num(ss['t_hac'], 2)} ({verdict(ss['t_hac'])})."
+    return [line1, line2]
+
+
+def _spread(result: StudyResult, h: int, panel: Any) -> list[str]:
+    s = result.spread[h].dropna()
+    ss = result.spread_summary.loc[h]
+    if s.empty:
+        return ["No date has both the cheapest and the dearest quantile filled.", ""]
+    line1 = (f"The cheapest-minus-dearest {h}-month return was positive on {fmt_pct((s > 0).mean(), 0)} of "
+             f"{len(s)} formation dates; mean {fmt_pct(ss['mean'], 2)}, t = {fmt_num(ss['t_hac'], 2)}.")
+    roll = s.rolling(12, min_periods=12).mean().dropna()
+    if roll.empty:
+        return [line1, "Too few dates for a 12-date rolling mean."]
+    line2 = (f"Its 12-date rolling mean was best at {fmt_pct(roll.max(), 1)} (to {month(roll.idxmax())}) and worst "
+             f"at {fmt_pct(roll.min(), 1)} (to {month(roll.idxmin())}).")
+    return [line1, line2]
+
+
+def _scatter(result: StudyResult, h: int, panel: Any) -> list[str]:
+    fwd = result.forward_returns[h]
+    z = result.signal_z.reindex(index=fwd.index, columns=fwd.columns).to_numpy(dtype=float).ravel()
+    y = fwd.to_numpy(dtype=float).ravel()
+    ok = np.isfinite(z) & np.isfinite(y)
+    row = result.ic_summary.loc[h]
+    if ok.sum() < 3:
+        return ["Too few signal and return pairs to draw.", ""]
+    x, y = z[ok], y[ok]
+    xm = x.mean()
+    sxx = float(((x - xm) ** 2).sum())
+    b = float(((x - xm) * (y - y.mean())).sum() / sxx) if sxx > 0 else float("nan")
+    line1 = (f"Pooled over {int(ok.sum()):,} name-dates, one more unit of z-score went with "
+             f"{fmt_pct(b, 2)} more {h}-month return on average (least-squares slope).")
+    line2 = (f"Pooled points overlap in time, so judge by the mean rank IC: {fmt_num(row['mean_ic'], 3)}, "
+             f"t = {fmt_num(row['t_hac'], 2)}, {verdict(row['t_hac'])}.")
+    return [line1, line2]
+
+
+def _fm(result: StudyResult, h: int, panel: Any) -> list[str]:
+    s = result.fm_summary
+    if s.empty or not np.isfinite(s["mean_slope"].to_numpy(dtype=float)).any():
+        return ["No date has enough names for a cross-sectional regression.", ""]
+    r = s.loc[h] if h in s.index else s.iloc[0]
+    hh = int(h if h in s.index else s.index[0])
+    sig = [f"{int(k)} m" for k, v in s["t_hac"].items() if np.isfinite(_f(v)) and abs(_f(v)) >= 2]
+    line1 = (f"At {hh} months each unit of z-score added {fmt_pct(r['mean_slope'], 2)} of return on average "
+             f"across {int(r['n_dates'])} monthly regressions (t = {fmt_num(r['t_hac'], 2)}).")
+    line2 = (f"Slopes with |t| of 2 or more: {', '.join(sig)}; the rest are not distinguishable from noise."
+             if sig else f"No horizon's slope reaches |t| = 2: none is distinguishable from noise.")
+    return [line1, line2]
+
+
+def _growth(result: StudyResult, h: int, panel: Any) -> list[str]:
+    bt = result.backtest
+    g = bt.growth
+    st = bt.stats
+    if g.empty or "cheapest" not in g.columns:
+        return ["The backtest has no month with returns.", ""]
+    last = g.dropna(how="all").index.max()
+    parts = [f"{name} {fmt_num(g.loc[last, col], 2)}" for col, name in
+             (("cheapest", "cheapest"), ("universe", "universe"), ("long_short", "cheapest minus dearest"),
+              ("benchmark", "benchmark")) if col in g.columns and np.isfinite(_f(g.loc[last, col]))]
+    line1 = f"1 invested at the start grew by {month(last)} to: " + ", ".join(parts) + "."
+    c = st.loc["cheapest"] if "cheapest" in st.index else None
+    u = st.loc["universe"] if "universe" in st.index else None
+    line2 = (f"Cheapest {share_word(result.config.n_quantiles)}: {fmt_pct(c['ann_return'], 1)} a year, Sharpe "
+             f"{fmt_num(c['sharpe'], 2)}" if c is not None else "") + \
+        (f"; universe {fmt_pct(u['ann_return'], 1)} a year, Sharpe {fmt_num(u['sharpe'], 2)}" if u is not None else "") + \
+        f" ({int(_f(c['n_months'])) if c is not None else 0} months, costs {fmt_num(result.config.transaction_cost_bps, 0)} bp)."
+    return [line1, line2]
+
+
+def _drawdown(result: StudyResult, h: int, panel: Any) -> list[str]:
+    dd = result.backtest.drawdown
+    if dd.empty:
+        return ["The backtest has no month with returns.", ""]
+    bits = []
+    for col, name in (("cheapest", "cheapest"), ("universe", "universe"), ("long_short", "cheapest minus dearest")):
+        if col in dd.columns and dd[col].notna().any():
+            bits.append((name, float(dd[col].min()), dd[col].idxmin()))
+    if not bits:
+        return ["The backtest has no month with returns.", ""]
+    line1 = "Deepest fall from a running peak: " + "; ".join(f"{n} {fmt_pct(v, 0)} ({month(d)})" for n, v, d in bits) + "."
+    c = dd["cheapest"].dropna() if "cheapest" in dd.columns else pd.Series(dtype=float)
+    under = float((c < -0.10).mean()) if len(c) else float("nan")
+    line2 = f"The cheapest portfolio spent {fmt_pct(under, 0)} of {len(c)} months more than 10% below its peak."
+    return [line1, line2]
+
+
+def _cohorts(result: StudyResult, h: int, panel: Any) -> list[str]:
+    bt = result.backtest
+    c = bt.cohorts
+    if c is None or c.empty or "excess" not in c.columns:
+        return ["No cohort completed its holding period.", ""]
+    ex = pd.to_numeric(c["excess"], errors="coerce").dropna()
+    if ex.empty:
+        return ["No cohort completed its holding period.", ""]
+    line1 = (f"{int((ex > 0).sum())} of {len(ex)} cohorts ({fmt_pct((ex > 0).mean(), 0)}) of the cheapest quantile "
+             f"beat the {bt.comparison} over {bt.holding_months} month(s); mean excess {fmt_pct(ex.mean(), 2)}.")
+    line2 = (f"Best cohort formed {month(ex.idxmax())} ({fmt_pct(ex.max(), 1)}), worst formed {month(ex.idxmin())} "
+             f"({fmt_pct(ex.min(), 1)}).")
+    return [line1, line2]
+
+
+def _coverage(result: StudyResult, h: int, panel: Any) -> list[str]:
+    if panel is None:
+        return ["No panel was given.", ""]
+    mask = panel.valid_price_mask()
+    per = mask.sum(axis=1)
+    line1 = (f"{mask.shape[1]} securities over {mask.shape[0]} month-ends ({span(panel.dates)}); "
+             f"{fmt_pct(mask.mean(), 0)} of the cells hold a valid price.")
+    line2 = (f"Names with a price per month-end range from {int(per.min())} to {int(per.max())}; "
+             f"the study's universe averaged {fmt_num(result.universe.sum(axis=1)[lambda s: s > 0].mean(), 0)} names.")
+    return [line1, line2]
+
+
+#: chart key -> function(result, horizon, panel) -> two lines of reading.
+CHART_READINGS = {
+    "ic_by_horizon": _ic_by_horizon,
+    "ic_over_time": _ic_over_time,
+    "quantile_returns": _quantiles,
+    "spread_over_time": _spread,
+    "scatter": _scatter,
+    "fm_slopes": _fm,
+    "growth": _growth,
+    "drawdown": _drawdown,
+    "cohorts": _cohorts,
+    "coverage": _coverage,
+}

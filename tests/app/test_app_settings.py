@@ -1,0 +1,52 @@
+"""Study settings from the browser to a StudyConfig, and what a panel offers the controls."""
+
+from __future__ import annotations
+
+import pandas as pd
+import pytest
+
+from app.components.common import panel_choices
+from app.settings import DEFAULT_SETTINGS, config_from_settings
+from core.errors import ConfigError
+from core.panel import UserSignal
+from core.study import StudyConfig
+
+
+def test_defaults_are_the_engine_defaults_where_they_overlap() -> None:
+    cfg = config_from_settings(None)
+    ref = StudyConfig()
+    for k in ("signal", "universe", "horizons", "n_quantiles", "outlier_rule", "winsor_percentiles", "zscore_method",
+              "sector_neutral", "reporting_lag_months", "dividend_treatment", "excess_over", "holding_months"):
+        assert getattr(cfg, k) == getattr(ref, k), k
+
+
+def test_controls_map_to_the_config() -> None:
+    cfg = config_from_settings({**DEFAULT_SETTINGS, "universe": "sectors", "universe_sectors": ["Ports"],
+                                "horizons": [12, 1], "winsor_lower": 2.5, "sector_neutral": True,
+                                "min_history_months": "24", "excess_over": "universe"})
+    assert cfg.universe_sectors == ("Ports",) and cfg.horizons == (1, 12)
+    assert cfg.winsor_percentiles == (2.5, 97.5)
+    assert cfg.sector_neutral and cfg.min_history_months == 24 and cfg.excess_over == "universe"
+    # Sectors are ignored unless the universe is "sectors".
+    assert config_from_settings({"universe": "all", "universe_sectors": ["Ports"]}).universe_sectors == ()
+
+
+@pytest.mark.parametrize("bad, setting", [
+    ({"n_quantiles": 1}, "n_quantiles"),
+    ({"horizons": []}, "horizons"),
+    ({"min_history_months": 2.5}, "min_history_months"),
+    ({"winsor_lower": 60}, "winsor_percentiles"),
+    ({"universe": "sectors", "universe_sectors": []}, "universe_sectors"),
+])
+def test_bad_settings_name_the_setting(bad: dict, setting: str) -> None:
+    with pytest.raises(ConfigError, match=setting):
+        config_from_settings(bad)
+
+
+def test_panel_choices_offer_sectors_and_user_signals(small_panel) -> None:  # type: ignore[no-untyped-def]
+    sig = UserSignal("book yield", small_panel.prices * 0 + 1.0)
+    ch = panel_choices(small_panel.with_(signals=(sig,)))
+    assert ch["sectors"] == ["Farms", "Looms", "Mills", "Ports"]
+    assert ch["signals"] == ["book yield"] and ch["holdings"] and ch["benchmark"]
+    assert panel_choices(small_panel.with_(holdings=None, sectors=None))["sectors"] == []
+    assert isinstance(small_panel.prices, pd.DataFrame)

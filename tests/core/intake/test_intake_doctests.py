@@ -1,0 +1,18 @@
+"""Runs the docstring examples of core.intake so they cannot rot."""
+
+from __future__ import annotations
+
+import doctest
+import importlib
+
+import pytest
+
+MODULES = ["numbers", "dates", "kinds", "tidy", "files", "align", "splits", "flags"]
+
+
+@pytest.mark.parametrize("mod", MODULES)
+def test_docstring_examples(mod: str) -> None:
+    module = importlib.import_module(f"core.intake.{mod}")
+    result = doctest.testmod(module, optionflags=doctest.NORMALIZE_WHITESPACE)
+    assert result.attempted > 0, f"core.intake.{mod} has no examples"
+    assert result.failed == 0
