@@ -31,6 +31,7 @@ CAUTION = (
 
 def build_parser() -> argparse.ArgumentParser:
     from app import cli_commands as cmd
+    from app.cli_sweep import add_sweep
 
     parser = argparse.ArgumentParser(
         prog="valuesift",
@@ -43,6 +44,7 @@ def build_parser() -> argparse.ArgumentParser:
     cmd.add_study(sub)
     cmd.add_check(sub)
     cmd.add_demo(sub)
+    add_sweep(sub)
     return parser
 
 

@@ -88,6 +88,10 @@ def add_study_arguments(p: argparse.ArgumentParser) -> None:
     s.add_argument("--cost-bps", type=float, default=0.0, metavar="BPS", help="transaction cost per unit traded")
     s.add_argument("--risk-free", type=float, default=0.0, metavar="RATE", help="annual risk-free rate for Sharpe")
     s.add_argument("--out", required=True, metavar="DIR")
+    s.add_argument("--title", default=None, help="title on the cover of the bundle's report.pdf")
+    s.add_argument("--note", default=None, help="a note printed on the cover of report.pdf")
+    s.add_argument("--no-bundle", action="store_true",
+                   help="write only summary.json and tables/ic_by_date.csv, not the committee bundle")
     s.add_argument("--quiet", action="store_true", help="no progress lines")
 
 
@@ -184,6 +188,15 @@ def run_study_command(args: argparse.Namespace) -> int:
     show("done", 1.0)
     _print_headline(summary)
     print(f"Wrote {out / 'summary.json'} and {tables / 'ic_by_date.csv'}")
+    if not getattr(args, "no_bundle", False):
+        from app.bundle import write_bundle
+
+        paths = write_bundle(result, panel, inputs, out, study_name=args.name, title=getattr(args, "title", None),
+                             note=getattr(args, "note", None), progress=show)
+        print(f"Wrote the committee bundle to {out} ({len(paths.files)} files, report of {paths.pages} pages) "
+              f"and {paths.zip}")
+        if paths.note:
+            print(paths.note, file=sys.stderr)
     return 0
 
 

@@ -16,7 +16,7 @@ import pandas as pd
 from core.backtest import run_backtest
 from core.errors import ConfigError, InsufficientDataError
 from core.evaluate.famamacbeth import fm_slopes
-from core.evaluate.ic import ic_by_date, ic_summary, rolling_ic
+from core.evaluate.ic import _ic_and_slope, ic_by_date, ic_summary, rolling_ic
 from core.evaluate.quantiles import (
     _fast_means,
     _quantile_index,
@@ -206,9 +206,17 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     pic = np.full_like(ric, np.nan)
     brd = np.zeros((t_len, len(hcols)), dtype=int)
     zranks = average_ranks(zeval)  # ranked once, shared by every horizon
-    ics = _per_horizon(lambda h: ic_by_date(zeval, fwd[h], cfg.min_breadth, zranks), cfg.horizons, cells)
+    # Without Fama-MacBeth controls the slope comes from the IC's own centred arrays (same numbers).
+    fm_plain = not (cfg.fm_log_market_cap or cfg.fm_sector_dummies)
+
+    def ic_one(h: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray | None]:
+        if fm_plain:
+            return _ic_and_slope(zeval, fwd[h], cfg.min_breadth, zranks)
+        return (*ic_by_date(zeval, fwd[h], cfg.min_breadth, zranks), None)
+
+    ics = _per_horizon(ic_one, cfg.horizons, cells)
     for j, h in enumerate(cfg.horizons):
-        ric[:, j], pic[:, j], brd[:, j] = ics[j]
+        ric[:, j], pic[:, j], brd[:, j] = ics[j][:3]
         has_fwd = np.arange(t_len) < t_len - h
         low = has_fwd & (brd[:, j] < cfg.min_breadth) & (n_u > 0)
         _note(rows, dates, low, brd[:, j], h, "ic", f"fewer names than min_breadth ({cfg.min_breadth})")
@@ -265,7 +273,9 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     groups = codes if cfg.fm_sector_dummies else None
     fm = np.full((t_len, len(hcols)), np.nan)
     frows = []
-    fms = _per_horizon(lambda h: fm_slopes(zeval, fwd[h], controls, groups)[0], cfg.horizons, cells)
+    fms = [ic[3] for ic in ics]
+    if not fm_plain:
+        fms = _per_horizon(lambda h: fm_slopes(zeval, fwd[h], controls, groups)[0], cfg.horizons, cells)
     for j, h in enumerate(cfg.horizons):
         fm[:, j] = fms[j]
         s = fm[:, j][np.isfinite(fm[:, j])]

@@ -42,9 +42,16 @@ MAD_SCALE = 1.4826
 
 def _sorted_rows(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Row-sorted values (NaN last), the sorting permutation and the valid count per row."""
-    order = np.argsort(x, axis=1, kind="quicksort")  # NaN sorts last; ties are resolved by value runs
+    missing = np.isnan(x)
+    if missing.any() and not np.isinf(x).any():
+        # numpy's vectorised sort is not used for rows holding NaN (several times slower):
+        # sort with NaN as +inf instead, which is the same order (NaN last, no real inf present)
+        order = np.argsort(np.where(missing, np.inf, x), axis=1, kind="quicksort")
+    else:
+        order = np.argsort(x, axis=1, kind="quicksort")  # NaN sorts last
+    # ties may come out in any order: callers use only the sorted values and value runs
     s = np.take_along_axis(x, order, axis=1)
-    n = np.sum(~np.isnan(x), axis=1)
+    n = np.sum(~missing, axis=1)
     return s, order, n
 
 
@@ -68,16 +75,19 @@ def average_ranks(x: np.ndarray) -> np.ndarray:
     pos = np.broadcast_to(np.arange(m), (t, m))
     r_sorted = pos + 1.0
     same = s[:, 1:] == s[:, :-1]  # NaN never equals NaN, so the NaN tail has no runs
-    tied = np.flatnonzero(same.any(axis=1))
-    if tied.size:  # average ranks only where a row has ties (rare for continuous data)
-        st, tp = s[tied], pos[: tied.size]
-        new_run = np.ones(st.shape, dtype=bool)
-        new_run[:, 1:] = ~same[tied]
-        start = np.maximum.accumulate(np.where(new_run, tp, 0), axis=1)
-        end_run = np.ones(st.shape, dtype=bool)
-        end_run[:, :-1] = new_run[:, 1:]
-        end = np.minimum.accumulate(np.where(end_run, tp, m - 1)[:, ::-1], axis=1)[:, ::-1]
-        r_sorted[tied] = (start + end) / 2.0 + 1.0
+    k = np.flatnonzero(same)  # tied neighbours, as flat positions in the (t, m - 1) comparison grid
+    if k.size:  # average ranks only at the tied positions (ties are few in continuous data)
+        row, col = np.divmod(k, m - 1)
+        g = row * m + col  # flat position (in the sorted t x m grid) of each tied pair's left element
+        new_run = np.ones(g.size, dtype=bool)
+        new_run[1:] = g[1:] != g[:-1] + 1  # pairs of one run are adjacent; rows never join (gap of 2)
+        run = np.cumsum(new_run) - 1
+        first = g[new_run]
+        last = g[np.append(new_run[1:], True)] + 1  # right element of each run's last pair
+        avg = (first % m + last % m) / 2.0 + 1.0  # run over 0-based a..b: rank (a + b)/2 + 1
+        flat = r_sorted.reshape(-1)
+        flat[g] = avg[run]
+        flat[last] = avg
     r_sorted[pos >= n[:, None]] = np.nan
     ranks = np.empty_like(r_sorted)
     np.put_along_axis(ranks, order, r_sorted, axis=1)
@@ -244,6 +254,13 @@ def row_pearson(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 def _masked_pearson(x: np.ndarray, y: np.ndarray, both: np.ndarray, n: np.ndarray) -> np.ndarray:
     """:func:`row_pearson` given the common-finite mask ``both`` and its row counts ``n``."""
+    return _pearson_parts(x, y, both, n)[0]
+
+
+def _pearson_parts(
+    x: np.ndarray, y: np.ndarray, both: np.ndarray, n: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Pearson r per row and its pieces: centred ``dx``, ``dy`` and ``xm`` (x with zeros off the mask)."""
     xm = np.where(both, x, 0.0)
     ym = np.where(both, y, 0.0)
     nn = np.maximum(n, 1)[:, None]
@@ -257,7 +274,7 @@ def _masked_pearson(x: np.ndarray, y: np.ndarray, both: np.ndarray, n: np.ndarra
     ok = (n >= 3) & (sxx > 1e-20 * qx) & (syy > 1e-20 * qy) & (sxx > 0) & (syy > 0)
     with np.errstate(invalid="ignore", divide="ignore"):
         r = sxy / np.sqrt(np.where(ok, sxx * syy, 1.0))
-    return np.where(ok, np.clip(r, -1.0, 1.0), np.nan)
+    return np.where(ok, np.clip(r, -1.0, 1.0), np.nan), dx, dy, xm
 
 
 def row_spearman(

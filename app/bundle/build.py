@@ -230,7 +230,8 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
             written += [f"charts/{c.key}.png", f"charts/{c.key}.svg"]
     tick("laying out the report", 0.84)
     data = report_input(result, panel, files_in, study_name=study_name, title=title, note=note, horizon=h,
-                        chart_keys=[c.key for c in specs], png=outcome.png, images_note=outcome.note,
+                        chart_keys=[c.key for c in specs], images=outcome.jpeg or outcome.png,
+                        images_note=outcome.note,
                         created=when)
     pages = build_pdf(data, folder / "report.pdf")
     written.append("report.pdf")

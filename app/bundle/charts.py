@@ -14,6 +14,8 @@ import os
 import re
 import shutil
 import threading
+import dataclasses
+import io
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
@@ -27,7 +29,7 @@ from app.figures import study as fs
 from core.study import StudyResult
 
 __all__ = ["ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
-           "plotly_js_path", "find_browser", "NO_BROWSER_HINT", "RenderOutcome", "RenderJob", "start_render"]
+           "plotly_js_path", "find_browser", "NO_BROWSER_HINT", "RenderOutcome", "RenderJob", "start_render", "print_jpeg"]
 
 #: A 16:9 slide at 2x: 1280 x 720 layout pixels, rendered at scale 2 (2560 x 1440 PNG).
 SLIDE = {"width": 1280, "height": 720, "scale": 2}
@@ -72,6 +74,8 @@ def figure_for(spec: ChartSpec, result: StudyResult, horizon: int, panel: Any) -
     fig = spec.draw(result, horizon, panel)
     fig.update_layout(width=SLIDE["width"], height=SLIDE["height"], autosize=False)
     _rewrap_for_slide(fig)
+    for i, trace in enumerate(fig.data):     # fixed trace ids (plotly.js draws random ones): reproducible SVG
+        trace.uid = f"{spec.key}-{i}"
     if spec.key == "coverage":
         # Security labels do not fit a slide; the rows stay drawn (the subtitle states the sample).
         fig.update_yaxes(showticklabels=False)
@@ -83,9 +87,15 @@ def _rewrap_for_slide(fig: go.Figure) -> None:
     title = fig.layout.title
     if title is None or title.text is None:
         return
-    t, nt = wrap(str(title.text).replace("<br>", " "), 95)
+    def join(text: str, card: int) -> str:
+        # Lines no longer than a half-width card's were broken for the card: join them. A figure drawn
+        # full width already has long lines, and its line breaks are meant: keep them.
+        parts = text.split("<br>")
+        return text if max(len(p) for p in parts) > card + 4 else " ".join(parts)
+
+    t, nt = wrap(join(str(title.text), 52), 95)
     sub = title.subtitle.text if title.subtitle is not None and title.subtitle.text else ""
-    s, ns = wrap(str(sub).replace("<br>", " "), 150) if sub else ("", 0)
+    s, ns = wrap(join(str(sub), 66), 150) if sub else ("", 0)
     fig.update_layout(title=dict(text=t, subtitle=dict(text=s)), margin=dict(t=30 + 24 * nt + 19 * ns + 18))
 
 
@@ -135,6 +145,7 @@ class RenderOutcome:
     png: dict[str, bytes]
     svg: dict[str, bytes]
     note: str | None
+    jpeg: dict[str, bytes] = dataclasses.field(default_factory=dict)   # print copies for report.pdf
 
 
 _RENDER_LOCK = threading.Lock()      # one browser at a time on a small machine
@@ -196,9 +207,11 @@ def _render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] |
 
     png: dict[str, bytes] = {}
     svg: dict[str, bytes] = {}
+    jpeg: dict[str, bytes] = {}
     keys = list(figs)
 
     async def run() -> None:
+        pending = []
         # One browser (kaleido's persistent process) for the whole bundle.
         async with kaleido.Kaleido(n=1, mathjax=False, path=browser, timeout=120) as k:
             for i, key in enumerate(keys):
@@ -207,11 +220,24 @@ def _render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] |
                 fig = figs[key]
                 opts = {"width": SLIDE["width"], "height": SLIDE["height"]}
                 png[key] = await k.calc_fig(fig, opts={**opts, "format": "png", "scale": SLIDE["scale"]})
+                # The print copy is made in a worker thread while the browser draws the SVG.
+                pending.append((key, asyncio.create_task(asyncio.to_thread(print_jpeg, png[key]))))
                 svg[key] = _stable_svg(await k.calc_fig(fig, opts={**opts, "format": "svg", "scale": 1}))
+            for key, task in pending:
+                jpeg[key] = await task
 
     try:
         asyncio.run(run())      # this thread's own event loop, whatever loop the caller runs
     except BaseException as err:  # noqa: BLE001 - reported as a note, never a crash
         cause = f"{type(err).__name__}: {str(err)[:300]}"
         return RenderOutcome({}, {}, NO_BROWSER_HINT + f" (The browser at {browser} failed: {cause})")
-    return RenderOutcome(png, svg, None)
+    return RenderOutcome(png, svg, None, jpeg)
+
+
+def print_jpeg(png: bytes) -> bytes:
+    """A chart's print copy: JPEG at quality 92 without chroma subsampling (the PDF embeds it as it is)."""
+    from PIL import Image
+
+    buf = io.BytesIO()
+    Image.open(io.BytesIO(png)).convert("RGB").save(buf, format="JPEG", quality=92, subsampling=0, optimize=False)
+    return buf.getvalue()

@@ -164,7 +164,7 @@ def _quality(panel: Any, result: StudyResult) -> tuple[pd.DataFrame, list[str], 
 
 def report_input(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any]], *, study_name: str,
                  title: str | None, note: str | None, horizon: int, chart_keys: Sequence[str],
-                 png: dict[str, bytes], images_note: str | None, created: datetime) -> ReportInput:
+                 images: dict[str, bytes], images_note: str | None, created: datetime) -> ReportInput:
     """Everything :func:`app.bundle.pdf.build_pdf` lays out, from the numbers of ``result``."""
     word = share_word(result.config.n_quantiles)
     lead = []
@@ -189,7 +189,7 @@ def report_input(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     chart_pages = []
     for key in chart_keys:
         heading = titles[key] + (f", {hh} months" if any(c.key == key and c.per_horizon for c in CHARTS) else "")
-        chart_pages.append((key, heading, png.get(key), CHART_READINGS[key](result, hh, panel)))
+        chart_pages.append((key, heading, images.get(key), CHART_READINGS[key](result, hh, panel)))
     st, cheap, dear = screen_frames(result)
     qf, ql, qr = _quality(panel, result)
     asof = str(result.screen.attrs.get("date", ""))

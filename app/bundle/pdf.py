@@ -23,6 +23,7 @@ from reportlab.lib.units import mm
 from reportlab.pdfbase import pdfmetrics
 from reportlab.pdfbase.ttfonts import TTFont
 from reportlab.pdfgen import canvas as rl_canvas
+from reportlab.platypus.flowables import BalancedColumns
 from reportlab.platypus import (CondPageBreak, Image, KeepTogether, PageBreak, Paragraph, SimpleDocTemplate,
                                 Spacer, Table, TableStyle)
 
@@ -70,7 +71,7 @@ def _styles() -> dict[str, ParagraphStyle]:
                              spaceAfter=3),
         "body": body,
         "reading": ParagraphStyle("reading", parent=body, fontSize=10.5, leading=14),
-        "small": ParagraphStyle("small", parent=body, fontSize=7.6, leading=9.4),
+        "small": ParagraphStyle("small", parent=body, fontSize=7.6, leading=9.4, spaceAfter=1.5),
         "cell": ParagraphStyle("cell", parent=body, fontSize=7.6, leading=9.2),
         "cellb": ParagraphStyle("cellb", parent=body, fontName=FONT + "-Bold", fontSize=7.6, leading=9.2),
         "mono": ParagraphStyle("mono", parent=body, fontName="Courier", fontSize=7, leading=9),
@@ -104,7 +105,7 @@ class ReportInput:
     summary_lead: Sequence[str]
     summary_table: pd.DataFrame
     summary_after: Sequence[str]
-    charts: Sequence[tuple[str, str, bytes | None, Sequence[str]]]   # (key, heading, png or None, two lines)
+    charts: Sequence[tuple[str, str, bytes | None, Sequence[str]]]   # (key, heading, JPEG/PNG or None, 2 lines)
     images_note: str | None
     screen_title: str
     screen_cheap: pd.DataFrame
@@ -176,20 +177,19 @@ def _frame_rows(df: pd.DataFrame, st: dict[str, ParagraphStyle], wrap: Sequence[
     return rows
 
 
-def _image(png: bytes, max_w: float, max_h: float) -> Image:
-    """The slide image for print: JPEG (quality 92, no chroma subsampling), which the PDF embeds as is.
-
-    The lossless 2x PNG is in charts/; a JPEG keeps the report small and fast to build.
-    """
+def _image(image: bytes, max_w: float, max_h: float) -> Image:
+    """A chart for print: JPEG bytes as they are (a PNG is converted first); the 2x PNG is in charts/."""
     from PIL import Image as PILImage
 
-    im = PILImage.open(io.BytesIO(png)).convert("RGB")
-    buf = io.BytesIO()
-    im.save(buf, format="JPEG", quality=92, subsampling=0, optimize=False)
-    buf.seek(0)
-    ratio = im.height / im.width
+    if image[:8] == b"\x89PNG\r\n\x1a\n":
+        from app.bundle.charts import print_jpeg
+
+        image = print_jpeg(image)
+    with PILImage.open(io.BytesIO(image)) as im:
+        width, height = im.size
+    ratio = height / width
     w = min(max_w, max_h / ratio)
-    return Image(buf, width=w, height=w * ratio)
+    return Image(io.BytesIO(image), width=w, height=w * ratio)
 
 
 def build_pdf(data: ReportInput, path: Path) -> int:
@@ -248,10 +248,10 @@ def build_pdf(data: ReportInput, path: Path) -> int:
 
     # -- charts ------------------------------------------------------------------------------
     img_h = usable_h - 70
-    for key, heading, png, lines in data.charts:
+    for key, heading, picture, lines in data.charts:
         block: list[Any] = [_p(heading, st["h1"])]
-        if png is not None:
-            block.append(_image(png, usable_w, img_h))
+        if picture is not None:
+            block.append(_image(picture, usable_w, img_h))
         else:
             block.append(_p(data.images_note or "The image of this chart could not be rendered.", st["missing"]))
             block.append(Spacer(1, 8))
@@ -265,12 +265,12 @@ def build_pdf(data: ReportInput, path: Path) -> int:
 
     # -- screen ------------------------------------------------------------------------------
     story.append(_p(data.screen_title, st["h2"]))
-    sw = [20 * mm, 26 * mm, 16 * mm, 15 * mm, 14 * mm, 15 * mm, 27 * mm, 15 * mm, 15 * mm]
+    sw = [20 * mm, 26 * mm, 16 * mm, 24 * mm, 14 * mm, 15 * mm, 27 * mm, 17 * mm, 17 * mm]
     sw.append(usable_w - sum(sw))
     for label, df in (("Cheapest", data.screen_cheap), ("Dearest", data.screen_dear)):
         story.append(CondPageBreak(60 * mm))
         story.append(_p(f"{label} {len(df)}", st["h2"]))
-        t = _table(_frame_rows(df, st, wrap=["Security", "Sector", "Quantile", "Flags"]), sw, align_right_from=2)
+        t = _table(_frame_rows(df, st, wrap=["Security", "Sector", "P/E", "Quantile", "Flags"]), sw, align_right_from=2)
         t.setStyle(TableStyle([("TOPPADDING", (0, 0), (-1, -1), 1), ("BOTTOMPADDING", (0, 0), (-1, -1), 1),
                                ("ALIGN", (6, 1), (6, -1), "LEFT"), ("ALIGN", (9, 1), (9, -1), "LEFT")]))
         story.append(t)
@@ -288,9 +288,11 @@ def build_pdf(data: ReportInput, path: Path) -> int:
         rw.append(usable_w - sum(rw))
         story.append(_table(_frame_rows(r, st, wrap=list(r.columns)), rw))
     story.append(_p("Securities, splits and notes", st["h2"]))
-    for line in data.quality_lines:
-        story.append(_p(line, st["small"]))
-        story.append(Spacer(1, 1.5))
+    notes = [_p(line, st["small"]) for line in data.quality_lines]
+    if len(notes) > 8:
+        story.append(BalancedColumns(notes, nCols=2, spaceBefore=2, innerPadding=8))
+    else:
+        story.extend(notes)
 
     canvas_cls = type("_Canvas", (_NumberedCanvas,), {"footer": data.footer})
     doc = SimpleDocTemplate(str(path), pagesize=_PAGE, leftMargin=_MARGIN, rightMargin=_MARGIN,

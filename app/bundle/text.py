@@ -54,7 +54,7 @@ def verdict(t: Any) -> str:
         return "not distinguishable from noise"
     if abs(v) < 3:
         return "distinguishable from zero at the usual 5% level, though not by a wide margin"
-    return "strong by the usual standard (|t| of 3 or more)"
+    return "strong by the usual standard, |t| of 3 or more"
 
 
 def share_word(n_quantiles: int) -> str:
@@ -127,9 +127,13 @@ def _ic_by_horizon(result: StudyResult, h: int, panel: Any) -> list[str]:
     strong = [f"{hs[i]} m" for i in range(len(hs)) if np.isfinite(t[i]) and abs(t[i]) >= 2]
     line1 = (f"The mean rank IC runs from {fmt_num(np.nanmin(m), 3)} to {fmt_num(np.nanmax(m), 3)} across "
              f"{len(hs)} horizons; the clearest is {hs[j]} months (IC {fmt_num(m[j], 3)}, t = {fmt_num(t[j], 2)}).")
-    line2 = (f"{len(strong)} of {len(hs)} horizons have |t| of 2 or more ({', '.join(strong)}); "
-             if strong else f"None of the {len(hs)} horizons reaches |t| = 2: ") + \
-        ("the others are not distinguishable from noise." if strong else "the IC is not distinguishable from noise.")
+    if not strong:
+        line2 = f"None of the {len(hs)} horizons reaches |t| = 2: the IC is not distinguishable from noise."
+    elif len(strong) == len(hs):
+        line2 = f"All {len(hs)} horizons have |t| of 2 or more: the IC is distinguishable from noise at each."
+    else:
+        line2 = (f"{len(strong)} of {len(hs)} horizons have |t| of 2 or more ({', '.join(strong)}); "
+                 "the others are not distinguishable from noise.")
     return [line1, line2]
 
 
@@ -208,8 +212,12 @@ def _fm(result: StudyResult, h: int, panel: Any) -> list[str]:
     sig = [f"{int(k)} m" for k, v in s["t_hac"].items() if np.isfinite(_f(v)) and abs(_f(v)) >= 2]
     line1 = (f"At {hh} months each unit of z-score added {fmt_pct(r['mean_slope'], 2)} of return on average "
              f"across {int(r['n_dates'])} monthly regressions (t = {fmt_num(r['t_hac'], 2)}).")
-    line2 = (f"Slopes with |t| of 2 or more: {', '.join(sig)}; the rest are not distinguishable from noise."
-             if sig else f"No horizon's slope reaches |t| = 2: none is distinguishable from noise.")
+    if not sig:
+        line2 = "No horizon's slope reaches |t| = 2: none is distinguishable from noise."
+    elif len(sig) == len(s):
+        line2 = f"All {len(s)} horizons' slopes have |t| of 2 or more."
+    else:
+        line2 = f"Slopes with |t| of 2 or more: {', '.join(sig)}; the rest are not distinguishable from noise."
     return [line1, line2]
 
 

@@ -6,6 +6,8 @@ import numpy as np
 
 __all__ = ["fm_slopes"]
 
+_IDENT = 1e-14  # szz must exceed this share of sum(z^2) for the slope to be identified
+
 
 def _demean(x: np.ndarray, mask: np.ndarray, codes: np.ndarray) -> np.ndarray:
     """Subtract the per-date mean within each group over ``mask`` (zero outside ``mask``)."""
@@ -90,8 +92,7 @@ def fm_slopes(
     enough = n > present + k
     with np.errstate(invalid="ignore", divide="ignore"):
         if not controls:
-            ok = enough & (szz > 1e-14 * np.maximum((zm ** 2).sum(axis=1), 1e-300))
-            b = np.where(ok, szy / np.where(ok, szz, 1.0), np.nan)
+            b = _slope(szz, szy, zm, enough)
         else:
             xd = _demean(np.where(mask, controls[0], 0.0), mask, codes)
             sxx = (xd * xd).sum(axis=1)
@@ -101,3 +102,23 @@ def fm_slopes(
             ok = enough & (det > 1e-12 * np.maximum(szz * sxx, 1e-300)) & (szz > 0) & (sxx > 0)
             b = np.where(ok, (sxx * szy - szx * sxy) / np.where(ok, det, 1.0), np.nan)
     return b, n
+
+
+def _slope(szz: np.ndarray, szy: np.ndarray, zm: np.ndarray, enough: np.ndarray) -> np.ndarray:
+    """``szy / szz`` where identified: enough names and a spread of z not lost to rounding."""
+    ok = enough & (szz > _IDENT * np.maximum((zm ** 2).sum(axis=1), 1e-300))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(ok, szy / np.where(ok, szz, 1.0), np.nan)
+
+
+def _slope_from_centred(zd: np.ndarray, yd: np.ndarray, zm: np.ndarray, n: np.ndarray) -> np.ndarray:
+    """:func:`fm_slopes` without controls or groups, from already demeaned ``zd``, ``yd``.
+
+    ``zm`` is ``z`` with zeros outside the common mask and ``n`` the names per
+    date; the sums are the same expressions as in :func:`fm_slopes`, so the
+    slopes are the same numbers.
+    """
+    present = (n > 0).astype(int)
+    szz = (zd * zd).sum(axis=1)
+    szy = (zd * yd).sum(axis=1)
+    return _slope(szz, szy, zm, n > present + 1)

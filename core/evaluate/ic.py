@@ -8,7 +8,8 @@ import numpy as np
 import pandas as pd
 
 from core._typing import HacLagRule
-from core.stats import _masked_pearson, _masked_spearman, hac_lags, mean_inference
+from core.evaluate.famamacbeth import _slope_from_centred
+from core.stats import _masked_spearman, _pearson_parts, hac_lags, mean_inference
 
 __all__ = ["ic_by_date", "ic_summary", "rolling_ic", "ROLLING_WINDOWS"]
 
@@ -50,9 +51,26 @@ def ic_by_date(
     both = np.isfinite(z) & np.isfinite(fwd)  # one mask and count shared by both correlations
     n = both.sum(axis=1)
     rho = _masked_spearman(z, fwd, both, n, z_ranks)
-    r = _masked_pearson(z, fwd, both, n)
+    r = _pearson_parts(z, fwd, both, n)[0]
     low = n < min_breadth
     return np.where(low, np.nan, rho), np.where(low, np.nan, r), n.astype(int)
+
+
+def _ic_and_slope(
+    z: np.ndarray, fwd: np.ndarray, min_breadth: int, z_ranks: np.ndarray | None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """:func:`ic_by_date` plus the Fama-MacBeth slope without controls, sharing the centred arrays.
+
+    The slope is ``core.evaluate.famamacbeth.fm_slopes(z, fwd)`` (same
+    expressions on the same demeaned arrays, so the same numbers).
+    """
+    both = np.isfinite(z) & np.isfinite(fwd)
+    n = both.sum(axis=1)
+    rho = _masked_spearman(z, fwd, both, n, z_ranks)
+    r, dz, dy, zm = _pearson_parts(z, fwd, both, n)
+    slope = _slope_from_centred(dz, dy, zm, n)
+    low = n < min_breadth
+    return np.where(low, np.nan, rho), np.where(low, np.nan, r), n.astype(int), slope
 
 
 def ic_summary(

@@ -14,11 +14,24 @@ __all__ = ["assign_quantiles", "quantile_means", "quantile_turnover", "monotonic
 def _ordinal_ranks(x: np.ndarray, tiebreak: np.ndarray) -> np.ndarray:
     """Ranks 1..n per row ordered by value, ties by ``tiebreak``; NaN stays NaN."""
     t, m = x.shape
-    key2 = np.broadcast_to(tiebreak, (t, m))
-    order = np.lexsort((key2, x), axis=1)  # last key (value) is primary; NaN sorts last
+    missing = np.isnan(x)
+    if m == 0 or np.isinf(x).any():
+        key2 = np.broadcast_to(tiebreak, (t, m))
+        order = np.lexsort((key2, x), axis=1)  # last key (value) is primary; NaN sorts last
+    else:
+        # The same order from two vectorised sorts (several times faster than lexsort): the
+        # dense rank of the value per row, then one integer key dense * m + rank of tiebreak.
+        by_value = np.argsort(np.where(missing, np.inf, x), axis=1)
+        s = np.take_along_axis(x, by_value, axis=1)
+        step = np.zeros((t, m), dtype=np.int64)
+        step[:, 1:] = s[:, 1:] != s[:, :-1]  # equal values share a dense rank (NaN rows are masked below)
+        dense = np.empty((t, m), dtype=np.int64)
+        np.put_along_axis(dense, by_value, np.cumsum(step, axis=1), axis=1)
+        tb = np.argsort(np.argsort(np.asarray(tiebreak), kind="stable"), kind="stable").astype(np.int64)
+        order = np.argsort(dense * m + tb[None, :], axis=1)
     ranks = np.empty((t, m))
     np.put_along_axis(ranks, order, np.broadcast_to(np.arange(1.0, m + 1.0), (t, m)), axis=1)
-    return np.where(np.isnan(x), np.nan, ranks)
+    return np.where(missing, np.nan, ranks)
 
 
 def assign_quantiles(

@@ -1,15 +1,14 @@
 """From a :class:`~core.intake.readers.Grid` to a tidy table plus its :class:`FileReport`.
 
 Series kinds (prices, earnings, market_cap, signal, dividends, benchmark) are
-read in wide or long layout; record kinds (sectors, holdings) as two columns.
-Every cell is counted once: parsed, blank, unparseable or dropped (by reason).
+read in wide or long layout here; record kinds (sectors, holdings) in
+:mod:`core.intake.records`.  Every cell is counted once: parsed, blank,
+unparseable or dropped (by reason).
 """
 
 from __future__ import annotations
 
-import re
-from dataclasses import dataclass, field
-from typing import Any, Callable, Sequence
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -17,194 +16,20 @@ import pandas as pd
 from core._typing import FileKind
 from core.errors import IntakeError, Reason
 from core.intake import numbers as nb
+from core.intake._common import (
+    DUP, NEGAMT, NODATE, NONPOS, NOSEC, POSITIVE_KINDS, Ctx, clean_ids, date_profile, decide_decimal,
+    find_column, frequency, number_profiles, tally_values, value_column,
+)
 from core.intake.dates import parse_dates
-from core.intake.kinds import VALUE_WORDS, guess_kind, infer_earnings_form
-from core.intake.numbers import detect_decimal, parse_numbers
+from core.intake.kinds import guess_kind, infer_earnings_form
+from core.intake.numbers import parse_numbers
 from core.intake.options import ReadOptions
 from core.intake.readers import Grid
+from core.intake.records import tidy_records
 from core.intake.report import FileReport
 from core.intake.sniff import DATE_WORDS, SECURITY_WORDS, looks_like_index, norm_name
-from core.intake.tally import Tally
 
 __all__ = ["tidy_grid", "clean_ids"]
-
-_SAMPLE = 300
-_POSITIVE_KINDS = frozenset({"prices", "market_cap", "benchmark"})
-# final status codes of value cells beyond the numbers module's codes
-_NONPOS, _NEGAMT, _NODATE, _NOSEC, _DUP = 10, 11, 12, 13, 14
-_CODE_REASON = {
-    nb.BLANK: Reason.BLANK,
-    nb.MISSING: Reason.MISSING_MARKER,
-    nb.UNPARSEABLE: Reason.UNPARSEABLE_NUMBER,
-    nb.NON_FINITE: Reason.NON_FINITE,
-    nb.OUT_OF_RANGE: Reason.OUT_OF_RANGE,
-    _NONPOS: Reason.NON_POSITIVE_PRICE,
-    _NEGAMT: Reason.NEGATIVE_AMOUNT,
-    _NODATE: Reason.ROW_WITHOUT_DATE,
-    _NOSEC: Reason.ROW_WITHOUT_SECURITY,
-    _DUP: Reason.DUPLICATE_ENTRY,
-}
-
-
-@dataclass
-class _Ctx:
-    name: str
-    grid: Grid
-    options: ReadOptions
-    header: list[str]
-    tally: Tally = field(default_factory=Tally)
-    notes: list[str] = field(default_factory=list)
-
-    def col(self, j: int) -> pd.Series:
-        return self.grid.columns[j]
-
-    def text(self, j: int) -> pd.Series:
-        s = self.grid.columns[j]
-        if pd.api.types.is_string_dtype(s.dtype) and s.dtype != object:
-            return s.fillna("").str.strip()
-        if pd.api.types.is_datetime64_any_dtype(s.dtype):
-            return pd.Series(pd.DatetimeIndex(s).strftime("%Y-%m-%d"), dtype="str").fillna("")
-        return s.astype("str").fillna("").str.strip()
-
-    def locator(self, j: int) -> Callable[[np.ndarray], tuple[np.ndarray, np.ndarray, np.ndarray]]:
-        """Example locations for cells of column ``j`` (text formatted only for those cells)."""
-        rows, col = self.grid.rows, self.header[j]
-
-        def locate(i: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-            cells = self.grid.columns[j].iloc[i].reset_index(drop=True)
-            txt = cells.astype("str").fillna("").str.strip() if not pd.api.types.is_datetime64_any_dtype(cells.dtype) \
-                else pd.Series(pd.DatetimeIndex(cells).strftime("%Y-%m-%d"), dtype="str").fillna("")
-            return rows[i], np.full(i.size, col, dtype=object), txt.to_numpy()
-
-        return locate
-
-    def whole_column(self, j: int, reason: Reason) -> None:
-        self.tally.add(reason, np.ones(self.grid.n_rows, dtype=bool), self.locator(j))
-
-
-# -- helpers --------------------------------------------------------------------------
-def clean_ids(ids: pd.Series, options: ReadOptions) -> tuple[pd.Series, int]:
-    """Trim identifiers and apply the clean-up rule.
-
-    Returns the cleaned ids and how many did not match ``id_regex`` (kept trimmed).
-
-    Examples
-    --------
-    >>> clean_ids(pd.Series([" tor14 x", "abc"]), ReadOptions(id_cleanup="first_token"))[0].tolist()
-    ['tor14', 'abc']
-    """
-    s = ids.astype("str").fillna("").str.strip()
-    misses = 0
-    if options.id_cleanup == "upper":
-        s = s.str.upper()
-    elif options.id_cleanup == "first_token":
-        s = s.str.extract(r"^(\S*)", expand=False).fillna("")
-    elif options.id_cleanup == "regex" and options.id_regex:
-        pat = re.compile(options.id_regex)
-        got = s.str.extract(pat if pat.groups else f"({options.id_regex})", expand=True)[0]
-        miss = got.isna() & (s != "")
-        misses = int(miss.sum())
-        s = got.fillna(s).astype("str").str.strip()
-    return s, misses
-
-
-def _find(ctx: _Ctx, wanted: str, setting: str) -> int:
-    low = [h.lower() for h in ctx.header]
-    for j, h in enumerate(ctx.header):
-        if h == wanted:
-            return j
-    if wanted.strip().lower() in low:
-        return low.index(wanted.strip().lower())
-    raise IntakeError(ctx.name, Reason.COLUMN_NOT_FOUND, f"{setting}={wanted!r} is not a column of the file.",
-                      column=wanted, row=ctx.grid.header_row,
-                      hint=f"Columns found: {', '.join(map(repr, ctx.header[:12]))}{' ...' if len(ctx.header) > 12 else ''}.")
-
-
-def _sample(s: pd.Series, k: int = _SAMPLE) -> pd.Series:
-    if pd.api.types.is_string_dtype(s.dtype):
-        t = s.head(20 * k).fillna("").str.strip()
-        return t[t != ""].head(k)
-    return s.dropna().head(k)
-
-
-def _number_profile(s: pd.Series, decimal: str = "point") -> tuple[float, int]:
-    """Share of non-blank sample cells that are neither numbers nor missing markers, and sample size."""
-    smp = _sample(s)
-    if smp.empty:
-        return 0.0, 0
-    if decimal == "auto":
-        decimal = "point"
-    r = parse_numbers(smp.reset_index(drop=True), "comma" if decimal == "comma" else "point")
-    bad = np.isin(r.status, (nb.UNPARSEABLE,))
-    return float(bad.mean()), int(len(smp))
-
-
-def _number_profiles(ctx: _Ctx, cols: Sequence[int], decimal: str, k: int = 200) -> dict[int, tuple[float, int]]:
-    """:func:`_number_profile` of many columns at once, on their first ``k`` rows (one parse for all)."""
-    import pyarrow as pa
-
-    out: dict[int, tuple[float, int]] = {}
-    pieces: list[tuple[int, pa.Array | pa.ChunkedArray]] = []
-    for j in cols:
-        c = ctx.col(j)
-        if pd.api.types.is_numeric_dtype(c.dtype) or pd.api.types.is_datetime64_any_dtype(c.dtype):
-            out[j] = (0.0, int(c.head(k).notna().sum()))
-            continue
-        pa_arr = getattr(c.array, "_pa_array", None)
-        pieces.append((j, pa_arr.slice(0, k) if pa_arr is not None else pa.array(c.head(k).astype("str").fillna("").tolist(), pa.string())))
-    if not pieces:
-        return out
-    chunks = [ch.cast(pa.large_string()) for _, a in pieces for ch in (a.chunks if isinstance(a, pa.ChunkedArray) else [a])]
-    stacked = pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array(chunks, pa.large_string())))
-    owner = np.repeat(np.arange(len(pieces)), [len(a) for _, a in pieces])
-    text_heads = pieces
-    r = parse_numbers(stacked, "comma" if decimal == "comma" else "point")
-    nonblank = r.status != nb.BLANK
-    bad = np.bincount(owner, weights=(r.status == nb.UNPARSEABLE).astype(float), minlength=len(text_heads))
-    size = np.bincount(owner, weights=nonblank.astype(float), minlength=len(text_heads))
-    for t, (j, _) in enumerate(text_heads):
-        out[j] = (float(bad[t] / size[t]) if size[t] else 0.0, int(size[t]))
-    return out
-
-
-def _date_profile(s: pd.Series, allow_serial: bool) -> float:
-    smp = _sample(s)
-    if smp.empty:
-        return 0.0
-    r = parse_dates(smp.reset_index(drop=True), "auto", allow_serial=allow_serial)
-    return float((r.status == 0).mean())
-
-
-def _decimal(ctx: _Ctx, cols: Sequence[int]) -> tuple[str, str]:
-    o = ctx.options
-    if o.decimal != "auto":
-        return o.decimal, "set by the user"
-    texts = [ctx.col(j) for j in cols[:200] if not pd.api.types.is_numeric_dtype(ctx.col(j).dtype)]
-    if not texts:
-        return "point", "numbers stored as numbers"
-    smp = pd.concat([_sample(t, 40) for t in texts], ignore_index=True)
-    return detect_decimal(smp.astype("str").tolist(), ctx.grid.delimiter)
-
-
-def _frequency(dates: np.ndarray) -> str | None:
-    """Frequency label from the median spacing of the distinct dates."""
-    u = np.unique(dates[~np.isnat(dates)])
-    if u.size == 0:
-        return None
-    if u.size == 1:
-        return "single date"
-    gap = float(np.median(np.diff(u).astype("timedelta64[D]").astype(float)))
-    if gap <= 1.5:
-        return "daily"
-    if gap <= 8:
-        return "weekly"
-    if gap <= 35:
-        return "monthly"
-    if gap <= 100:
-        return "quarterly"
-    if gap <= 200:
-        return "semi-annual"
-    return "annual or irregular"
 
 
 # -- entry ------------------------------------------------------------------------------
@@ -240,7 +65,7 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd
     if grid.n_rows == 0:
         raise IntakeError(name, Reason.NO_DATA, "the file has a header but no data rows.", row=grid.header_row,
                           hint="Check that the export contains the data, or that header_row is right.")
-    ctx = _Ctx(name, grid, options, header)
+    ctx = Ctx(name, grid, options, header)
     ctx.notes.extend(grid.notes)
     if grid.extra_cells:
         ctx.tally.add_count(Reason.EXTRA_FIELD, grid.extra_cells,
@@ -251,7 +76,7 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd
     if not avail:
         raise IntakeError(name, Reason.NO_VALUE_COLUMN, "every column is excluded.", hint="Check exclude_columns.")
     if kind in ("sectors", "holdings"):
-        data, extra = _records(ctx, kind, avail)
+        data, extra = tidy_records(ctx, kind, avail)
     else:
         data, extra = _series(ctx, kind, avail)
     t = ctx.tally
@@ -270,7 +95,7 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd
     return kind, data, rep
 
 
-def _excluded(ctx: _Ctx) -> set[int]:
+def _excluded(ctx: Ctx) -> set[int]:
     out: set[int] = set()
     low = [h.strip().lower() for h in ctx.header]
     for want in ctx.options.exclude_columns:
@@ -286,51 +111,33 @@ def _excluded(ctx: _Ctx) -> set[int]:
     return out
 
 
-def _value_column(ctx: _Ctx, kind: str, candidates: Sequence[int], numeric: Sequence[int]) -> int:
-    if ctx.options.value_column:
-        return _find(ctx, ctx.options.value_column, "value_column")
-    for word in VALUE_WORDS.get(kind, ()):
-        for j in candidates:
-            nm = norm_name(ctx.header[j])
-            if nm == word or (len(word) > 2 and word in nm):
-                return j
-    if len(numeric) == 1:
-        return numeric[0]
-    if not numeric:
-        raise IntakeError(ctx.name, Reason.NO_VALUE_COLUMN, f"no column of numbers found for the {kind} values.",
-                          row=ctx.grid.header_row, hint="Set value_column to the column that holds them.")
-    raise IntakeError(ctx.name, Reason.AMBIGUOUS_LAYOUT,
-                      f"several columns could hold the {kind} values: {', '.join(repr(ctx.header[j]) for j in numeric)}.",
-                      row=ctx.grid.header_row, hint="Set value_column to the one to use.")
-
-
 # -- series kinds -------------------------------------------------------------------------
-def _date_column(ctx: _Ctx, avail: list[int]) -> tuple[int, bool]:
+def _date_column(ctx: Ctx, avail: list[int]) -> tuple[int, bool]:
     if ctx.options.date_column:
-        j = _find(ctx, ctx.options.date_column, "date_column")
-        share = _date_profile(ctx.col(j), allow_serial=False)
+        j = find_column(ctx, ctx.options.date_column, "date_column")
+        share = date_profile(ctx.col(j), allow_serial=False)
         return j, share < 0.5
     kw = [j for j in avail if norm_name(ctx.header[j]) in DATE_WORDS or norm_name(ctx.header[j]).endswith("date")]
     order = kw + [j for j in avail if j not in kw]
     for j in order:
-        if _date_profile(ctx.col(j), allow_serial=False) >= (0.5 if j in kw else 0.8):
+        if date_profile(ctx.col(j), allow_serial=False) >= (0.5 if j in kw else 0.8):
             return j, False
     for j in order[:1] + [k for k in kw if k != order[0]]:
-        if _date_profile(ctx.col(j), allow_serial=True) >= 0.8:
+        if date_profile(ctx.col(j), allow_serial=True) >= 0.8:
             return j, True
     raise IntakeError(ctx.name, Reason.NO_DATE_COLUMN, "no column of dates found.", row=ctx.grid.header_row,
                       hint="Set date_column to the column that holds the dates.")
 
 
-def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, Any]]:
+def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, Any]]:
     o, g = ctx.options, ctx.grid
     d, serial = _date_column(ctx, avail)
     rest = [j for j in avail if j != d]
     if not rest:
         raise IntakeError(ctx.name, Reason.NO_VALUE_COLUMN, "the file has a date column but no value columns.",
                           row=g.header_row, hint="Check the delimiter and the header row.")
-    decimal, dec_reason = _decimal(ctx, rest)
-    profiles = _number_profiles(ctx, rest, decimal)
+    decimal, dec_reason = decide_decimal(ctx, rest)
+    profiles = number_profiles(ctx, rest, decimal)
     text_cols = [j for j in rest if profiles[j][1] > 0 and profiles[j][0] >= 0.5]
     numeric = [j for j in rest if j not in text_cols]
     if kind == "benchmark":
@@ -344,7 +151,7 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
     sec: int | None = None
     if layout == "long":
         if o.security_column:
-            sec = _find(ctx, o.security_column, "security_column")
+            sec = find_column(ctx, o.security_column, "security_column")
         else:
             kw = [j for j in text_cols if norm_name(ctx.header[j]) in SECURITY_WORDS]
             pool = kw or text_cols or [j for j in rest if norm_name(ctx.header[j]) in SECURITY_WORDS]
@@ -353,9 +160,9 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
                                   row=g.header_row, hint="Set security_column, or layout='wide'.")
             sec = pool[0]
         cands = [j for j in rest if j != sec]
-        vcols = [_value_column(ctx, kind, cands, [j for j in numeric if j != sec])]
+        vcols = [value_column(ctx, kind, cands, [j for j in numeric if j != sec])]
     elif layout == "series":
-        vcols = [_value_column(ctx, kind, rest, numeric)]
+        vcols = [value_column(ctx, kind, rest, numeric)]
     else:
         vcols = rest
     used = {d, *vcols} | ({sec} if sec is not None else set())
@@ -377,22 +184,22 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
     # values
     stacked = pd.concat([ctx.col(j).reset_index(drop=True) for j in vcols], ignore_index=True) if len(vcols) > 1 else ctx.col(vcols[0]).reset_index(drop=True)
     if vcols != rest:
-        decimal, dec_reason = _decimal(ctx, vcols)
+        decimal, dec_reason = decide_decimal(ctx, vcols)
     ctx.notes.append(f"decimal {decimal}: {dec_reason}")
     num = parse_numbers(stacked, decimal)  # type: ignore[arg-type]
     n = g.n_rows
     final = num.status.copy()
     vals = num.values
     ok = final == nb.PARSED
-    if kind in _POSITIVE_KINDS:
+    if kind in POSITIVE_KINDS:
         with np.errstate(invalid="ignore"):
-            final[ok & (vals <= 0)] = _NONPOS
+            final[ok & (vals <= 0)] = NONPOS
     elif kind == "dividends":
         with np.errstate(invalid="ignore"):
-            final[ok & (vals < 0)] = _NEGAMT
+            final[ok & (vals < 0)] = NEGAMT
     rowpos = np.tile(np.arange(n), len(vcols))
     ok = final == nb.PARSED
-    final[ok & ~date_ok[rowpos]] = _NODATE
+    final[ok & ~date_ok[rowpos]] = NODATE
     if sec is not None:
         raw_ids = ctx.text(sec)
         codes, uniq = pd.factorize(raw_ids)
@@ -406,7 +213,7 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
         ctx.tally.add_parsed(int((~sec_blank).sum()))
         ctx.tally.add(Reason.BLANK, sec_blank, ctx.locator(sec))
         ok = final == nb.PARSED
-        final[ok & sec_blank[rowpos]] = _NOSEC
+        final[ok & sec_blank[rowpos]] = NOSEC
     else:
         names = pd.Series([ctx.header[j] for j in vcols], dtype="str") if layout == "wide" else pd.Series([""], dtype="str")
         cleaned, misses = clean_ids(names, o)
@@ -449,7 +256,7 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
             raise IntakeError(ctx.name, Reason.DUPLICATE_ENTRY, f"{who}has more than one value for {when}.",
                               row=int(g.rows[ii[k]]), column=ctx.header[vcols[jj[k]]],
                               hint="Remove the duplicate, or set duplicate_rule='last' (or 'first').")
-        final[valid[order[drop]]] = _DUP
+        final[valid[order[drop]]] = DUP
         n_dup_dates = int(pd.Series(date_ns[date_ok]).duplicated().sum())
         ctx.notes.append(f"{int(drop.sum())} duplicate entries resolved ({o.duplicate_rule} wins)"
                          + (f"; {n_dup_dates} date row(s) repeat an earlier date" if n_dup_dates else ""))
@@ -457,7 +264,7 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
     sec_k = sec_v[keep]
     ids = pd.Series(pd.array(np.asarray(id_table, dtype=object), dtype="str")).take(sec_k).reset_index(drop=True)
     tidy = pd.DataFrame({"date": dres.dates[ii[keep]], "security": ids, "value": vals[valid[keep]]}, copy=False)
-    _tally_values(ctx, final, vcols, stacked)
+    tally_values(ctx, final, vcols, stacked)
 
     # report fields
     value_form: str | None = None
@@ -490,105 +297,8 @@ def _series(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[
         decimal=decimal, n_securities=int(1 + np.count_nonzero(np.diff(sec_k))) if kind != "benchmark" and keep.size else 0,
         first_date=pd.Timestamp(dvals.min()) if keep.size else None,
         last_date=pd.Timestamp(dvals.max()) if keep.size else None,
-        frequency=_frequency(dvals.astype("datetime64[ns]")) if kind != "dividends" else "events", security_column=ctx.header[sec] if sec is not None else None,
+        frequency=frequency(dvals.astype("datetime64[ns]")) if kind != "dividends" else "events", security_column=ctx.header[sec] if sec is not None else None,
         value_column=ctx.header[vcols[0]] if layout != "wide" else None, value_form=value_form,
         suspect_columns=suspects, date_ambiguous=dres.ambiguous,
-    )
-    return out, extra
-
-
-def _tally_values(ctx: _Ctx, final: np.ndarray, vcols: Sequence[int], stacked: pd.Series) -> None:
-    g = ctx.grid
-    n = g.n_rows
-    counts = np.bincount(final.astype(np.int64), minlength=16)
-    ctx.tally.add_parsed(int(counts[nb.PARSED]))
-    names = np.asarray([ctx.header[j] for j in vcols], dtype=object)
-
-    def locate(i: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        return g.rows[i % n], names[i // n], stacked.iloc[i].astype("str").to_numpy()
-
-    for code, reason in _CODE_REASON.items():
-        if counts[code]:
-            ctx.tally.add(reason, final == code, locate)
-
-
-# -- record kinds --------------------------------------------------------------------------
-def _records(ctx: _Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, Any]]:
-    o, g = ctx.options, ctx.grid
-    if o.security_column:
-        s = _find(ctx, o.security_column, "security_column")
-    else:
-        kw = [j for j in avail if norm_name(ctx.header[j]) in SECURITY_WORDS]
-        s = kw[0] if kw else avail[0]
-    rest = [j for j in avail if j != s]
-    if not rest:
-        raise IntakeError(ctx.name, Reason.NO_VALUE_COLUMN, f"the {kind} file needs a second column next to the security codes.",
-                          row=g.header_row, hint="Check the delimiter and the header row.")
-    if kind == "holdings":
-        numeric = [j for j in rest if _number_profile(ctx.col(j))[0] < 0.5]
-        v = _value_column(ctx, kind, rest, numeric)
-    else:
-        text = [j for j in rest if _number_profile(ctx.col(j))[0] >= 0.5]
-        v = _value_column(ctx, kind, rest, text)
-    unused = [j for j in avail if j not in (s, v)]
-    for j in unused:
-        ctx.whole_column(j, Reason.UNUSED_COLUMN)
-    if unused:
-        ctx.notes.append(f"columns not used: {', '.join(repr(ctx.header[j]) for j in unused)}")
-    raw_ids = ctx.text(s)
-    ids, misses = clean_ids(raw_ids, o)
-    if misses:
-        ctx.notes.append(f"{misses} identifiers did not match id_regex and were kept as written")
-    sec_blank = (ids == "").to_numpy(dtype=bool)
-    rows = g.rows
-    ctx.tally.add_parsed(int((~sec_blank).sum()))
-    ctx.tally.add(Reason.BLANK, sec_blank, ctx.locator(s))
-    value_form: str | None = None
-    decimal = "point"
-    if kind == "holdings":
-        decimal, dec_reason = _decimal(ctx, [v])
-        ctx.notes.append(f"decimal {decimal}: {dec_reason}")
-        num = parse_numbers(ctx.col(v).reset_index(drop=True), decimal)  # type: ignore[arg-type]
-        final, vals = num.status.copy(), num.values
-        if num.percent.any():
-            value_form = "fraction"
-            ctx.notes.append("weights carried % signs and were read as fractions (3.25% -> 0.0325)")
-    else:
-        txt = ctx.text(v)
-        final = np.where(txt == "", nb.BLANK, nb.PARSED).astype(np.int8)
-        final[txt.str.lower().isin(nb.MISSING_MARKERS).to_numpy(dtype=bool)] = nb.MISSING
-        final[(txt == "").to_numpy(dtype=bool)] = nb.BLANK
-        vals = txt.to_numpy(dtype=object)
-    ok = final == nb.PARSED
-    final[ok & sec_blank] = _NOSEC
-    valid = np.flatnonzero(final == nb.PARSED)
-    frame = pd.DataFrame({"security": pd.Series(ids.to_numpy()[valid], dtype="str"), "v": vals[valid]})
-    dup = frame.duplicated(["security"], keep="first" if o.duplicate_rule == "first" else "last").to_numpy()
-    if dup.any():
-        if o.duplicate_rule == "error":
-            k = int(np.flatnonzero(frame.duplicated(["security"], keep="first").to_numpy())[0])
-            raise IntakeError(ctx.name, Reason.DUPLICATE_ENTRY, f"security {frame['security'].iloc[k]!r} appears more than once.",
-                              row=int(rows[valid[k]]), column=ctx.header[v], hint="Remove the duplicate, or set duplicate_rule='last'.")
-        final[valid[dup]] = _DUP
-        ctx.notes.append(f"{int(dup.sum())} repeated securities resolved ({o.duplicate_rule} wins)")
-        frame = frame[~dup]
-    _tally_values(ctx, final, [v], ctx.col(v).reset_index(drop=True))
-    if kind == "holdings":
-        w = frame["v"].astype(float)
-        total = float(w.sum())
-        if value_form is None and len(w) and abs(total - 100.0) <= 0.5:
-            w = w / 100.0
-            value_form = "fraction"
-            ctx.notes.append(f"weights sum to {total:g}: read as percentages and divided by 100")
-        out = pd.DataFrame({"security": frame["security"].to_numpy(), "weight": w.to_numpy(dtype=float)})
-    else:
-        out = pd.DataFrame({"security": frame["security"].to_numpy(), "sector": pd.Series(frame["v"].to_numpy(), dtype="str").str.strip().to_numpy()})
-        out = out.astype({"sector": "str"})
-    out = out.astype({"security": "str"}).sort_values("security", kind="stable").reset_index(drop=True)
-    extra: dict[str, Any] = dict(
-        layout="records", date_column=None, date_order=None, date_order_reason=None,
-        decimal=decimal if kind == "holdings" else None,
-        n_securities=int(out["security"].nunique()), first_date=None, last_date=None, frequency=None,
-        security_column=ctx.header[s], value_column=ctx.header[v], value_form=value_form,
     )
     return out, extra

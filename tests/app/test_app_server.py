@@ -19,12 +19,11 @@ def plain_app(tmp_path: Path) -> dash.Dash:
 
 def test_pages_and_navigation(plain_app: dash.Dash) -> None:
     names = {p["name"]: p for p in dash.page_registry.values()}
-    assert {"Data", "Study", "Screen", "Company"} <= set(names)
-    assert "Export" not in names                      # left out on purpose (no placeholder pages)
+    assert {"Data", "Study", "Screen", "Company", "Export"} <= set(names)
     assert names["Company"]["path_template"] == "/company/<code>"
     from app.shell import nav_links
 
-    assert [link.children for link in nav_links()] == ["Data", "Study", "Screen"]
+    assert [link.children for link in nav_links()] == ["Data", "Study", "Screen", "Export"]
 
 
 def test_footer_caution_on_every_page(plain_app: dash.Dash) -> None:

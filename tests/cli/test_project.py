@@ -49,3 +49,15 @@ def test_core_never_imports_dash_flask_or_plotly() -> None:
     bad = re.compile(r"^\s*(import|from)\s+(dash|flask|plotly|flask_caching)\b", re.M)
     offenders = [str(p.relative_to(ROOT)) for p in (ROOT / "core").rglob("*.py") if bad.search(p.read_text("utf-8"))]
     assert offenders == []
+
+
+def test_every_package_folder_is_installed() -> None:
+    import tomllib
+
+    listed = set(tomllib.loads((ROOT / "pyproject.toml").read_text("utf-8"))["tool"]["setuptools"]["packages"])
+    found = {
+        ".".join(p.parent.relative_to(ROOT).parts)
+        for top in ("core", "app")
+        for p in (ROOT / top).rglob("__init__.py")
+    }
+    assert found | {"app.assets"} == listed

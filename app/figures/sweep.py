@@ -1,0 +1,114 @@
+"""The sweep heat map: adjusted IC t-statistics by signal and horizon (pure: result in, figure out)."""
+
+from __future__ import annotations
+
+import os
+import shutil
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+import plotly.graph_objects as go
+
+from app.figures._common import base_figure, message_figure
+from app.figures.theme import CHEAP, DEAR, NEUTRAL
+
+__all__ = ["heatmap_cells", "sweep_heatmap_figure", "write_heatmap"]
+
+_TITLE = "Which signal and horizon survive the multiple-testing adjustment?"
+
+
+def heatmap_cells(result: Any) -> pd.DataFrame:
+    """Per (signal, horizon): the largest Benjamini-Hochberg adjusted t and how many configurations it is the best of.
+
+    A sweep without a ``signal`` dimension has one row label, the signal of its points.
+    """
+    t = result.table[result.table["status"] == "ok"].copy()
+    if "signal" not in t.columns:
+        t["signal"] = [result.configs[p]["signal"] for p in t["point_id"]]
+    t = t[np.isfinite(t["ic_t_bh"].to_numpy(dtype=float))]
+    if t.empty:
+        return pd.DataFrame(columns=["signal", "horizon", "best_t_bh", "raw_t", "n_configs"])
+    best = t.loc[t.groupby(["signal", "horizon"])["ic_t_bh"].idxmax()]
+    counts = t.groupby(["signal", "horizon"]).size().rename("n_configs")
+    out = best[["signal", "horizon", "ic_t_bh", "ic_t"]].rename(columns={"ic_t_bh": "best_t_bh", "ic_t": "raw_t"})
+    return out.merge(counts.reset_index(), on=["signal", "horizon"]).reset_index(drop=True)
+
+
+def sweep_heatmap_figure(result: Any) -> go.Figure:
+    """Heat map of the best BH-adjusted HAC t of the mean rank IC in each (signal, horizon) cell.
+
+    Colour runs from brown (negative) through grey to blue (positive); cells
+    at or beyond +/-1.96 are significant at 5 % after adjustment.  The
+    subtitle states how many configurations and tests the sweep tried.
+    """
+    cells = heatmap_cells(result)
+    n_points, n_rows = len(result.configs), len(result.table)
+    sub = (f"{n_points} configurations x {len(result.horizons)} horizon(s) = {n_rows} tests; "
+           f"each cell shows the best of its configurations after the Benjamini-Hochberg adjustment")
+    if cells.empty:
+        return message_figure(_TITLE, "No configuration of the sweep produced a HAC t-statistic.")
+    signals = sorted(cells["signal"].unique())
+    horizons = sorted(int(h) for h in cells["horizon"].unique())
+    z = np.full((len(signals), len(horizons)), np.nan)
+    text = [["" for _ in horizons] for _ in signals]
+    custom = np.full((len(signals), len(horizons), 2), np.nan)
+    for _, r in cells.iterrows():
+        i, j = signals.index(r["signal"]), horizons.index(int(r["horizon"]))
+        z[i, j] = r["best_t_bh"]
+        custom[i, j] = (r["raw_t"], r["n_configs"])
+        text[i][j] = f"{r['best_t_bh']:.2f}"
+    lim = max(3.0, float(np.nanmax(np.abs(z))))
+    fig = base_figure(_TITLE, sub, height=120 + 60 * len(signals), wide=True)
+    fig.add_trace(go.Heatmap(
+        z=z, x=[f"{h} m" for h in horizons], y=signals, text=text, texttemplate="%{text}", customdata=custom,
+        zmin=-lim, zmax=lim, colorscale=[[0.0, DEAR], [0.5, NEUTRAL], [1.0, CHEAP]],
+        colorbar=dict(title=dict(text="adjusted t")),
+        hovertemplate=("%{y}, %{x}<br>best adjusted t %{z:.2f}<br>its raw HAC t %{customdata[0]:.2f}"
+                       "<br>configurations in the cell %{customdata[1]:.0f}<extra></extra>"),
+    ))
+    fig.update_xaxes(title_text="horizon", type="category")
+    fig.update_yaxes(title_text="signal", type="category")
+    return fig
+
+
+def _browser() -> str | None:
+    env = os.environ.get("BROWSER_PATH")
+    if env:
+        return env if Path(env).is_file() and os.access(env, os.X_OK) else None
+    for name in ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable", "chrome"):
+        hit = shutil.which(name)
+        if hit:
+            return hit
+    return None
+
+
+def write_heatmap(fig: go.Figure, out_dir: str | os.PathLike[str], stem: str = "heatmap") -> tuple[list[Path], str | None]:
+    """Write ``stem.html`` (plotly.js embedded, opens offline) and ``stem.png`` when a browser is available.
+
+    Returns the paths written and a note when the PNG could not be made.
+    """
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    html = out / f"{stem}.html"
+    fig.write_html(html, include_plotlyjs=True, full_html=True, config={"displaylogo": False})
+    paths = [html]
+    browser = _browser()
+    if browser is None:
+        return paths, ("No Chrome/Chromium found: the heat map was written as HTML only "
+                       "(install chromium or set BROWSER_PATH for a PNG).")
+    png = out / f"{stem}.png"
+    old = os.environ.get("BROWSER_PATH")
+    try:
+        os.environ["BROWSER_PATH"] = browser
+        fig.write_image(png, format="png", width=1100, height=int(fig.layout.height or 500), scale=1)
+    except Exception as err:  # noqa: BLE001 - the HTML stands; say why there is no PNG
+        return paths, f"The PNG heat map could not be rendered ({type(err).__name__}); the HTML one was written."
+    finally:
+        if old is None:
+            os.environ.pop("BROWSER_PATH", None)
+        else:
+            os.environ["BROWSER_PATH"] = old
+    paths.append(png)
+    return paths, None

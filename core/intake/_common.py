@@ -1,0 +1,234 @@
+"""Shared pieces of tidying: the per-file context, column finders, samplers and cell accounting."""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from typing import Callable, Sequence
+
+import numpy as np
+import pandas as pd
+
+from core.errors import IntakeError, Reason
+from core.intake import numbers as nb
+from core.intake.dates import parse_dates
+from core.intake.kinds import VALUE_WORDS
+from core.intake.numbers import detect_decimal, parse_numbers
+from core.intake.options import ReadOptions
+from core.intake.readers import Grid
+from core.intake.sniff import norm_name
+from core.intake.tally import Tally
+
+__all__ = ["clean_ids", "Ctx", "CODE_REASON", "NONPOS", "NEGAMT", "NODATE", "NOSEC", "DUP", "POSITIVE_KINDS",
+           "find_column", "sample", "number_profile", "number_profiles", "date_profile", "decide_decimal",
+           "frequency", "value_column", "tally_values"]
+
+SAMPLE = 300
+POSITIVE_KINDS = frozenset({"prices", "market_cap", "benchmark"})
+# final status codes of value cells beyond the numbers module's codes
+NONPOS, NEGAMT, NODATE, NOSEC, DUP = 10, 11, 12, 13, 14
+CODE_REASON = {
+    nb.BLANK: Reason.BLANK,
+    nb.MISSING: Reason.MISSING_MARKER,
+    nb.UNPARSEABLE: Reason.UNPARSEABLE_NUMBER,
+    nb.NON_FINITE: Reason.NON_FINITE,
+    nb.OUT_OF_RANGE: Reason.OUT_OF_RANGE,
+    NONPOS: Reason.NON_POSITIVE_PRICE,
+    NEGAMT: Reason.NEGATIVE_AMOUNT,
+    NODATE: Reason.ROW_WITHOUT_DATE,
+    NOSEC: Reason.ROW_WITHOUT_SECURITY,
+    DUP: Reason.DUPLICATE_ENTRY,
+}
+
+
+@dataclass
+class Ctx:
+    name: str
+    grid: Grid
+    options: ReadOptions
+    header: list[str]
+    tally: Tally = field(default_factory=Tally)
+    notes: list[str] = field(default_factory=list)
+
+    def col(self, j: int) -> pd.Series:
+        return self.grid.columns[j]
+
+    def text(self, j: int) -> pd.Series:
+        s = self.grid.columns[j]
+        if pd.api.types.is_string_dtype(s.dtype) and s.dtype != object:
+            return s.fillna("").str.strip()
+        if pd.api.types.is_datetime64_any_dtype(s.dtype):
+            return pd.Series(pd.DatetimeIndex(s).strftime("%Y-%m-%d"), dtype="str").fillna("")
+        return s.astype("str").fillna("").str.strip()
+
+    def locator(self, j: int) -> Callable[[np.ndarray], tuple[np.ndarray, np.ndarray, np.ndarray]]:
+        """Example locations for cells of column ``j`` (text formatted only for those cells)."""
+        rows, col = self.grid.rows, self.header[j]
+
+        def locate(i: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+            cells = self.grid.columns[j].iloc[i].reset_index(drop=True)
+            txt = cells.astype("str").fillna("").str.strip() if not pd.api.types.is_datetime64_any_dtype(cells.dtype) \
+                else pd.Series(pd.DatetimeIndex(cells).strftime("%Y-%m-%d"), dtype="str").fillna("")
+            return rows[i], np.full(i.size, col, dtype=object), txt.to_numpy()
+
+        return locate
+
+    def whole_column(self, j: int, reason: Reason) -> None:
+        self.tally.add(reason, np.ones(self.grid.n_rows, dtype=bool), self.locator(j))
+
+
+def clean_ids(ids: pd.Series, options: ReadOptions) -> tuple[pd.Series, int]:
+    """Trim identifiers and apply the clean-up rule.
+
+    Returns the cleaned ids and how many did not match ``id_regex`` (kept trimmed).
+
+    Examples
+    --------
+    >>> clean_ids(pd.Series([" tor14 x", "abc"]), ReadOptions(id_cleanup="first_token"))[0].tolist()
+    ['tor14', 'abc']
+    """
+    s = ids.astype("str").fillna("").str.strip()
+    misses = 0
+    if options.id_cleanup == "upper":
+        s = s.str.upper()
+    elif options.id_cleanup == "first_token":
+        s = s.str.extract(r"^(\S*)", expand=False).fillna("")
+    elif options.id_cleanup == "regex" and options.id_regex:
+        pat = re.compile(options.id_regex)
+        got = s.str.extract(pat if pat.groups else f"({options.id_regex})", expand=True)[0]
+        miss = got.isna() & (s != "")
+        misses = int(miss.sum())
+        s = got.fillna(s).astype("str").str.strip()
+    return s, misses
+
+
+def find_column(ctx: Ctx, wanted: str, setting: str) -> int:
+    low = [h.lower() for h in ctx.header]
+    for j, h in enumerate(ctx.header):
+        if h == wanted:
+            return j
+    if wanted.strip().lower() in low:
+        return low.index(wanted.strip().lower())
+    raise IntakeError(ctx.name, Reason.COLUMN_NOT_FOUND, f"{setting}={wanted!r} is not a column of the file.",
+                      column=wanted, row=ctx.grid.header_row,
+                      hint=f"Columns found: {', '.join(map(repr, ctx.header[:12]))}{' ...' if len(ctx.header) > 12 else ''}.")
+
+
+def sample(s: pd.Series, k: int = SAMPLE) -> pd.Series:
+    if pd.api.types.is_string_dtype(s.dtype):
+        t = s.head(20 * k).fillna("").str.strip()
+        return t[t != ""].head(k)
+    return s.dropna().head(k)
+
+
+def number_profile(s: pd.Series, decimal: str = "point") -> tuple[float, int]:
+    """Share of non-blank sample cells that are neither numbers nor missing markers, and sample size."""
+    smp = sample(s)
+    if smp.empty:
+        return 0.0, 0
+    if decimal == "auto":
+        decimal = "point"
+    r = parse_numbers(smp.reset_index(drop=True), "comma" if decimal == "comma" else "point")
+    bad = np.isin(r.status, (nb.UNPARSEABLE,))
+    return float(bad.mean()), int(len(smp))
+
+
+def number_profiles(ctx: Ctx, cols: Sequence[int], decimal: str, k: int = 200) -> dict[int, tuple[float, int]]:
+    """:func:`number_profile` of many columns at once, on their first ``k`` rows (one parse for all)."""
+    import pyarrow as pa
+
+    out: dict[int, tuple[float, int]] = {}
+    pieces: list[tuple[int, pa.Array | pa.ChunkedArray]] = []
+    for j in cols:
+        c = ctx.col(j)
+        if pd.api.types.is_numeric_dtype(c.dtype) or pd.api.types.is_datetime64_any_dtype(c.dtype):
+            out[j] = (0.0, int(c.head(k).notna().sum()))
+            continue
+        pa_arr = getattr(c.array, "_pa_array", None)
+        pieces.append((j, pa_arr.slice(0, k) if pa_arr is not None else pa.array(c.head(k).astype("str").fillna("").tolist(), pa.string())))
+    if not pieces:
+        return out
+    chunks = [ch.cast(pa.large_string()) for _, a in pieces for ch in (a.chunks if isinstance(a, pa.ChunkedArray) else [a])]
+    stacked = pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array(chunks, pa.large_string())))
+    owner = np.repeat(np.arange(len(pieces)), [len(a) for _, a in pieces])
+    text_heads = pieces
+    r = parse_numbers(stacked, "comma" if decimal == "comma" else "point")
+    nonblank = r.status != nb.BLANK
+    bad = np.bincount(owner, weights=(r.status == nb.UNPARSEABLE).astype(float), minlength=len(text_heads))
+    size = np.bincount(owner, weights=nonblank.astype(float), minlength=len(text_heads))
+    for t, (j, _) in enumerate(text_heads):
+        out[j] = (float(bad[t] / size[t]) if size[t] else 0.0, int(size[t]))
+    return out
+
+
+def date_profile(s: pd.Series, allow_serial: bool) -> float:
+    smp = sample(s)
+    if smp.empty:
+        return 0.0
+    r = parse_dates(smp.reset_index(drop=True), "auto", allow_serial=allow_serial)
+    return float((r.status == 0).mean())
+
+
+def decide_decimal(ctx: Ctx, cols: Sequence[int]) -> tuple[str, str]:
+    o = ctx.options
+    if o.decimal != "auto":
+        return o.decimal, "set by the user"
+    texts = [ctx.col(j) for j in cols[:200] if not pd.api.types.is_numeric_dtype(ctx.col(j).dtype)]
+    if not texts:
+        return "point", "numbers stored as numbers"
+    smp = pd.concat([sample(t, 40) for t in texts], ignore_index=True)
+    return detect_decimal(smp.astype("str").tolist(), ctx.grid.delimiter)
+
+
+def frequency(dates: np.ndarray) -> str | None:
+    """Frequency label from the median spacing of the distinct dates."""
+    u = np.unique(dates[~np.isnat(dates)])
+    if u.size == 0:
+        return None
+    if u.size == 1:
+        return "single date"
+    gap = float(np.median(np.diff(u).astype("timedelta64[D]").astype(float)))
+    if gap <= 1.5:
+        return "daily"
+    if gap <= 8:
+        return "weekly"
+    if gap <= 35:
+        return "monthly"
+    if gap <= 100:
+        return "quarterly"
+    if gap <= 200:
+        return "semi-annual"
+    return "annual or irregular"
+
+
+def value_column(ctx: Ctx, kind: str, candidates: Sequence[int], numeric: Sequence[int]) -> int:
+    if ctx.options.value_column:
+        return find_column(ctx, ctx.options.value_column, "value_column")
+    for word in VALUE_WORDS.get(kind, ()):
+        for j in candidates:
+            nm = norm_name(ctx.header[j])
+            if nm == word or (len(word) > 2 and word in nm):
+                return j
+    if len(numeric) == 1:
+        return numeric[0]
+    if not numeric:
+        raise IntakeError(ctx.name, Reason.NO_VALUE_COLUMN, f"no column of numbers found for the {kind} values.",
+                          row=ctx.grid.header_row, hint="Set value_column to the column that holds them.")
+    raise IntakeError(ctx.name, Reason.AMBIGUOUS_LAYOUT,
+                      f"several columns could hold the {kind} values: {', '.join(repr(ctx.header[j]) for j in numeric)}.",
+                      row=ctx.grid.header_row, hint="Set value_column to the one to use.")
+
+
+def tally_values(ctx: Ctx, final: np.ndarray, vcols: Sequence[int], stacked: pd.Series) -> None:
+    g = ctx.grid
+    n = g.n_rows
+    counts = np.bincount(final.astype(np.int64), minlength=16)
+    ctx.tally.add_parsed(int(counts[nb.PARSED]))
+    names = np.asarray([ctx.header[j] for j in vcols], dtype=object)
+
+    def locate(i: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        return g.rows[i % n], names[i // n], stacked.iloc[i].astype("str").to_numpy()
+
+    for code, reason in CODE_REASON.items():
+        if counts[code]:
+            ctx.tally.add(reason, final == code, locate)

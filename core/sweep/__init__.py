@@ -1,0 +1,28 @@
+"""Signal sweeps across many study configurations, and the partitioned study for very large universes.
+
+Public API::
+
+    read_grid(path) / parse_grid(data) -> SweepGrid      grid files (TOML)
+    run_sweep(panel, grid, client=, cache_dir=, progress=) -> SweepResult
+    save_sweep(result, dir) / load_sweep(dir)             the sweep folder
+    run_partitioned_study(panel, config, client, ...)     -> PartitionedResult
+
+Dask (``dask`` and ``distributed``, the ``cluster`` extra) is imported only
+inside the functions that use a cluster.
+"""
+
+from __future__ import annotations
+
+from core.sweep.grid import DIMENSIONS, GridPoint, SweepGrid, config_id, parse_grid, read_grid
+from core.sweep.partitioned import PartitionedResult, run_partitioned_study
+from core.sweep.run import SweepResult, evaluate_point, panel_fingerprint, run_sweep
+from core.sweep.store import load_sweep, save_sweep
+from core.sweep.table import adjust_pvalues, comparison_table, two_sided_p
+
+__all__ = [
+    "DIMENSIONS", "GridPoint", "SweepGrid", "config_id", "parse_grid", "read_grid",
+    "SweepResult", "run_sweep", "evaluate_point", "panel_fingerprint",
+    "save_sweep", "load_sweep",
+    "adjust_pvalues", "comparison_table", "two_sided_p",
+    "PartitionedResult", "run_partitioned_study",
+]

@@ -1,0 +1,263 @@
+"""Sweep grid files: TOML in, a list of validated study configurations (grid points) out.
+
+File format (our own; every section optional except ``[vary]``)::
+
+    [sweep]
+    name = "yield sweep"          # used in output titles
+
+    [study]                       # settings shared by every point (StudyConfig names)
+    min_breadth = 10
+    horizons = [1, 3, 12]         # used when [vary] has no 'horizons'
+
+    [vary]                        # dimensions crossed with each other
+    signal = ["earnings_yield", "dividend_yield"]
+    universe = ["all", "holdings", ["Mills", "Ports"]]   # a list = those sectors
+    horizons = [1, 3, 12]
+    quantiles = [5, 10]
+    outliers = [[1, 99], [5, 95], "none", "clip_robust_z"]  # a pair = winsorise there
+    zscore = ["mean_std", "median_mad"]
+    sector_neutral = [false, true]
+    reporting_lag = [0, 3]
+    cost_bps = [0, 25]
+
+Any :class:`core.study.StudyConfig` field name may also be used as a
+dimension.  ``horizons`` is special: one study computes every horizon at once
+(the numbers of one horizon do not depend on the others), so the horizon
+values become rows of the comparison table rather than separate studies.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import itertools
+import json
+import tomllib
+from dataclasses import dataclass, fields
+from pathlib import Path
+from typing import Any, Callable
+
+from core.errors import ConfigError
+from core.study import StudyConfig
+
+__all__ = ["GridPoint", "SweepGrid", "DIMENSIONS", "parse_grid", "read_grid", "config_id", "MAX_POINTS"]
+
+#: The most studies one grid may ask for (a guard against a typo that crosses too much).
+MAX_POINTS = 5000
+
+
+def _universe(v: Any) -> dict[str, Any]:
+    if v in ("all", "holdings"):
+        return {"universe": v, "universe_sectors": ()}
+    if isinstance(v, str) and v:
+        return {"universe": "sectors", "universe_sectors": (v,)}
+    if isinstance(v, list) and v and all(isinstance(s, str) and s for s in v):
+        return {"universe": "sectors", "universe_sectors": tuple(v)}
+    raise ValueError("'all', 'holdings', a sector name or a list of sector names")
+
+
+def _outliers(v: Any) -> dict[str, Any]:
+    if v in ("none", "clip_robust_z"):
+        return {"outlier_rule": v}
+    if isinstance(v, list) and len(v) == 2 and all(isinstance(x, (int, float)) and not isinstance(x, bool)
+                                                   for x in v):
+        return {"outlier_rule": "winsorise", "winsor_percentiles": (float(v[0]), float(v[1]))}
+    raise ValueError("a pair of percentiles such as [1, 99], 'none' or 'clip_robust_z'")
+
+
+def _field(name: str) -> Callable[[Any], dict[str, Any]]:
+    def f(v: Any) -> dict[str, Any]:
+        return {name: tuple(v) if isinstance(v, list) else v}
+    return f
+
+
+#: Plain dimension names of the grid file and the study settings each one sets.
+DIMENSIONS: dict[str, Callable[[Any], dict[str, Any]]] = {
+    "signal": _field("signal"),
+    "universe": _universe,
+    "quantiles": _field("n_quantiles"),
+    "outliers": _outliers,
+    "zscore": _field("zscore_method"),
+    "sector_neutral": _field("sector_neutral"),
+    "reporting_lag": _field("reporting_lag_months"),
+    "cost_bps": _field("transaction_cost_bps"),
+    "holding": _field("holding_months"),
+    "excess": _field("excess_over"),
+    "min_history": _field("min_history_months"),
+}
+_CONFIG_FIELDS = {f.name for f in fields(StudyConfig)}
+
+
+def config_id(config: StudyConfig) -> str:
+    """Stable id of a configuration: the first 12 hex digits of SHA-256 of its sorted JSON settings."""
+    blob = json.dumps(config.to_dict(), sort_keys=True, separators=(",", ":"), default=str)
+    return hashlib.sha256(blob.encode("utf-8")).hexdigest()[:12]
+
+
+def _label(v: Any) -> str:
+    if isinstance(v, list):
+        return "[" + ", ".join(_label(x) for x in v) + "]"
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    return str(v)
+
+
+@dataclass(frozen=True)
+class GridPoint:
+    """One study of the sweep.
+
+    Attributes
+    ----------
+    id : str
+        :func:`config_id` of ``config``.
+    config : StudyConfig
+    varied : tuple of (dimension, value label)
+        The values this point takes on the varied dimensions (``horizons`` excluded).
+    """
+
+    id: str
+    config: StudyConfig
+    varied: tuple[tuple[str, str], ...]
+
+
+@dataclass(frozen=True)
+class SweepGrid:
+    """A parsed, validated grid: its name, dimensions and points (in file order)."""
+
+    name: str
+    source: str
+    dimensions: tuple[str, ...]
+    horizons: tuple[int, ...]
+    points: tuple[GridPoint, ...]
+
+    @property
+    def n_tests(self) -> int:
+        """Studies x horizons: the number of hypotheses the sweep tries."""
+        return len(self.points) * len(self.horizons)
+
+
+def _err(source: str, where: str, message: str, hint: str) -> ConfigError:
+    return ConfigError(f"{source}: {where}: {message}", hint=hint)
+
+
+def parse_grid(data: dict[str, Any], source: str = "grid") -> SweepGrid:
+    """Validate a grid already read from TOML and cross its dimensions.
+
+    Parameters
+    ----------
+    data : dict
+        The TOML document as :func:`tomllib.loads` returns it.
+    source : str
+        File name used in error messages.
+
+    Returns
+    -------
+    SweepGrid
+
+    Raises
+    ------
+    ConfigError
+        Unknown section or dimension, a value a study does not allow (the
+        message names the dimension and the value), or more than ``MAX_POINTS`` points.
+
+    Notes
+    -----
+    Points are the Cartesian product of the ``[vary]`` lists in file order;
+    each is ``StudyConfig.from_dict(study settings | dimension settings)``.
+    Two points with identical settings (e.g. a dimension that does not change
+    the configuration) are kept once.
+    """
+    unknown = sorted(set(data) - {"sweep", "study", "vary"})
+    if unknown:
+        raise _err(source, "sections", f"unknown section(s) {', '.join(repr(u) for u in unknown)}",
+                   "Use [sweep], [study] and [vary].")
+    meta = data.get("sweep", {})
+    base = dict(data.get("study", {}))
+    vary = data.get("vary")
+    if not isinstance(vary, dict) or not vary:
+        raise _err(source, "[vary]", "no dimensions to vary", "Add a [vary] section, e.g. signal = [\"earnings_yield\"].")
+    for dim in vary:
+        if dim not in DIMENSIONS and dim not in _CONFIG_FIELDS:
+            raise _err(source, f"[vary] {dim!r}", "unknown dimension",
+                       "Known dimensions: " + ", ".join(sorted(DIMENSIONS) + ["horizons"])
+                       + ", or any study setting name.")
+        if not isinstance(vary[dim], list) or not vary[dim]:
+            raise _err(source, f"[vary] {dim!r}", f"needs a non-empty list of values, found {vary[dim]!r}",
+                       f"Write e.g. {dim} = [value1, value2].")
+    try:
+        base_cfg = StudyConfig.from_dict({k: v for k, v in base.items()})
+    except ConfigError as err:
+        raise _err(source, "[study]", str(err), "Fix the shared study settings.") from err
+    horizons: tuple[int, ...] = base_cfg.horizons
+    if "horizons" in vary:
+        try:
+            horizons = StudyConfig(horizons=tuple(vary["horizons"])).horizons
+        except ConfigError as err:
+            raise _err(source, "[vary] 'horizons'", str(err), "Use distinct whole months from 1 to 120.") from err
+    dims = [d for d in vary if d != "horizons"]
+    # Each value on its own first, so an error names its dimension.
+    settings_of: dict[str, list[tuple[str, dict[str, Any]]]] = {}
+    for dim in dims:
+        conv = DIMENSIONS.get(dim) or _field(dim)
+        opts = []
+        for v in vary[dim]:
+            try:
+                s = conv(v)
+            except ValueError as err:
+                raise _err(source, f"[vary] {dim!r}", f"the value {v!r} is not allowed", f"Allowed: {err}.") from err
+            try:
+                StudyConfig.from_dict({**base_cfg.to_dict(), **_listify(s), "horizons": list(horizons)})
+            except ConfigError as err:
+                raise _err(source, f"[vary] {dim!r}", f"the value {v!r} is not allowed ({err.message})",
+                           err.hint or "Change this value.") from err
+            opts.append((_label(v), s))
+        settings_of[dim] = opts
+    n = 1
+    for dim in dims:
+        n *= len(settings_of[dim])
+    if n > MAX_POINTS:
+        raise _err(source, "[vary]", f"the dimensions cross to {n} studies, more than {MAX_POINTS}",
+                   "Vary fewer settings at once or split the grid into several files.")
+    points: list[GridPoint] = []
+    seen: set[str] = set()
+    for combo in itertools.product(*(settings_of[d] for d in dims)):
+        merged: dict[str, Any] = {**base_cfg.to_dict(), "horizons": list(horizons)}
+        for _, s in combo:
+            merged.update(_listify(s))
+        try:
+            cfg = StudyConfig.from_dict(merged)
+        except ConfigError as err:
+            where = ", ".join(f"{d}={lab}" for d, (lab, _) in zip(dims, combo))
+            raise _err(source, f"[vary] combination {where}", err.message, err.hint or "Change one of these values.") from err
+        cid = config_id(cfg)
+        if cid in seen:
+            continue
+        seen.add(cid)
+        points.append(GridPoint(cid, cfg, tuple((d, lab) for d, (lab, _) in zip(dims, combo))))
+    name = meta.get("name", Path(source).stem) if isinstance(meta, dict) else Path(source).stem
+    return SweepGrid(str(name), source, tuple(dims), horizons, tuple(points))
+
+
+def _listify(s: dict[str, Any]) -> dict[str, Any]:
+    return {k: list(v) if isinstance(v, tuple) else v for k, v in s.items()}
+
+
+def read_grid(path: str | Path) -> SweepGrid:
+    """Read and validate a grid file (see the module docstring for the format).
+
+    Raises
+    ------
+    ConfigError
+        The file is missing, is not valid TOML, or fails :func:`parse_grid`.
+    """
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8")
+    except OSError as err:
+        raise ConfigError(f"{p}: the grid file cannot be read ({err.strerror}).",
+                          hint="Check the path given to --grid.") from err
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise ConfigError(f"{p.name}: not a valid TOML file ({err}).",
+                          hint="See docs/sweep_example.toml for the format.") from err
+    return parse_grid(data, p.name)

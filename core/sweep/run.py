@@ -1,0 +1,276 @@
+"""Run the points of a sweep with the study engine, on a Dask cluster or in this process.
+
+Each grid point is one :func:`core.study.run_study` call (no second
+implementation).  On a cluster the panel is scattered to every worker once
+(``client.scatter(panel, broadcast=True)``) and each task receives the
+resulting future, so the data is not shipped per task.  Dask is imported only
+here, inside the functions that need it, so the core install stays light.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+import os
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Callable
+
+import numpy as np
+import pandas as pd
+
+from core.errors import ValueSiftError
+from core.panel import Panel
+from core.sweep.grid import GridPoint, SweepGrid
+from core.sweep.table import comparison_table
+
+__all__ = ["SweepResult", "run_sweep", "evaluate_point", "panel_fingerprint", "sweep_statement"]
+
+#: Called after each point: (points finished, points in the grid, point id, "ok" / "failed" / "reused").
+SweepProgress = Callable[[int, int, str, str], None]
+
+
+@dataclass(frozen=True)
+class SweepResult:
+    """A finished sweep.
+
+    Attributes
+    ----------
+    name : str
+    dimensions : tuple of str
+        The varied dimensions (columns of ``table``).
+    horizons : tuple of int
+    table : DataFrame
+        :func:`core.sweep.table.comparison_table`: one row per (point, horizon).
+    configs : dict[str, dict]
+        Study settings (``StudyConfig.to_dict()``) of every point, by point id.
+    input_key : str
+        Fingerprint of the panel the sweep ran on.
+    computed, reused : int
+        Points computed in this run and points taken from the cache folder.
+    """
+
+    name: str
+    dimensions: tuple[str, ...]
+    horizons: tuple[int, ...]
+    table: pd.DataFrame
+    configs: dict[str, dict[str, Any]]
+    input_key: str
+    computed: int
+    reused: int
+
+    @property
+    def n_points(self) -> int:
+        return len(self.configs)
+
+    @property
+    def n_failed(self) -> int:
+        return int(self.table.loc[self.table["status"] != "ok", "point_id"].nunique())
+
+    @property
+    def n_tests(self) -> int:
+        return int(np.isfinite(self.table["ic_p"].to_numpy(dtype=float)).sum())
+
+    @property
+    def statement(self) -> str:
+        return sweep_statement(self)
+
+
+def sweep_statement(res: SweepResult) -> str:
+    """The plain statement of how many configurations were tried."""
+    n_rows = len(res.table)
+    sig_raw = int((res.table["ic_p"] <= 0.05).sum())
+    sig_bh = int(res.table["significant_bh"].sum())
+    sig_bon = int(res.table["significant_bonferroni"].sum())
+    return (f"{res.n_points} study configurations were tried, each at {len(res.horizons)} horizon(s): "
+            f"{n_rows} signal tests in all; {res.n_failed} configuration(s) failed and {res.n_tests} tests had a "
+            f"HAC t-statistic. {sig_raw} look significant at 5 % on their own, {sig_bh} after the "
+            f"Benjamini-Hochberg false-discovery-rate adjustment and {sig_bon} after Bonferroni. Picking the "
+            f"best of many configurations overstates it: judge it by the adjusted columns.")
+
+
+def _f(x: Any) -> float:
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        return math.nan
+    return v if math.isfinite(v) else math.nan
+
+
+def evaluate_point(panel: Panel, settings: dict[str, Any]) -> dict[str, Any]:
+    """Run one grid point and keep the figures of the comparison table (runs on a worker).
+
+    Returns ``{"status": "ok", "rows": [per-horizon dict]}`` or
+    ``{"status": "failed", "error": message}``; an error never escapes, so one
+    bad point cannot sink the sweep.
+    """
+    from core.study import StudyConfig, run_study, summary_dict
+
+    try:
+        cfg = StudyConfig.from_dict(dict(settings))
+        res = run_study(panel, cfg)
+    except ValueSiftError as err:
+        return {"status": "failed", "error": str(err)}
+    except Exception as err:  # noqa: BLE001 - recorded in the table, not raised
+        return {"status": "failed", "error": f"{type(err).__name__}: {err}"}
+    s = summary_dict(res)
+    ls = s["backtest"]["portfolios"].get("long_short", {})
+    rows = []
+    for h in cfg.horizons:
+        b = s["horizons"][str(h)]
+        rows.append({"horizon": int(h), "mean_ic": _f(b["mean_ic"]), "ic_t": _f(b["ic_t"]),
+                     "spread": _f(b["spread"]), "spread_t": _f(b["spread_t"]),
+                     "sharpe": _f(ls.get("sharpe")), "max_drawdown": _f(ls.get("max_drawdown")),
+                     "breadth": _f(res.ic_summary.at[h, "mean_breadth"]), "n_dates": int(b["n_dates"])})
+    return {"status": "ok", "rows": rows}
+
+
+def panel_fingerprint(panel: Panel) -> str:
+    """SHA-256 (first 16 hex digits) of the panel's data and labels (the report is left out)."""
+    h = hashlib.sha256()
+    for name in ("prices", "eps", "dividends", "sectors", "holdings", "benchmark", "market_cap"):
+        obj = getattr(panel, name)
+        h.update(name.encode())
+        if obj is None:
+            h.update(b"-")
+            continue
+        h.update(pd.util.hash_pandas_object(obj, index=True).to_numpy().tobytes())
+        if isinstance(obj, pd.DataFrame):
+            h.update(json.dumps([str(c) for c in obj.columns]).encode())
+    for us in panel.signals:
+        h.update(f"signal:{us.name}:{us.higher_is_cheaper}".encode())
+        h.update(pd.util.hash_pandas_object(us.values, index=True).to_numpy().tobytes())
+        h.update(json.dumps([str(c) for c in us.values.columns]).encode())
+    return h.hexdigest()[:16]
+
+
+def _cache_file(cache_dir: Path, input_key: str, point: GridPoint) -> Path:
+    return cache_dir / input_key / f"{point.id}.json"
+
+
+def _read_cached(path: Path, point: GridPoint) -> dict[str, Any] | None:
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return None
+    if data.get("config") != point.config.to_dict() or data.get("status") != "ok":
+        return None
+    return {"status": "ok", "rows": data["rows"]}
+
+
+def _write_cached(path: Path, point: GridPoint, out: dict[str, Any]) -> None:
+    if out.get("status") != "ok":
+        return  # failures are tried again on the next run
+    path.parent.mkdir(parents=True, exist_ok=True)
+    blob = json.dumps({"config": point.config.to_dict(), **out}, sort_keys=True, default=_nan_none)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".json")
+    with os.fdopen(fd, "w", encoding="utf-8") as fh:
+        fh.write(blob)
+    os.replace(tmp, path)
+
+
+def _nan_none(x: Any) -> Any:
+    return None
+
+
+def run_sweep(
+    panel: Panel,
+    grid: SweepGrid,
+    *,
+    client: Any = None,
+    cache_dir: str | os.PathLike[str] | None = None,
+    progress: SweepProgress | None = None,
+) -> SweepResult:
+    """Run every point of ``grid`` on ``panel`` and build the comparison table.
+
+    Parameters
+    ----------
+    panel : Panel
+        The data (never modified; its intake report is not shipped to workers).
+    grid : SweepGrid
+        From :func:`core.sweep.grid.read_grid` or :func:`core.sweep.grid.parse_grid`.
+    client : distributed.Client, optional
+        Run the points on this Dask cluster; without one they run here, one by one.
+    cache_dir : path, optional
+        Folder of finished points, keyed by the panel fingerprint and the point
+        id; a re-run with the same grid and inputs reuses them.
+    progress : callable(done, total, point_id, status), optional
+
+    Returns
+    -------
+    SweepResult
+
+    Notes
+    -----
+    Every point is :func:`core.study.run_study` with the point's
+    configuration; the table and its adjustment are described in
+    :func:`core.sweep.table.comparison_table`.
+
+    References
+    ----------
+    Benjamini & Hochberg (1995), J. R. Stat. Soc. B 57(1).
+    """
+    shipped = panel.with_(report=None)
+    key = panel_fingerprint(shipped)
+    cdir = Path(cache_dir) if cache_dir is not None else None
+    outcome: dict[str, dict[str, Any]] = {}
+    total = len(grid.points)
+    todo: list[GridPoint] = []
+    for p in grid.points:
+        hit = _read_cached(_cache_file(cdir, key, p), p) if cdir is not None else None
+        if hit is not None:
+            outcome[p.id] = hit
+            if progress is not None:
+                progress(len(outcome), total, p.id, "reused")
+        else:
+            todo.append(p)
+    reused = len(outcome)
+
+    def done(p: GridPoint, out: dict[str, Any]) -> None:
+        outcome[p.id] = out
+        if cdir is not None:
+            _write_cached(_cache_file(cdir, key, p), p, out)
+        if progress is not None:
+            progress(len(outcome), total, p.id, str(out["status"]))
+
+    if todo and client is not None:
+        _run_on_client(client, shipped, key, todo, done)
+    else:
+        for p in todo:
+            done(p, evaluate_point(shipped, p.config.to_dict()))
+    rows: list[dict[str, Any]] = []
+    for p in grid.points:
+        out = outcome[p.id]
+        labels = dict(p.varied)
+        if out["status"] == "ok":
+            for r in out["rows"]:
+                rows.append({"point_id": p.id, **labels, "status": "ok", "error": "", **r})
+        else:
+            for h in p.config.horizons:
+                rows.append({"point_id": p.id, **labels, "status": "failed", "error": out["error"], "horizon": h})
+    table = comparison_table(rows, grid.dimensions)
+    return SweepResult(grid.name, grid.dimensions, grid.horizons, table,
+                       {p.id: p.config.to_dict() for p in grid.points}, key, len(todo), reused)
+
+
+def _run_on_client(client: Any, panel: Panel, input_key: str, todo: list[GridPoint],
+                   done: Callable[[GridPoint, dict[str, Any]], None]) -> None:
+    """Scatter the panel once, submit one task per point referencing it, collect as they finish."""
+    from distributed import as_completed
+
+    panel_future = client.scatter(panel, broadcast=True)
+    futures = {}
+    for p in todo:
+        fut = client.submit(evaluate_point, panel_future, p.config.to_dict(), key=f"valuesift-point-{input_key}-{p.id}",
+                            pure=False)
+        futures[fut] = p
+    for fut in as_completed(list(futures)):
+        p = futures[fut]
+        try:
+            out = fut.result()
+        except Exception as err:  # a worker lost, a pickling problem: recorded, not raised
+            out = {"status": "failed", "error": f"{type(err).__name__}: {err}"}
+        done(p, out)
+    del panel_future

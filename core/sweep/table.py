@@ -1,0 +1,124 @@
+"""The comparison table of a sweep and its multiple-testing adjustment."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+import pandas as pd
+from scipy import stats as _st
+
+__all__ = ["two_sided_p", "adjust_pvalues", "comparison_table", "METRIC_COLUMNS", "ALPHA"]
+
+#: Level of the "significant after adjustment" flags.
+ALPHA = 0.05
+
+#: Numeric columns per (grid point, horizon), in table order (after the adjusted ones are added).
+METRIC_COLUMNS: tuple[str, ...] = (
+    "mean_ic", "ic_t", "ic_p", "ic_p_bh", "ic_p_bonferroni", "ic_t_bh", "ic_t_bonferroni",
+    "spread", "spread_t", "sharpe", "max_drawdown", "breadth", "n_dates",
+)
+
+
+def two_sided_p(t: np.ndarray) -> np.ndarray:
+    """Two-sided p-value of a HAC t-statistic against the standard normal.
+
+    Notes
+    -----
+    ``p = 2 (1 - Phi(|t|))``; the Newey-West t-statistic is asymptotically
+    standard normal (Newey & West 1987).  NaN stays NaN.
+
+    References
+    ----------
+    Newey, W. K. & West, K. D. (1987). Econometrica 55(3), 703-708.
+    """
+    t = np.asarray(t, dtype=float)
+    out = np.full(t.shape, np.nan)
+    ok = np.isfinite(t)
+    out[ok] = 2.0 * _st.norm.sf(np.abs(t[ok]))
+    return out
+
+
+def adjust_pvalues(p: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Benjamini-Hochberg and Bonferroni adjusted p-values over the finite entries of ``p``.
+
+    Returns ``(p_bh, p_bonferroni)`` of the same shape (NaN where ``p`` is NaN).
+
+    Notes
+    -----
+    With ``m`` finite p-values sorted ``p_(1) <= ... <= p_(m)``, the
+    Benjamini-Hochberg adjusted value is
+    ``min_{k >= i} min(1, m p_(k) / k)``; rejecting where it is at most q
+    controls the false discovery rate at q for independent (and positively
+    dependent) tests.  Bonferroni: ``min(1, m p)``.  Both are computed with
+    ``statsmodels.stats.multitest.multipletests`` (methods ``fdr_bh`` and
+    ``bonferroni``).
+
+    References
+    ----------
+    Benjamini, Y. & Hochberg, Y. (1995). Controlling the false discovery rate.
+    J. R. Stat. Soc. B 57(1), 289-300.
+    """
+    from statsmodels.stats.multitest import multipletests
+
+    p = np.asarray(p, dtype=float)
+    bh = np.full(p.shape, np.nan)
+    bon = np.full(p.shape, np.nan)
+    ok = np.isfinite(p)
+    if ok.any():
+        bh[ok] = multipletests(p[ok], alpha=ALPHA, method="fdr_bh")[1]
+        bon[ok] = multipletests(p[ok], alpha=ALPHA, method="bonferroni")[1]
+    return bh, bon
+
+
+def _t_from_p(p: np.ndarray, sign: np.ndarray) -> np.ndarray:
+    """The t on the normal scale with the same two-sided p: ``sign(t) Phi^{-1}(1 - p/2)``."""
+    out = np.full(p.shape, np.nan)
+    ok = np.isfinite(p) & np.isfinite(sign)
+    out[ok] = np.sign(sign[ok]) * _st.norm.isf(p[ok] / 2.0)
+    return out
+
+
+def comparison_table(rows: list[dict[str, Any]], dimensions: tuple[str, ...]) -> pd.DataFrame:
+    """One row per (grid point, horizon) with raw and adjusted statistics.
+
+    Parameters
+    ----------
+    rows : list of dict
+        ``point_id, status, error, horizon``, the dimension labels and the raw
+        metrics ``mean_ic, ic_t, spread, spread_t, sharpe, max_drawdown,
+        breadth, n_dates`` (NaN for failed points).
+    dimensions : tuple of str
+        The varied dimensions (their columns come right after ``point_id``).
+
+    Returns
+    -------
+    DataFrame
+        Columns ``point_id``, the dimensions, ``horizon``, ``status``,
+        ``error``, then :data:`METRIC_COLUMNS` and ``significant_bh`` /
+        ``significant_bonferroni`` (adjusted p at most :data:`ALPHA`).
+
+    Notes
+    -----
+    The adjustment runs across every row with a finite HAC t (all points and
+    horizons of the sweep).  ``ic_t_bh`` and ``ic_t_bonferroni`` put the
+    adjusted p back on the t scale, ``sign(t) Phi^{-1}(1 - p_adj / 2)``, so an
+    adjusted t above 1.96 means significant at 5 % after adjustment.
+    """
+    df = pd.DataFrame(rows)
+    base = ["point_id", *dimensions, "horizon", "status", "error"]
+    for c in base + ["mean_ic", "ic_t", "spread", "spread_t", "sharpe", "max_drawdown", "breadth", "n_dates"]:
+        if c not in df.columns:
+            df[c] = np.nan if c not in ("status", "error", "point_id") else None
+    t = df["ic_t"].to_numpy(dtype=float)
+    p = two_sided_p(t)
+    bh, bon = adjust_pvalues(p)
+    df["ic_p"] = p
+    df["ic_p_bh"] = bh
+    df["ic_p_bonferroni"] = bon
+    df["ic_t_bh"] = _t_from_p(bh, t)
+    df["ic_t_bonferroni"] = _t_from_p(bon, t)
+    df["significant_bh"] = np.isfinite(bh) & (bh <= ALPHA)
+    df["significant_bonferroni"] = np.isfinite(bon) & (bon <= ALPHA)
+    df["horizon"] = df["horizon"].astype(int)
+    return df[base + list(METRIC_COLUMNS) + ["significant_bh", "significant_bonferroni"]].reset_index(drop=True)

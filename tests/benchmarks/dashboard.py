@@ -1,0 +1,115 @@
+"""Dashboard timings through the app's own service layer (no browser, no HTTP).
+
+What the study page does on the server, called directly:
+
+* cold study: a fresh :class:`app.services.AppState` over a workspace holding
+  the size-M files; ``run_now`` builds the panel from the parsed files, runs
+  the study and writes the result cache;
+* warm horizon change: ``AppState.result(key)`` (memory hit) and the eight
+  figures the study page's figure callback builds for the new horizon;
+* first page of the screen: ``display_frame`` + ``page`` as the screen page's
+  table callback calls them (only the rows of one page are sent).
+
+HTTP, JSON encoding of the figures and browser rendering are not included.
+"""
+
+from __future__ import annotations
+
+import statistics
+import tempfile
+import time
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+
+from core.panel import Panel
+
+__all__ = ["measure_dashboard"]
+
+
+def _write_files(panel: Panel, folder: Path) -> dict[str, Path]:
+    p = panel.prices.rename_axis("date").reset_index()
+    p["date"] = p["date"].dt.strftime("%Y-%m-%d")
+    paths = {"prices": folder / "prices_monthly.csv", "earnings": folder / "eps_monthly.csv",
+             "dividends": folder / "dividends.csv", "sectors": folder / "sectors.csv"}
+    p.to_csv(paths["prices"], index=False, float_format="%.6f")
+    assert panel.eps is not None and panel.dividends is not None and panel.sectors is not None
+    e = panel.eps.rename_axis("date").reset_index()
+    e["date"] = e["date"].dt.strftime("%Y-%m-%d")
+    e.to_csv(paths["earnings"], index=False, float_format="%.6f")
+    d = panel.dividends.copy()
+    d["ex_date"] = d["ex_date"].dt.strftime("%Y-%m-%d")
+    d.to_csv(paths["dividends"], index=False)
+    pd.DataFrame({"security": panel.sectors.index, "sector": panel.sectors.to_numpy()}).to_csv(paths["sectors"], index=False)
+    return paths
+
+
+def measure_dashboard(panel: Panel, repeats: int = 5) -> dict[str, Any]:
+    """Server-side seconds of a cold study, a warm horizon change and the first screen page."""
+    import flask
+
+    from app.figures import backtest as fb
+    from app.figures import study as fs
+    from app.screen_table import display_frame, page
+    from app.services import AppState
+    from app.workspace import Workspace
+    from core.intake import ReadOptions
+    from core.study import StudyConfig
+
+    out: dict[str, Any] = {}
+    with tempfile.TemporaryDirectory(prefix="valuesift-bench-app-") as tmp:
+        root = Path(tmp)
+        paths = _write_files(panel, root)
+        ws = Workspace(root / "ws")
+        ids = [ws.add_upload(p.name, p.read_bytes(), ReadOptions(kind=kind)).id  # type: ignore[arg-type]
+               for kind, p in paths.items()]
+        sel = {"ids": ids, "splits": []}
+        cfg = StudyConfig()
+        colds = []
+        key = ""
+        for _ in range(max(2, repeats // 2)):
+            st = AppState(Workspace(root / "ws"), flask.Flask("valuesift-bench"))
+            st.cache.clear() if hasattr(st.cache, "clear") else None
+            t0 = time.perf_counter()
+            key, res = st.run_now(sel, cfg)
+            colds.append(time.perf_counter() - t0)
+        out["cold_study_s"] = statistics.median(colds)
+        out["cold_study_runs_s"] = colds
+        warm = []
+        parts: dict[str, list[float]] = {}
+        builders = {
+            "ic_by_horizon": lambda r, h: fs.ic_by_horizon_figure(r),
+            "ic_over_time": lambda r, h: fs.ic_over_time_figure(r, h),
+            "quantile_returns": lambda r, h: fs.quantile_returns_figure(r, h),
+            "spread_over_time": lambda r, h: fs.spread_over_time_figure(r, h),
+            "fm_slopes": lambda r, h: fs.fm_slopes_figure(r),
+            "growth": lambda r, h: fb.growth_figure(r),
+            "drawdown": lambda r, h: fb.drawdown_figure(r),
+            "cohorts": lambda r, h: fb.cohort_figure(r),
+            "scatter (own callback)": lambda r, h: fs.scatter_figure(r, h, None),
+        }
+        hs = list(cfg.horizons)
+        for i in range(repeats * len(hs)):
+            h = hs[i % len(hs)]
+            t0 = time.perf_counter()
+            r = st.result(key)
+            assert r is not None
+            for name, build in builders.items():
+                t1 = time.perf_counter()
+                build(r, h)
+                parts.setdefault(name, []).append(time.perf_counter() - t1)
+            warm.append(time.perf_counter() - t0)
+        out["warm_horizon_change_s"] = statistics.median(warm)
+        out["warm_horizon_change_max_s"] = max(warm)
+        out["warm_by_figure_s"] = {k: statistics.median(v) for k, v in parts.items()}
+        pages = []
+        for _ in range(repeats):
+            t0 = time.perf_counter()
+            rows, n_pages = page(display_frame(res.screen), 0, 25)
+            pages.append(time.perf_counter() - t0)
+        out["screen_first_page_s"] = statistics.median(pages)
+        out["screen_rows_sent"] = len(rows)
+        out["screen_rows_total"] = int(len(res.screen))
+        out["screen_pages"] = n_pages
+    return out

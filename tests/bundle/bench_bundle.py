@@ -1,0 +1,60 @@
+"""Benchmark of the committee bundle on the demo study (not collected by pytest; no timed assertion).
+
+    .venv/bin/python tests/bundle/bench_bundle.py [--repeats 3] [--horizons 1,3,6,12,24,36]
+
+Prints the build time (median of the repeats, with the time to the first chart image and the PDF
+layout time taken from the build's own progress reports), the ZIP size and the load average, since
+a shared machine's load changes the numbers a lot.  Targets (issue 5): ZIP under 20 MB, build under 15 s.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import statistics
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+
+def main() -> int:
+    from app.bundle import find_browser, write_bundle
+    from core.study import StudyConfig, run_study
+
+    sys.path.insert(0, str(Path(__file__).resolve().parent))
+    from conftest import load_demo  # the same demo panel as the tests
+
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--repeats", type=int, default=3)
+    ap.add_argument("--horizons", default="1,3,6,12,24,36")
+    a = ap.parse_args()
+    with tempfile.TemporaryDirectory() as tmp:
+        panel = load_demo(Path(tmp) / "demo")
+        result = run_study(panel, StudyConfig(horizons=tuple(int(h) for h in a.horizons.split(","))))
+        rows = []
+        for i in range(a.repeats):
+            marks: dict[str, float] = {}
+            t0 = time.perf_counter()
+
+            def progress(stage: str, frac: float) -> None:
+                marks.setdefault(stage, time.perf_counter() - t0)
+
+            paths = write_bundle(result, panel, None, Path(tmp) / f"b{i}", study_name="bench", progress=progress)
+            total = time.perf_counter() - t0
+            rows.append((total, marks.get("rendering chart 1 of 10", float("nan")),
+                         marks.get("writing the manifest", total) - marks.get("laying out the report", 0.0),
+                         paths.zip.stat().st_size / 1e6))
+    print(f"browser: {find_browser()}; load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
+    for total, first, pdf, size in rows:
+        print(f"build {total:6.1f} s   browser ready after {first:5.1f} s   PDF layout {pdf:5.1f} s   ZIP {size:5.1f} MB")
+    print(f"median build {statistics.median(r[0] for r in rows):.1f} s")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
