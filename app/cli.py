@@ -18,15 +18,12 @@ import logging
 import sys
 from collections.abc import Sequence
 
-__all__ = ["main", "build_parser"]
+__all__ = ["main", "build_parser", "CAUTION"]
+
+from app.caution import CAUTION
 
 log = logging.getLogger("valuesift")
 
-CAUTION = (
-    "Research and information only, not investment advice. Past relations between a "
-    "signal and returns may not persist. Check your data and follow your firm's "
-    "compliance rules and local regulation."
-)
 
 
 def build_parser() -> argparse.ArgumentParser:

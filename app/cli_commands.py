@@ -164,6 +164,8 @@ def add_serve(sub: Any) -> None:
     p.add_argument("--token", default=None, help="access token for a non-loopback bind (default: generated)")
     p.add_argument("--workspace", default=None, metavar="DIR",
                    help="folder for uploaded datasets (default: ~/.valuesift/workspace)")
+    p.add_argument("--max-upload-mb", type=float, default=200.0, metavar="MB",
+                   help="largest upload the server accepts, in megabytes (default 200)")
     p.add_argument("--dev", action="store_true", help="developer mode: Dash debug tools and hot reload")
     p.set_defaults(func=run_serve)
 
@@ -179,6 +181,7 @@ def run_serve(args: argparse.Namespace) -> int:
         dev=args.dev,
         allow_remote=args.allow_remote,
         token=args.token,
+        max_upload_mb=args.max_upload_mb,
     )
 
 

@@ -12,6 +12,7 @@ existing cluster instead (its workers need ValueSift installed).
 from __future__ import annotations
 
 import argparse
+import logging
 import os
 import sys
 import time
@@ -87,10 +88,11 @@ def _client(args: argparse.Namespace, stack: ExitStack) -> Any:
     if n < 1:
         raise ConfigError(f"--workers {n} is not allowed.", hint="Give 1 or more.")
     if args.in_process:
-        cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=False, dashboard_address=None)
+        cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=False, dashboard_address=None,
+                               silence_logs=logging.WARNING)
     else:
         cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, host="127.0.0.1",
-                               dashboard_address=None)
+                               dashboard_address=None, silence_logs=logging.WARNING)
     stack.enter_context(cluster)
     return stack.enter_context(Client(cluster))
 

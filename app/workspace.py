@@ -8,10 +8,23 @@ uploaded file name)::
     data/<dataset id>.parquet  the ParsedFile's tidy data
     cache/                   memoised study results (flask-caching filesystem backend)
 
-A dataset id is the first 20 hex digits of ``sha256(raw sha256 + options)``,
-so the same bytes read with the same options are the same dataset.  Every
-file is written atomically: a temporary file in the same folder, ``fsync``,
-then ``os.replace``.
+A dataset id is the first 20 hex digits of ``sha256(raw sha256 + options)``
+(plus the owning browser session, when there is one), so the same bytes read
+with the same options are the same dataset.  Every file is written
+atomically: a temporary file in the same folder, ``fsync``, then
+``os.replace``; a catalogue change is one sqlite transaction written after
+its files, so a crash at any point leaves either the old or the new state.
+Temporary files left by a crash are removed when a Workspace is opened.
+
+Owners: each dashboard browser session owns the datasets it uploads (the
+``owner`` column holds its session id); it sees its own datasets and the
+shared ones (owner ``''``: the demo, and anything added without an owner,
+such as from the command line).  ``owner=None`` in a query means "no
+filtering" (the command line and tests).
+
+A rejected upload (above the size limit) is not kept: nothing in the folder
+changes.  A file that is within the limit but cannot be read is kept with its
+error, so it can be read again with other options.
 """
 
 from __future__ import annotations
@@ -31,7 +44,7 @@ from typing import Any, Callable, Iterator
 
 import pandas as pd
 
-from core.errors import IntakeError, ValueSiftError
+from core.errors import IntakeError, Reason, ValueSiftError
 from core.intake import ParsedFile, ReadOptions, read_table
 from core.intake.report import FileReport
 
@@ -50,7 +63,8 @@ CREATE TABLE IF NOT EXISTS datasets (
     report_json TEXT,
     status TEXT NOT NULL,
     error TEXT,
-    demo INTEGER NOT NULL DEFAULT 0
+    demo INTEGER NOT NULL DEFAULT 0,
+    owner TEXT NOT NULL DEFAULT ''
 );
 CREATE TABLE IF NOT EXISTS settings (key TEXT PRIMARY KEY, value TEXT NOT NULL);
 """
@@ -158,14 +172,17 @@ class DatasetRecord:
     status: str            # "ok" or "failed"
     error: str | None
     demo: bool = False
+    owner: str = ""        # the browser session that uploaded it; "" is shared
 
     @property
     def ok(self) -> bool:
         return self.status == "ok"
 
 
-def _dataset_id(sha: str, options: ReadOptions) -> str:
+def _dataset_id(sha: str, options: ReadOptions, owner: str = "") -> str:
     blob = sha + json.dumps(options_to_dict(options), sort_keys=True, default=str)
+    if owner:
+        blob += "\x00owner:" + owner
     return hashlib.sha256(blob.encode()).hexdigest()[:20]
 
 
@@ -179,6 +196,22 @@ class Workspace:
         self._lock = threading.RLock()
         with self._connect() as con:
             con.executescript(_SCHEMA)
+            cols = {r[1] for r in con.execute("PRAGMA table_info(datasets)").fetchall()}
+            if "owner" not in cols:  # a workspace made before owners existed: its rows are shared
+                con.execute("ALTER TABLE datasets ADD COLUMN owner TEXT NOT NULL DEFAULT ''")
+        self.removed_temp_files = self._remove_temp_files()
+
+    def _remove_temp_files(self) -> int:
+        """Delete ``.tmp-*`` files a crash left behind (they never count as datasets)."""
+        n = 0
+        for sub in ("raw", "data"):
+            for p in (self.root / sub).glob(".tmp-*"):
+                try:
+                    p.unlink()
+                    n += 1
+                except OSError:
+                    pass
+        return n
 
     # -- plumbing --------------------------------------------------------------------
     @property
@@ -198,24 +231,37 @@ class Workspace:
 
     # -- writing -----------------------------------------------------------------------
     def add_upload(self, name: str, raw: bytes, options: ReadOptions | None = None, *,
-                   demo: bool = False) -> DatasetRecord:
-        """Keep the bytes, read them and catalogue the outcome (a failed read is kept with its error)."""
+                   demo: bool = False, owner: str = "") -> DatasetRecord:
+        """Keep the bytes, read them and catalogue the outcome (a failed read is kept with its error).
+
+        An upload above ``options.max_bytes`` is rejected without touching the
+        folder: the returned record has status ``"failed"`` and is not catalogued.
+        """
+        options = options or ReadOptions()
         sha = hashlib.sha256(raw).hexdigest()
+        if len(raw) > options.max_bytes:
+            err = IntakeError(name, Reason.TOO_LARGE,
+                              f"the file has {len(raw):,} bytes, above the limit of {options.max_bytes:,}.",
+                              hint="Split the file, or start the server with a larger --max-upload-mb.")
+            now = datetime.now(timezone.utc).isoformat(timespec="seconds")
+            return DatasetRecord(_dataset_id(sha, options, owner), name, options.kind, sha, len(raw), now,
+                                 options, None, "failed", str(err), demo, owner)
         with self._lock:
             if not self._raw_path(sha).exists():
                 atomic_write_bytes(self._raw_path(sha), raw)
-        return self._read_and_store(name, sha, len(raw), options or ReadOptions(), demo=demo)
+        return self._read_and_store(name, sha, len(raw), options, demo=demo, owner=owner)
 
     def reread(self, dataset_id: str, options: ReadOptions) -> DatasetRecord:
         """Read a kept upload again with other options (no new upload); the old entry is replaced."""
         old = self.get(dataset_id)
-        rec = self._read_and_store(old.name, old.sha256, old.size, options, demo=old.demo)
+        rec = self._read_and_store(old.name, old.sha256, old.size, options, demo=old.demo, owner=old.owner)
         if rec.id != old.id:
             self.delete(old.id, keep_raw=True)
         return rec
 
-    def _read_and_store(self, name: str, sha: str, size: int, options: ReadOptions, *, demo: bool) -> DatasetRecord:
-        did = _dataset_id(sha, options)
+    def _read_and_store(self, name: str, sha: str, size: int, options: ReadOptions, *, demo: bool,
+                        owner: str = "") -> DatasetRecord:
+        did = _dataset_id(sha, options, owner)
         raw = self._raw_path(sha).read_bytes()
         now = datetime.now(timezone.utc).isoformat(timespec="seconds")
         kind: str | None = options.kind
@@ -232,16 +278,19 @@ class Workspace:
         with self._lock, self._connect() as con:
             con.execute(
                 "INSERT OR REPLACE INTO datasets (id, name, kind, sha256, size, uploaded_at, options_json, "
-                "report_json, status, error, demo) VALUES (?,?,?,?,?,?,?,?,?,?,?)",
+                "report_json, status, error, demo, owner) VALUES (?,?,?,?,?,?,?,?,?,?,?,?)",
                 (did, name, kind, sha, size, now, json.dumps(options_to_dict(options)),
-                 None if report is None else json.dumps(report), status, error, int(demo)),
+                 None if report is None else json.dumps(report), status, error, int(demo), owner),
             )
         return self.get(did)
 
-    def delete(self, dataset_id: str, *, keep_raw: bool = False) -> None:
-        """Remove a dataset (and its raw bytes when no other dataset uses them)."""
+    def delete(self, dataset_id: str, *, keep_raw: bool = False, owner: str | None = None) -> None:
+        """Remove a dataset (and its raw bytes when no other dataset uses them).
+
+        With ``owner``, only a dataset that owner can see (KeyError otherwise).
+        """
         with self._lock:
-            rec = self.get(dataset_id)
+            rec = self.get(dataset_id, owner=owner)
             with self._connect() as con:
                 con.execute("DELETE FROM datasets WHERE id = ?", (dataset_id,))
                 others = con.execute("SELECT COUNT(*) FROM datasets WHERE sha256 = ?", (rec.sha256,)).fetchone()[0]
@@ -255,20 +304,25 @@ class Workspace:
             id=row["id"], name=row["name"], kind=row["kind"], sha256=row["sha256"], size=int(row["size"]),
             uploaded_at=row["uploaded_at"], options=options_from_dict(json.loads(row["options_json"])),
             report=None if row["report_json"] is None else json.loads(row["report_json"]),
-            status=row["status"], error=row["error"], demo=bool(row["demo"]),
+            status=row["status"], error=row["error"], demo=bool(row["demo"]), owner=row["owner"],
         )
 
-    def get(self, dataset_id: str) -> DatasetRecord:
+    def get(self, dataset_id: str, *, owner: str | None = None) -> DatasetRecord:
+        """One dataset; with ``owner``, KeyError unless it is that owner's or shared."""
         with self._connect() as con:
             row = con.execute("SELECT * FROM datasets WHERE id = ?", (str(dataset_id),)).fetchone()
-        if row is None:
+        if row is None or (owner is not None and row["owner"] not in ("", owner)):
             raise KeyError(dataset_id)
         return self._record(row)
 
-    def records(self) -> list[DatasetRecord]:
-        """All datasets, newest first."""
+    def records(self, owner: str | None = None) -> list[DatasetRecord]:
+        """All datasets (with ``owner``: that owner's and the shared ones), newest first."""
         with self._connect() as con:
-            rows = con.execute("SELECT * FROM datasets ORDER BY uploaded_at DESC, rowid DESC").fetchall()
+            if owner is None:
+                rows = con.execute("SELECT * FROM datasets ORDER BY uploaded_at DESC, rowid DESC").fetchall()
+            else:
+                rows = con.execute("SELECT * FROM datasets WHERE owner IN ('', ?) "
+                                   "ORDER BY uploaded_at DESC, rowid DESC", (owner,)).fetchall()
         return [self._record(r) for r in rows]
 
     def __iter__(self) -> Iterator[DatasetRecord]:
@@ -294,8 +348,14 @@ class Workspace:
         return default if row is None else json.loads(row["value"])
 
     def set_setting(self, key: str, value: Any) -> None:
+        """Store a setting (nothing is written when the value is unchanged)."""
+        if self.get_setting(key, _MISSING) == value:
+            return
         with self._lock, self._connect() as con:
             con.execute("INSERT OR REPLACE INTO settings (key, value) VALUES (?, ?)", (key, json.dumps(value)))
+
+
+_MISSING = object()
 
 
 class _Tx:

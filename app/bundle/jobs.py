@@ -26,7 +26,7 @@ log = logging.getLogger("valuesift.app")
 
 _JOBS: dict[str, "ExportJob"] = {}
 _LOCK = threading.Lock()
-_MAX_KEPT = 8
+_MAX_KEPT = 3
 
 
 @dataclass

@@ -120,8 +120,9 @@ def _table(job: Any, date: Any, scope: Any, current: Any, size: Any, sort_by: An
     res = state().result(job["key"])
     who = "holdings" if df.attrs.get("holdings") else "securities of the universe"
     cap = (f"{len(shown)} of {len(df)} {who} on {month(df.attrs.get('date'))}, cheapest first on "
-           f"{res.signal_name.replace('_', ' ') if res else 'the signal'}; quantile 1 of "
-           f"{res.config.n_quantiles if res else 'n'} is the cheapest.")
+           f"{res.signal_name.replace('_', ' ') if res else 'the signal'}; quantile "
+           f"{res.config.n_quantiles if res else 'n'} (the highest signal) is the cheapest and 1 the "
+           f"dearest, as on the Study page.")
     return rows, n_pages, cap, no_update
 
 

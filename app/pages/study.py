@@ -26,51 +26,57 @@ _PERSIST = dict(persistence=True, persistence_type="local")
 _CHARTS = ["ic-horizon", "ic-time", "quantiles", "spread", "fm", "growth", "drawdown", "cohorts"]
 
 
-def _controls() -> html.Fieldset:
+def _controls(d: dict[str, Any] = _D, persist: dict[str, Any] = _PERSIST) -> html.Fieldset:
     return html.Fieldset(id=f"{P}-controls", className="vs-controls", children=[
         html.Legend("Study settings"),
-        field("Signal", dcc.Dropdown(id=f"{P}-signal", options=_SIGNALS, value=_D["signal"], clearable=False, **_PERSIST)),
-        field("Universe", dcc.RadioItems(id=f"{P}-universe", value=_D["universe"], options=[
+        field("Signal", dcc.Dropdown(id=f"{P}-signal", options=_SIGNALS, value=d["signal"], clearable=False, **persist)),
+        field("Universe", dcc.RadioItems(id=f"{P}-universe", value=d["universe"], options=[
             {"label": "All securities", "value": "all"}, {"label": "Chosen sectors", "value": "sectors"},
-            {"label": "The holdings", "value": "holdings"}], **_PERSIST)),
-        field("Sectors", dcc.Dropdown(id=f"{P}-sectors", multi=True, value=[], placeholder="pick one or more", **_PERSIST)),
+            {"label": "The holdings", "value": "holdings"}], **persist)),
+        field("Sectors", dcc.Dropdown(id=f"{P}-sectors", multi=True, value=list(d.get("universe_sectors") or []), placeholder="pick one or more", **persist)),
         field("Minimum history (months)", dcc.Input(id=f"{P}-min-history", type="number", min=0, max=240, step=1,
-                                                    value=_D["min_history_months"], debounce=True, **_PERSIST)),
-        field("Horizons (months)", dcc.Checklist(id=f"{P}-horizons", value=_D["horizons"], inline=True,
+                                                    value=d["min_history_months"], debounce=True, **persist)),
+        field("Horizons (months)", dcc.Checklist(id=f"{P}-horizons", value=d["horizons"], inline=True,
                                                  options=[{"label": str(h), "value": h} for h in HORIZON_CHOICES],
-                                                 **_PERSIST), "all chosen horizons are computed in one study"),
-        field("Quantiles", dcc.Dropdown(id=f"{P}-quantiles", value=_D["n_quantiles"], clearable=False,
-                                        options=[{"label": str(q), "value": q} for q in range(2, 11)], **_PERSIST)),
-        field("Outliers", dcc.Dropdown(id=f"{P}-outliers", value=_D["outlier_rule"], clearable=False, options=[
+                                                 **persist), "all chosen horizons are computed in one study"),
+        field("Quantiles", dcc.Dropdown(id=f"{P}-quantiles", value=d["n_quantiles"], clearable=False,
+                                        options=[{"label": str(q), "value": q} for q in range(2, 11)], **persist)),
+        field("Outliers", dcc.Dropdown(id=f"{P}-outliers", value=d["outlier_rule"], clearable=False, options=[
             {"label": "Winsorise at percentiles", "value": "winsorise"},
             {"label": "Clip beyond 3 robust z", "value": "clip_robust_z"},
-            {"label": "Leave as they are", "value": "none"}], **_PERSIST)),
+            {"label": "Leave as they are", "value": "none"}], **persist)),
         field("Winsorise: lower percentile", dcc.Input(id=f"{P}-winsor", type="number", min=0, max=49, step=0.5,
-                                                       value=_D["winsor_lower"], debounce=True, **_PERSIST),
+                                                       value=d["winsor_lower"], debounce=True, **persist),
               "the upper one mirrors it (1 means 1st and 99th)"),
-        field("Z-score", dcc.RadioItems(id=f"{P}-zscore", value=_D["zscore_method"], options=[
+        field("Z-score", dcc.RadioItems(id=f"{P}-zscore", value=d["zscore_method"], options=[
             {"label": "mean and standard deviation", "value": "mean_std"},
-            {"label": "median and MAD (robust)", "value": "median_mad"}], **_PERSIST)),
-        field("Sector neutral", dcc.Checklist(id=f"{P}-neutral", value=[], options=[
-            {"label": "compare each name with its own sector", "value": "on"}], **_PERSIST)),
+            {"label": "median and MAD (robust)", "value": "median_mad"}], **persist)),
+        field("Sector neutral", dcc.Checklist(id=f"{P}-neutral", value=["on"] if d.get("sector_neutral") else [], options=[
+            {"label": "compare each name with its own sector", "value": "on"}], **persist)),
         field("Reporting lag (months)", dcc.Input(id=f"{P}-lag", type="number", min=0, max=24, step=1,
-                                                  value=_D["reporting_lag_months"], debounce=True, **_PERSIST),
+                                                  value=d["reporting_lag_months"], debounce=True, **persist),
               "delay before an EPS figure is treated as known"),
-        field("Dividends", dcc.RadioItems(id=f"{P}-dividends", value=_D["dividend_treatment"], options=[
-            {"label": "reinvested", "value": "reinvest"}, {"label": "kept as cash", "value": "uninvested"}], **_PERSIST)),
-        field("Returns measured", dcc.RadioItems(id=f"{P}-excess", value=_D["excess_over"], options=[
+        field("Dividends", dcc.RadioItems(id=f"{P}-dividends", value=d["dividend_treatment"], options=[
+            {"label": "reinvested", "value": "reinvest"}, {"label": "kept as cash", "value": "uninvested"}], **persist)),
+        field("Returns measured", dcc.RadioItems(id=f"{P}-excess", value=d["excess_over"], options=[
             {"label": "as total returns", "value": "none"}, {"label": "over the universe mean", "value": "universe"},
-            {"label": "over the benchmark", "value": "benchmark"}], **_PERSIST)),
+            {"label": "over the benchmark", "value": "benchmark"}], **persist)),
         field("Backtest holding (months)", dcc.Input(id=f"{P}-holding", type="number", min=1, max=60, step=1,
-                                                     value=_D["holding_months"], debounce=True, **_PERSIST)),
+                                                     value=d["holding_months"], debounce=True, **persist)),
         field("Trading cost (basis points)", dcc.Input(id=f"{P}-cost", type="number", min=0, max=1000, step=1,
-                                                       value=_D["transaction_cost_bps"], debounce=True, **_PERSIST)),
+                                                       value=d["transaction_cost_bps"], debounce=True, **persist)),
     ])
 
 
-def layout(**_: Any) -> html.Div:
+def layout(**query: Any) -> html.Div:
+    # Hook for the Sweep page: /study?sweep=NAME&point=ID opens that sweep configuration's settings
+    # (own persistence key, so values kept from earlier visits do not override them).
+    from app.pages.sweep import settings_from_query
+
+    opened = settings_from_query(state().workspace.root, query) if query.get("sweep") else None
     return html.Div(className="vs-page vs-two-col", children=[
-        html.Aside(_controls(), className="vs-sidebar"),
+        html.Aside(_controls(opened, dict(persistence=f"sweep-{query.get('point')}", persistence_type="local"))
+                   if opened else _controls(), className="vs-sidebar"),
         html.Section(className="vs-content", children=[
             html.H1("Study"),
             *job_components(P),

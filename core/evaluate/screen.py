@@ -29,12 +29,17 @@ SINGLE_NAME_CAUTION = (
 
 
 def quantile_label(q: float, n_q: int) -> str:
-    """Label a quantile from cheapest to dearest, e.g. ``"1 of 5 (cheapest)"`` for q = n_q."""
+    """Label a quantile on the study's numbering (1 = dearest .. n = cheapest).
+
+    ``"5 of 5 (cheapest)"`` for q = n_q = 5, ``"1 of 5 (dearest)"`` for q = 1, plain
+    ``"3 of 5"`` between; the same numbers as the quantile charts, so a holding's
+    label on the screen reads the same as the bar it falls in.
+    """
     if not np.isfinite(q):
         return ""
-    pos = n_q - int(q) + 1
-    tail = " (cheapest)" if pos == 1 else " (dearest)" if pos == n_q else ""
-    return f"{pos} of {n_q}{tail}"
+    k = int(q)
+    tail = " (cheapest)" if k == n_q else " (dearest)" if k == 1 else ""
+    return f"{k} of {n_q}{tail}"
 
 
 def _row_at(frame: pd.DataFrame | None, i: int, n: int) -> np.ndarray:

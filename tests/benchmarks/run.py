@@ -225,7 +225,12 @@ def _rows(r: dict[str, Any]) -> list[tuple[str, str, str, str, str]]:
     g = r.get("growth")
     if g:
         rows.append(("growth exponent: time vs N x T", ",".join(g["sizes"]), f"{g['time_exponent']:.2f}", "close to 1", ""))
+        if "time_exponent_M_up" in g:
+            rows.append(("growth exponent: time vs N x T, M and up", "M,I1,I2,L", f"{g['time_exponent_M_up']:.2f}",
+                         "close to 1", ""))
         rows.append(("growth exponent: memory vs N x T", ",".join(g["sizes"]), f"{g['memory_exponent']:.2f}", "", ""))
+        for s_, c_, w_, m_ in zip(g["sizes"], g["cells"], g["wall_s"], g["peak_mb"]):
+            rows.append((f"  growth point {s_}", f"N x T = {c_:,}", f"{w_:.3f} s, {m_:.0f} MB", "", ""))
     return rows
 
 

@@ -7,7 +7,6 @@ import io
 import json
 import re
 import zipfile
-from pathlib import Path
 from typing import Any
 from xml.etree import ElementTree
 
@@ -180,3 +179,39 @@ def test_progress_runs_from_start_to_done(built: Any) -> None:
 def test_bundle_size_stays_under_20_mb(built: Any) -> None:
     paths, _ = built
     assert paths.zip.stat().st_size < 20 * 1024 * 1024
+
+
+def test_text_cells_are_neutralised_and_numbers_stay_numbers(tmp_path: Any) -> None:
+    from app.bundle.tables import write_csv, xlsx_bytes
+
+    # OWASP "CSV Injection": prefix ' to cells beginning with =, +, -, @, tab or carriage return.
+    df = pd.DataFrame({"security": ["=HYPERLINK(1)", "+SUM(A1)", "-2+3", "@cmd", "\tx", "\rx", "plain"],
+                       "value": [-3.5, 1.0, -2.0, 0.0, 4.0, 5.0, 6.0]})
+    write_csv(df, tmp_path / "t.csv")
+    back = pd.read_csv(tmp_path / "t.csv", keep_default_na=False)
+    assert back["security"].tolist()[:4] == ["'=HYPERLINK(1)", "'+SUM(A1)", "'-2+3", "'@cmd"]
+    assert back["security"].tolist()[-1] == "plain"
+    assert back["value"].tolist() == df["value"].tolist()          # numeric cells keep their sign, unquoted
+    import openpyxl
+
+    book = openpyxl.load_workbook(io.BytesIO(xlsx_bytes({"t": df}, stamp="2024-12-31")))
+    ws = book["t"]
+    assert ws.cell(row=2, column=1).value == "'=HYPERLINK(1)" and ws.cell(row=2, column=1).data_type == "s"
+    assert ws.cell(row=2, column=2).value == -3.5 and ws.cell(row=2, column=2).data_type == "n"
+    # fixed document dates and zip entry times: the same tables give the same bytes
+    assert xlsx_bytes({"t": df}, stamp="2024-12-31") == xlsx_bytes({"t": df}, stamp="2024-12-31")
+
+
+def test_ic_t_in_the_tables_matches_statsmodels_hac(built: Any) -> None:
+    import statsmodels.api as sm
+
+    paths, _ = built
+    ic = pd.read_csv(paths.folder / "tables" / "ic_by_date.csv")
+    summ = pd.read_csv(paths.folder / "tables" / "ic_summary.csv").set_index("horizon")
+    for h, row in summ.iterrows():
+        x = ic.loc[ic["horizon"] == h, "rank_ic"].dropna().to_numpy()
+        # Outside check: statsmodels OLS on a constant with a Bartlett-kernel HAC covariance at the reported
+        # lag count is the Newey-West (1987) t of the mean (shared/REFERENCE_CHECKS.md, case 5).
+        fit = sm.OLS(x, np.ones_like(x)).fit(cov_type="HAC", cov_kwds={"maxlags": int(row["hac_lags"])})
+        assert np.isclose(fit.tvalues[0], row["t_hac"], rtol=1e-9), h
+        assert np.isclose(x.mean(), row["mean_ic"], atol=1e-12), h
