@@ -11,6 +11,7 @@ from __future__ import annotations
 import hmac
 import ipaddress
 import logging
+import re
 import secrets
 import sys
 import tempfile
@@ -22,7 +23,7 @@ import flask
 
 import app as _app_pkg
 from app import shell
-from app.services import AppState
+from app.services import AppState, selection_key
 from app.workspace import Workspace
 
 __all__ = ["create_app", "serve", "load_demo", "DEFAULT_WORKSPACE", "TOKEN_COOKIE", "assets_folder"]
@@ -93,6 +94,29 @@ def _install_token_guard(server: flask.Flask, token: str) -> None:
                               status=403, mimetype="text/plain")
 
 
+_SESSION_RE = re.compile(r"^[0-9a-f]{32}$")
+
+
+def _install_sessions(server: flask.Flask) -> None:
+    """Give every browser a random session id (an http-only cookie) that scopes its datasets."""
+    from app.services import SESSION_COOKIE
+
+    @server.before_request
+    def _session() -> None:
+        sid = flask.request.cookies.get(SESSION_COOKIE, "")
+        if not _SESSION_RE.match(sid):
+            sid = secrets.token_hex(16)
+            flask.g.vs_new_session = True
+        flask.g.vs_session = sid
+
+    @server.after_request
+    def _session_cookie(resp: flask.Response) -> flask.Response:
+        if flask.g.get("vs_new_session"):
+            resp.set_cookie(SESSION_COOKIE, flask.g.vs_session, httponly=True, samesite="Strict",
+                            max_age=400 * 24 * 3600)
+        return resp
+
+
 def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: bool = False,
                max_upload_mb: float = 200.0, token: str | None = None) -> dash.Dash:
     """The dashboard on one workspace folder.
@@ -139,11 +163,12 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
     shell.register_shell_callbacks(app)
     if token:
         _install_token_guard(server, token)
+    _install_sessions(server)
 
     @server.before_request
     def _root() -> Any:
         if flask.request.path == "/":
-            sel = ws.get_setting("selection", {}) or {}
+            sel = ws.get_setting(selection_key(flask.g.get("vs_session")), None) or ws.get_setting("selection", {}) or {}
             return flask.redirect("/study" if sel.get("ids") else "/data", code=302)
         return None
 

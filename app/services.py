@@ -26,12 +26,33 @@ from core.intake import PanelOptions, build_panel
 from core.panel import Panel
 from core.study import StudyConfig, StudyResult, run_study
 
-__all__ = ["AppState", "StudyJob", "Selection", "state", "normalise_selection", "LRU"]
+__all__ = ["AppState", "StudyJob", "Selection", "state", "normalise_selection", "LRU", "current_owner",
+           "SESSION_COOKIE", "selection_key"]
 
 log = logging.getLogger("valuesift.app")
 
 #: The selection as the browser holds it: dataset ids in use and confirmed splits.
 Selection = dict[str, list[str]]
+
+#: Cookie holding the browser session id (random, set by the server on the first request).
+SESSION_COOKIE = "valuesift_session"
+
+
+def selection_key(owner: str | None) -> str:
+    """The settings key of a session's last selection (the shared one without a session)."""
+    return f"selection:{owner}" if owner else "selection"
+
+
+def current_owner() -> str | None:
+    """The browser session of the current request (None outside a served request: no filtering).
+
+    Every dataset a session uploads is owned by it; a session sees its own
+    datasets and the shared ones (the demo), never another session's, even
+    when it sends another session's dataset ids.
+    """
+    if not flask.has_request_context():
+        return None
+    return flask.g.get("vs_session")
 
 
 def normalise_selection(sel: Any) -> Selection:
@@ -111,9 +132,10 @@ class AppState:
     def selection_fingerprint(self, sel: Selection) -> str:
         """Hash of the datasets' content and options plus the confirmed splits."""
         parts = []
+        owner = current_owner()
         for did in sorted(sel["ids"]):
             try:
-                rec = self.workspace.get(did)
+                rec = self.workspace.get(did, owner=owner)
             except KeyError:
                 continue
             if rec.ok:
@@ -122,14 +144,21 @@ class AppState:
         return hashlib.sha256(blob.encode()).hexdigest()
 
     def usable_ids(self, sel: Selection) -> list[str]:
+        """The ids of a selection that are readable and visible to the current session."""
         out = []
+        owner = current_owner()
         for did in sel["ids"]:
             try:
-                if self.workspace.get(did).ok:
+                if self.workspace.get(did, owner=owner).ok:
                     out.append(did)
             except KeyError:
                 continue
         return out
+
+    def visible(self, sel: Selection) -> Selection:
+        """The selection restricted to the datasets the current session may use."""
+        sel = normalise_selection(sel)
+        return {"ids": self.usable_ids(sel), "splits": sel["splits"]}
 
     def panel(self, sel: Selection) -> Panel:
         """The panel of a selection (memoised); IntakeError when it cannot be built."""
@@ -173,6 +202,7 @@ class AppState:
 
     def start_study(self, sel: Selection, config: StudyConfig) -> StudyJob:
         """Return a finished job at once when memoised; else start (or join) a worker thread."""
+        sel = self.visible(sel)   # the worker thread has no session: hand it the session's ids only
         key = self.study_key(sel, config)
         if self.result(key) is not None:
             return StudyJob(key=key, status="done", stage="done", fraction=1.0)
@@ -189,6 +219,7 @@ class AppState:
 
     def run_now(self, sel: Selection, config: StudyConfig) -> tuple[str, StudyResult]:
         """Run (or fetch) a study in the calling thread; ValueSiftError when it cannot run."""
+        sel = self.visible(sel)
         key = self.study_key(sel, config)
         res = self.result(key)
         if res is None:

@@ -9,6 +9,7 @@ same bytes.
 
 from __future__ import annotations
 
+import csv
 import io
 import zipfile
 from pathlib import Path
@@ -181,9 +182,17 @@ def _safe(df: pd.DataFrame) -> pd.DataFrame:
 
 
 def write_csv(df: pd.DataFrame, path: Path, *, raw: bool = False) -> None:
-    """UTF-8 CSV with ``\\n`` line ends; ``raw`` keeps the frame exactly (for ic_by_date.csv, all numeric)."""
-    out = df if raw else _safe(df)
-    path.write_bytes(out.to_csv(index=False, lineterminator="\n").encode("utf-8"))
+    """UTF-8 CSV with ``\\n`` line ends.
+
+    ``raw`` writes the frame exactly as ``valuesift study`` writes ic_by_date.csv.  Otherwise text cells
+    are neutralised and quoted (numbers stay bare), so a carriage return inside a text cell cannot
+    split a row.
+    """
+    if raw:
+        text = df.to_csv(index=False, lineterminator="\n")
+    else:
+        text = _safe(df).to_csv(index=False, lineterminator="\n", quoting=csv.QUOTE_NONNUMERIC)
+    path.write_bytes(text.encode("utf-8"))
 
 
 def xlsx_bytes(tables: dict[str, pd.DataFrame], *, stamp: str) -> bytes:

@@ -14,7 +14,7 @@ from app.components.common import GRAPH_CONFIG, text_table
 from app.components.intake_view import card_order, dataset_card, options_from_controls
 from app.figures.data import coverage_figure
 from app.jobs_ui import alert
-from app.services import normalise_selection, state
+from app.services import current_owner, normalise_selection, selection_key, state
 from core.errors import ValueSiftError
 from core.intake import ReadOptions
 
@@ -56,7 +56,9 @@ def layout(**_: Any) -> html.Div:
 
 def _out(sel: dict[str, list[str]]) -> dict[str, Any]:
     st = state()
-    st.workspace.set_setting("selection", sel)
+    key = selection_key(current_owner())
+    if sel != normalise_selection(st.workspace.get_setting(key, None)):  # unchanged: write nothing
+        st.workspace.set_setting(key, sel)
     return {**sel, "instance": st.instance}
 
 
@@ -66,7 +68,7 @@ def _with(sel: dict[str, list[str]], rec: Any) -> dict[str, list[str]]:
     ids = []
     for i in sel["ids"]:
         try:
-            other = ws.get(i)
+            other = ws.get(i, owner=current_owner())
         except KeyError:
             continue
         if rec.kind in _SINGLE and other.kind == rec.kind and other.id != rec.id:
@@ -99,7 +101,8 @@ def _upload(contents: Any, names: Any, sel_raw: Any, version: Any) -> Any:
         except (IndexError, binascii.Error):
             messages.append(alert(f"{name}: the upload arrived damaged; please drop the file again."))
             continue
-        rec = st.workspace.add_upload(name, raw, ReadOptions(max_bytes=st.max_upload_bytes))
+        rec = st.workspace.add_upload(name, raw, ReadOptions(max_bytes=st.max_upload_bytes),
+                                      owner=current_owner() or "")
         if rec.ok:
             sel = _with(sel, rec)
         else:
@@ -117,7 +120,7 @@ def _upload(contents: Any, names: Any, sel_raw: Any, version: Any) -> Any:
 def _cards(_v: Any, sel_raw: Any) -> Any:
     st = state()
     sel = normalise_selection(sel_raw)
-    recs = st.workspace.records()
+    recs = st.workspace.records(owner=current_owner())
     if not recs:
         return html.P("No files yet.", className="vs-hint")
     return [dataset_card(r, r.id in sel["ids"]) for r in card_order(recs)]
@@ -149,7 +152,10 @@ def _reread(clicks: Any, ids: Any, kinds: Any, layouts: Any, headers: Any, dates
     did = _triggered(clicks)
     j = [i["id"] for i in ids].index(did)
     st = state()
-    old = st.workspace.get(did)
+    try:
+        old = st.workspace.get(did, owner=current_owner())
+    except KeyError:
+        raise PreventUpdate
     try:
         opts = options_from_controls(old.options, kinds[j], layouts[j], headers[j], dates[j], decimals[j],
                                      cleans[j], regexes[j], excludes[j], signames[j], directions[j])
@@ -167,7 +173,10 @@ def _reread(clicks: Any, ids: Any, kinds: Any, layouts: Any, headers: Any, dates
 )
 def _drop_suspects(clicks: Any, sel_raw: Any, version: Any) -> Any:
     did = _triggered(clicks)
-    old = state().workspace.get(did)
+    try:
+        old = state().workspace.get(did, owner=current_owner())
+    except KeyError:
+        raise PreventUpdate
     rep = old.report or {}
     sus = rep.get("suspect_columns") or {}
     sus = sus.get("__tuple__", []) if isinstance(sus, dict) else list(sus)
@@ -200,7 +209,7 @@ def _delete(clicks: Any, sel_raw: Any, version: Any) -> Any:
     did = _triggered(clicks)
     st = state()
     try:
-        st.workspace.delete(did)
+        st.workspace.delete(did, owner=current_owner())
     except KeyError:
         raise PreventUpdate
     sel = normalise_selection(sel_raw)
@@ -224,7 +233,7 @@ def _use(values: Any, ids: Any, sel_raw: Any) -> Any:
     ws = state().workspace
     if on:
         try:
-            new = _with(sel, ws.get(did))
+            new = _with(sel, ws.get(did, owner=current_owner()))
         except KeyError:
             raise PreventUpdate
     else:

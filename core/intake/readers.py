@@ -20,10 +20,13 @@ from core.errors import IntakeError, Reason
 from core.intake.options import ReadOptions
 from core.intake.sniff import decode, find_header, sniff_delimiter, split_sample
 
-__all__ = ["Grid", "read_grid", "detect_format", "XLSX_EXPANSION_LIMIT", "FAST_PATH_MIN_CHARS"]
+__all__ = ["Grid", "read_grid", "detect_format", "XLSX_EXPANSION_LIMIT", "FAST_PATH_MIN_CHARS", "MAX_COLUMNS"]
 
 #: an xlsx may unpack to at most this multiple of ``ReadOptions.max_bytes``
 XLSX_EXPANSION_LIMIT = 4
+#: files with more columns than this are refused before any cell is read (a wide file of that size
+#: is better given in the long layout: date, security, value)
+MAX_COLUMNS = 20_000
 #: delimited bodies at least this long go through pyarrow's reader (when row numbering stays exact)
 FAST_PATH_MIN_CHARS = 1_000_000
 _XLSX_EXT = (".xlsx", ".xlsm", ".xls", ".xlsb", ".ods")
@@ -109,6 +112,7 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
         header.pop()
     if len(header) < 1:
         raise IntakeError(name, Reason.NO_HEADER, "the header row is empty.", row=h + 1, hint="Set header_row to the row with column names.")
+    _check_width(len(header), name, h + 1)
     body = "" if end < 0 else text[end + 1:]
     grid = None
     if len(body) >= FAST_PATH_MIN_CHARS:
@@ -117,6 +121,13 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
         grid = _python_text(body, header, delim, h + 1, name)
     cols, rows, extra, ex = grid
     return Grid(header, cols, rows, "csv", enc, delim, h + 1, None, extra, ex)
+
+
+def _check_width(width: int, name: str, row: int) -> None:
+    if width > MAX_COLUMNS:
+        raise IntakeError(name, Reason.TOO_LARGE, f"the header has {width:,} columns, above the limit of {MAX_COLUMNS:,}.",
+                          row=row, hint="Give such a file in the long layout (columns date, security, value), "
+                                        "or split it into several files.")
 
 
 def _line_offset(text: str, h: int) -> int:
@@ -293,6 +304,7 @@ def _read_xlsx(raw: bytes, name: str, options: ReadOptions) -> Grid:
     while header and not header[-1]:
         header.pop()
     width = len(header)
+    _check_width(width, name, h + 1)
     body: list[list[str]] = []
     rownums: list[int] = []
     extra = 0
@@ -326,6 +338,7 @@ def _read_parquet(raw: bytes, name: str) -> Grid:
     except Exception as err:
         raise IntakeError(name, Reason.UNREADABLE, "the Parquet file could not be read.",
                           hint="Write it again with a Parquet writer, or export CSV.") from err
+    _check_width(frame.shape[1], name, 1)
     if not isinstance(frame.index, pd.RangeIndex):
         frame = frame.reset_index()
     header = [str(c).strip() for c in frame.columns]

@@ -33,6 +33,11 @@ __all__ = ["tidy_grid", "clean_ids"]
 
 
 # -- entry ------------------------------------------------------------------------------
+def _future_limit() -> np.datetime64:
+    """Dates after this (today plus 366 days) are set aside as out of range."""
+    return np.datetime64(pd.Timestamp.now().normalize() + pd.Timedelta(days=366), "ns")
+
+
 def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd.DataFrame, FileReport]:
     """Turn a grid into the tidy table of its kind and the file's report.
 
@@ -174,12 +179,17 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
 
     # dates
     dres = parse_dates(ctx.col(d), o.date_order, allow_serial=serial, rows=g.rows)
-    ctx.tally.add_parsed(int((dres.status == 0).sum()))
+    # A date more than a year after today cannot be an observation (a typing slip such as 2199).
+    future = (dres.status == 0) & (dres.dates.astype("datetime64[ns]") > _future_limit())
+    ctx.tally.add_parsed(int(((dres.status == 0) & ~future).sum()))
     ctx.tally.add(Reason.BLANK, dres.status == 1, ctx.locator(d))
     ctx.tally.add(Reason.UNPARSEABLE_DATE, dres.status == 3, ctx.locator(d))
+    if future.any():
+        ctx.tally.add(Reason.OUT_OF_RANGE, future, ctx.locator(d))
+        ctx.notes.append(f"{int(future.sum())} dates more than a year in the future were set aside")
     if dres.ambiguous:
         ctx.notes.append(f"dates are ambiguous: {dres.order_reason}")
-    date_ok = dres.status == 0
+    date_ok = (dres.status == 0) & ~future
 
     # values
     stacked = pd.concat([ctx.col(j).reset_index(drop=True) for j in vcols], ignore_index=True) if len(vcols) > 1 else ctx.col(vcols[0]).reset_index(drop=True)

@@ -164,15 +164,11 @@ def _write_cached(path: Path, point: GridPoint, out: dict[str, Any]) -> None:
     if out.get("status") != "ok":
         return  # failures are tried again on the next run
     path.parent.mkdir(parents=True, exist_ok=True)
-    blob = json.dumps({"config": point.config.to_dict(), **out}, sort_keys=True, default=_nan_none)
+    blob = json.dumps({"config": point.config.to_dict(), **out}, sort_keys=True)  # NaN kept as NaN
     fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".json")
     with os.fdopen(fd, "w", encoding="utf-8") as fh:
         fh.write(blob)
     os.replace(tmp, path)
-
-
-def _nan_none(x: Any) -> Any:
-    return None
 
 
 def run_sweep(

@@ -225,12 +225,21 @@ def _rows(r: dict[str, Any]) -> list[tuple[str, str, str, str, str]]:
     g = r.get("growth")
     if g:
         rows.append(("growth exponent: time vs N x T", ",".join(g["sizes"]), f"{g['time_exponent']:.2f}", "close to 1", ""))
+        cpu = [r["study"][s_]["cpu_s"] for s_ in g["sizes"]]  # CPU seconds: less disturbed by other load
+        rows.append(("growth exponent: CPU time vs N x T", ",".join(g["sizes"]), f"{fit_exponent(g['cells'], cpu):.2f}",
+                     "close to 1", ""))
+        big = [s_ for s_ in g["sizes"] if r["study"][s_]["cells"] >= 100_000]
+        if len(big) >= 3:
+            rows.append(("growth exponent: CPU time vs N x T, M and up", ",".join(big),
+                         f"{fit_exponent([r['study'][s_]['cells'] for s_ in big], [r['study'][s_]['cpu_s'] for s_ in big]):.2f}",
+                         "close to 1", ""))
         if "time_exponent_M_up" in g:
             rows.append(("growth exponent: time vs N x T, M and up", "M,I1,I2,L", f"{g['time_exponent_M_up']:.2f}",
                          "close to 1", ""))
         rows.append(("growth exponent: memory vs N x T", ",".join(g["sizes"]), f"{g['memory_exponent']:.2f}", "", ""))
         for s_, c_, w_, m_ in zip(g["sizes"], g["cells"], g["wall_s"], g["peak_mb"]):
-            rows.append((f"  growth point {s_}", f"N x T = {c_:,}", f"{w_:.3f} s, {m_:.0f} MB", "", ""))
+            rows.append((f"  growth point {s_}", f"N x T = {c_:,}",
+                         f"{w_:.3f} s wall, {r['study'][s_]['cpu_s']:.3f} s CPU, {m_:.0f} MB", "", ""))
     return rows
 
 
@@ -261,7 +270,15 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
     ap.add_argument("--baseline-sizes", default="S,M,L")
     ap.add_argument("--json", default=str(HERE / "results" / "latest.json"))
     ap.add_argument("--markdown", default=None)
+    ap.add_argument("--render", default=None, metavar="JSON",
+                    help="only print (and with --markdown write) the table of an earlier run's JSON")
     a = ap.parse_args(argv)
+    if a.render:
+        old = json.loads(Path(a.render).read_text())
+        print(table_text(old))
+        if a.markdown:
+            Path(a.markdown).write_text(table_markdown(old) + "\n")
+        return old
     sizes = [s.strip() for s in a.sizes.split(",") if s.strip() and s.strip() != "XL"]
     for s in sizes:
         if s not in SIZES:

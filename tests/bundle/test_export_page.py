@@ -1,0 +1,25 @@
+"""The Export page without a browser: it says how to get the images (the same hint as the report)."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import dash
+import pytest
+
+from app.bundle import NO_BROWSER_HINT
+
+
+def test_export_page_shows_the_no_browser_hint(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    from app.server import create_app
+
+    create_app(tmp_path / "ws")
+    page = next(p for p in dash.page_registry.values() if p["name"] == "Export")
+    assert page["path"] == "/export"
+    module = sys.modules[page["module"]]
+    monkeypatch.setenv("BROWSER_PATH", str(tmp_path / "no-such-chromium"))
+    text = str(module.layout())
+    assert NO_BROWSER_HINT in text and "BROWSER_PATH" in text
+    monkeypatch.setenv("BROWSER_PATH", sys.executable)      # any executable file counts as found
+    assert NO_BROWSER_HINT not in str(module.layout())

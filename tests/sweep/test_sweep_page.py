@@ -1,0 +1,103 @@
+"""The Sweep page without a browser: layout, table, the click that opens a study, and the Study page hook."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+from urllib.parse import parse_qs, urlsplit
+
+import pytest
+
+from core.sweep import parse_grid, run_sweep, save_sweep
+
+GRID = {"study": {"min_breadth": 5, "n_quantiles": 4},
+        "vary": {"signal": ["earnings_yield", "dividend_yield"], "universe": ["all", ["Kilns", "Quays"]],
+                 "horizons": [1, 3], "sector_neutral": [False, True], "outliers": [[2, 98]]}}
+
+
+@pytest.fixture()
+def app_with_sweep(tmp_path: Path, panel: Any) -> Any:
+    from app.server import create_app
+
+    app = create_app(tmp_path / "ws")
+    res = run_sweep(panel, parse_grid(GRID, "page-grid"))
+    save_sweep(res, tmp_path / "ws" / "sweeps" / "first")
+    return app, res
+
+
+def _walk(c: Any) -> Any:
+    yield c
+    kids = getattr(c, "children", None)
+    for k in kids if isinstance(kids, list) else ([kids] if kids is not None and not isinstance(kids, str) else []):
+        yield from _walk(k)
+
+
+def test_sweep_page_lists_the_workspace_sweeps_and_shows_the_table(app_with_sweep: Any) -> None:
+    import dash
+
+    from app.pages import sweep as page
+
+    app, res = app_with_sweep
+    assert dash.page_registry["app.pages.sweep"]["path"] == "/sweep"
+    with app.server.test_request_context("/"):
+        lay = page.layout()
+        ids = {getattr(c, "id", None) for c in _walk(lay)}
+        assert {"sweep-pick", "sweep-table", "sweep-heatmap", "sweep-statement", "sweep-go"} <= ids
+        pick = next(c for c in _walk(lay) if getattr(c, "id", None) == "sweep-pick")
+        assert pick.value == "first"
+        cols, data, statement, fig, note = page._show("first", {"ids": []})
+    names = [c["id"] for c in cols]
+    # the adjusted columns sit right after the raw HAC t
+    assert names.index("ic_t_bh") == names.index("ic_t") + 1 and names.index("ic_t_bonferroni") == names.index("ic_t") + 2
+    assert len(data) == len(res.table) == 16 and statement == res.statement
+    assert {r["point_id"] for r in data} == set(res.configs)
+    assert fig.data[0].type == "heatmap"
+    assert "not the data this sweep ran on" in note
+    with app.server.test_request_context("/"):
+        assert page._show("../../etc", None)[1] == []        # only listed folder names are read
+
+
+def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) -> None:
+    from app.pages import study as study_page
+    from app.pages import sweep as page
+    from app.settings import config_from_settings
+
+    app, res = app_with_sweep
+    with app.server.test_request_context("/"):
+        _, data, *_ = page._show("first", None)
+        rows = sorted(data, key=lambda r: (r["signal"], r["universe"], r["sector_neutral"]))  # as if sorted
+        target = next(r for r in rows if r["signal"] == "dividend_yield" and r["sector_neutral"] == "true"
+                      and r["universe"] != "all")
+        href, note = page._open({"row": rows.index(target), "column": 0}, rows, "first")
+        assert note is None
+        q = {k: v[0] for k, v in parse_qs(urlsplit(href).query).items()}
+        assert urlsplit(href).path == "/study" and q == {"sweep": "first", "point": target["point_id"]}
+        settings = page.settings_from_query(app.server.extensions["valuesift"].workspace.root, q)
+        # the Study page's settings give back the sweep point's configuration
+        from core.study import StudyConfig
+
+        want = StudyConfig.from_dict(res.configs[target["point_id"]])
+        got = config_from_settings(settings)
+        assert (got.signal, got.universe, got.universe_sectors, got.sector_neutral, got.winsor_percentiles,
+                got.horizons) == (want.signal, want.universe, want.universe_sectors, want.sector_neutral,
+                                  want.winsor_percentiles, want.horizons)
+        # the hook: the Study page opened with that query shows those values in its controls
+        lay = study_page.layout(**q)
+        vals = {c.id: c.value for c in _walk(lay) if isinstance(getattr(c, "id", None), str) and hasattr(c, "value")}
+        assert vals["study-signal"] == "dividend_yield" and vals["study-neutral"] == ["on"]
+        assert vals["study-universe"] == "sectors" and vals["study-sectors"] == ["Kilns", "Quays"]
+        assert vals["study-winsor"] == 2.0 and vals["study-horizons"] == [1, 3]
+        # an unknown point or sweep: the usual Study page
+        plain = study_page.layout(sweep="first", point="nope")
+        pvals = {c.id: c.value for c in _walk(plain) if isinstance(getattr(c, "id", None), str) and hasattr(c, "value")}
+        assert pvals["study-signal"] == "earnings_yield" and pvals["study-neutral"] == []
+        assert page._open({"row": 99}, rows, "first") == (page.no_update, page.no_update)
+
+
+def test_settings_the_study_page_cannot_show_are_named() -> None:
+    from app.pages.sweep import study_settings
+    from core.study import StudyConfig
+
+    s, missing = study_settings(StudyConfig(min_breadth=7, winsor_percentiles=(1.0, 95.0), horizons=(3, 1)).to_dict())
+    assert s["horizons"] == [1, 3] and s["winsor_lower"] == 1.0
+    assert "min_breadth" in missing and any(m.startswith("winsor_percentiles") for m in missing)
