@@ -6,6 +6,7 @@ serve   start the dashboard on 127.0.0.1 (``--demo`` loads the invented demo uni
 study   run a study headless and write summary.json and tables/
 check   read files and print the intake report (exit 2 when a file cannot be read)
 demo    write the invented demo universe files to a folder
+sweep   run a grid of studies (on a Dask cluster) with multiple-testing adjustment
 
 Every user-facing failure is a :class:`core.errors.ValueSiftError`; it is
 printed as one plain message (no traceback) and the command exits non-zero.

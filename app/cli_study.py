@@ -90,6 +90,9 @@ def add_study_arguments(p: argparse.ArgumentParser) -> None:
     s.add_argument("--out", required=True, metavar="DIR")
     s.add_argument("--title", default=None, help="title on the cover of the bundle's report.pdf")
     s.add_argument("--note", default=None, help="a note printed on the cover of report.pdf")
+    s.add_argument("--sweep", default=None, metavar="DIR",
+                   help="a finished `valuesift sweep` output folder to include in the bundle "
+                        "(heat map, comparison table with multiple-testing adjustment)")
     s.add_argument("--no-bundle", action="store_true",
                    help="write only summary.json and tables/ic_by_date.csv, not the committee bundle")
     s.add_argument("--quiet", action="store_true", help="no progress lines")
@@ -191,8 +194,13 @@ def run_study_command(args: argparse.Namespace) -> int:
     if not getattr(args, "no_bundle", False):
         from app.bundle import write_bundle
 
+        sweep = None
+        if getattr(args, "sweep", None):
+            from core.sweep import load_sweep
+
+            sweep = load_sweep(args.sweep)
         paths = write_bundle(result, panel, inputs, out, study_name=args.name, title=getattr(args, "title", None),
-                             note=getattr(args, "note", None), progress=show)
+                             note=getattr(args, "note", None), progress=show, sweep=sweep)
         print(f"Wrote the committee bundle to {out} ({len(paths.files)} files, report of {paths.pages} pages) "
               f"and {paths.zip}")
         if paths.note:

@@ -51,9 +51,18 @@ __all__ = ["compute_study"]
 Progress = Callable[[str, float], None]
 _T = TypeVar("_T")
 
-#: Worker threads for the per-horizon steps (numpy releases the GIL inside its array loops).
+def _thread_count() -> int:
+    """Worker threads for the per-horizon steps: ``VALUESIFT_THREADS``, else one per core (at most 4)."""
+    try:
+        asked = int(os.environ.get("VALUESIFT_THREADS", "") or 0)
+    except ValueError:  # an unreadable setting falls back to the default
+        asked = 0
+    return max(1, asked) if asked > 0 else max(1, min(os.cpu_count() or 1, 4))
+
+
+#: Worker threads for the per-horizon steps (numpy releases the GIL inside its array loops);
 #: ``VALUESIFT_THREADS=1`` runs everything in the calling thread.
-_THREADS = max(1, int(os.environ.get("VALUESIFT_THREADS", "0") or 0) or min(os.cpu_count() or 1, 4))
+_THREADS = _thread_count()
 #: Below this many cells per array a thread pool costs more than it saves.
 _THREAD_MIN_CELLS = 200_000
 

@@ -13,7 +13,7 @@ import platform
 import re
 import shutil
 import zipfile
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import datetime, timezone
 from pathlib import Path
 from typing import Any, Callable, Iterable, Sequence
@@ -23,6 +23,7 @@ import pandas as pd
 from app.bundle import charts as bc
 from app.bundle import tables as bt
 from app.bundle.content import report_input
+from app.bundle.text import sweep_reading
 from app.bundle.pdf import build_pdf
 from app.caution import CAUTION
 from core.errors import ConfigError
@@ -134,7 +135,7 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
                  study_name: str, title: str | None = None, note: str | None = None,
                  include: Iterable[str] | None = None, progress: Progress | None = None,
                  horizon: int | None = None, created: datetime | None = None,
-                 zip_path: str | Path | None = None) -> BundlePaths:
+                 zip_path: str | Path | None = None, sweep: Any | None = None) -> BundlePaths:
     """Write the committee bundle of a study to ``out_dir`` and a ZIP of it.
 
     Parameters
@@ -161,6 +162,9 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
         Creation time (UTC) written to the manifest and the cover (default now).
     zip_path : path, optional
         Where the ZIP goes (default ``out_dir / (bundle_name + ".zip")``).
+    sweep : core.sweep.SweepResult, optional
+        A finished sweep to include: its heat map (chart, page in the report) and its comparison
+        table with the multiple-testing columns.
 
     Returns
     -------
@@ -197,6 +201,8 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     tick("drawing the charts", 0.02)
     specs = [c for c in bc.CHARTS if c.key in charts]
     figs = {c.key: bc.figure_for(c, result, h, panel) for c in specs}
+    if sweep is not None:
+        figs[bc.SWEEP_KEY] = bc.sweep_figure(sweep)
     tick("starting the browser and writing tables", 0.05)
     job = bc.start_render(figs, progress=lambda s, f: tick(s, 0.1 + 0.7 * f))
     if specs:
@@ -205,9 +211,17 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     for c in specs:
         bc.write_html(figs[c.key], folder / "charts" / f"{c.key}.html", title=c.title)
         written.append(f"charts/{c.key}.html")
+    if sweep is not None:
+        if not specs:
+            shutil.copyfile(bc.plotly_js_path(), folder / "charts" / "plotly.min.js")
+            written.append("charts/plotly.min.js")
+        bc.write_html(figs[bc.SWEEP_KEY], folder / "charts" / f"{bc.SWEEP_KEY}.html", title=bc.SWEEP_TITLE)
+        written.append(f"charts/{bc.SWEEP_KEY}.html")
 
     all_tables = bt.result_tables(result, panel)
     chosen = {k: all_tables[k] for k in tables}
+    if sweep is not None:
+        chosen[bt.SWEEP_TABLE] = sweep.table.reset_index(drop=True)
     for k, df in chosen.items():
         bt.write_csv(df, folder / "tables" / f"{k}.csv", raw=(k == "ic_by_date"))
         written.append(f"tables/{k}.csv")
@@ -223,7 +237,7 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     written.append("summary.json")
 
     outcome = job.wait()
-    for c in specs:
+    for c in [*specs, *([bc.SWEEP_SPEC] if sweep is not None else [])]:
         if c.key in outcome.png:
             (folder / "charts" / f"{c.key}.png").write_bytes(outcome.png[c.key])
             (folder / "charts" / f"{c.key}.svg").write_bytes(outcome.svg[c.key])
@@ -233,6 +247,10 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
                         chart_keys=[c.key for c in specs], images=outcome.jpeg or outcome.png,
                         images_note=outcome.note,
                         created=when)
+    if sweep is not None:
+        images = outcome.jpeg or outcome.png
+        data = replace(data, charts=[*data.charts, (bc.SWEEP_KEY, bc.SWEEP_TITLE, images.get(bc.SWEEP_KEY),
+                                                    sweep_reading(sweep))])
     pages = build_pdf(data, folder / "report.pdf")
     written.append("report.pdf")
 
@@ -248,7 +266,9 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
         "title": data.title,
         "note": note,
         "as_of": asof,
-        "bundle": {"name": name, "chart_horizon": h, "charts": [c.key for c in specs], "tables": list(chosen),
+        "bundle": {"name": name, "chart_horizon": h,
+                   "charts": [c.key for c in specs] + ([bc.SWEEP_KEY] if sweep is not None else []),
+                   "tables": list(chosen),
                    "images_rendered": bool(outcome.png), "images_note": outcome.note},
         "configuration": result.config.to_dict(),
         "inputs": files_in,
@@ -300,7 +320,7 @@ _FILE_TEXT = {
 
 
 def _readme(files: Sequence[str], tables: dict[str, pd.DataFrame], note: str | None, name: str) -> str:
-    titles = {c.key: c.title for c in bc.CHARTS}
+    titles = {c.key: c.title for c in (*bc.CHARTS, bc.SWEEP_SPEC)}
     lines = [f"ValueSift committee bundle {name}", "", "What each file is:", ""]
     for rel in sorted(set(files) | {"manifest.json", "README.txt"}):
         stem = Path(rel).stem
@@ -311,7 +331,7 @@ def _readme(files: Sequence[str], tables: dict[str, pd.DataFrame], note: str | N
                     ".html": "interactive chart; open it in a web browser"}[Path(rel).suffix]
             text = f"{titles.get(stem, stem)}: {kind}"
         elif rel.startswith("tables/"):
-            text = f"{bt.TABLES.get(stem, stem)} (CSV)"
+            text = f"{bt.TABLES.get(stem) or bt.TABLES_OPTIONAL.get(stem, stem)} (CSV)"
         else:
             text = ""
         lines.append(f"  {rel}\n      {text}")

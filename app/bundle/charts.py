@@ -68,6 +68,23 @@ CHARTS: tuple[ChartSpec, ...] = (
 )
 CHART_KEYS: tuple[str, ...] = tuple(c.key for c in CHARTS)
 
+#: The optional sweep heat map (only when a finished sweep is given to the bundle).
+SWEEP_KEY = "sweep_heatmap"
+SWEEP_TITLE = "Sweep: best adjusted t-statistic by signal and horizon"
+SWEEP_SPEC = ChartSpec(SWEEP_KEY, SWEEP_TITLE, lambda r, h, p: go.Figure(), False)
+
+
+def sweep_figure(sweep: Any) -> go.Figure:
+    """The dashboard's sweep heat map with the same slide layout as every other chart."""
+    from app.figures.sweep import sweep_heatmap_figure
+
+    fig = sweep_heatmap_figure(sweep)
+    fig.update_layout(width=SLIDE["width"], height=SLIDE["height"], autosize=False)
+    _rewrap_for_slide(fig)
+    for i, trace in enumerate(fig.data):
+        trace.uid = f"{SWEEP_KEY}-{i}"
+    return fig
+
 
 def figure_for(spec: ChartSpec, result: StudyResult, horizon: int, panel: Any) -> go.Figure:
     """The dashboard's figure, with layout updates for a 16:9 slide (the figure function is not changed)."""

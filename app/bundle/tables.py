@@ -47,6 +47,13 @@ TABLES: dict[str, str] = {
 }
 TABLE_KEYS: tuple[str, ...] = tuple(TABLES)
 
+#: The optional sweep comparison table (only when a finished sweep is given to the bundle).
+SWEEP_TABLE = "sweep_comparison"
+TABLES_OPTIONAL: dict[str, str] = {
+    SWEEP_TABLE: "every configuration and horizon of the sweep with raw and multiple-testing adjusted "
+                 "(Benjamini-Hochberg, Bonferroni) p-values and t-statistics",
+}
+
 
 def _dates(idx: pd.Index) -> list[str]:
     return [pd.Timestamp(d).date().isoformat() for d in idx]

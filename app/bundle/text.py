@@ -298,3 +298,18 @@ CHART_READINGS = {
     "cohorts": _cohorts,
     "coverage": _coverage,
 }
+
+
+def sweep_reading(sweep: Any) -> list[str]:
+    """Two lines on a finished sweep, from its comparison table (never canned figures)."""
+    table = sweep.table
+    ok = table[np.isfinite(pd.to_numeric(table["ic_t_bh"], errors="coerce"))] if len(table) else table
+    line1 = sweep.statement
+    if ok.empty:
+        return [line1, "No configuration produced a HAC t-statistic, so there is nothing to rank."]
+    best = ok.loc[pd.to_numeric(ok["ic_t_bh"]).abs().idxmax()]
+    varied = ", ".join(f"{d} {best[d]}" for d in sweep.dimensions if d in best.index)
+    line2 = (f"The strongest test after adjustment: {varied or 'the base configuration'} at {int(best['horizon'])} "
+             f"months, mean rank IC {fmt_num(best['mean_ic'])}, raw t = {fmt_num(best['ic_t'], 2)}, adjusted "
+             f"t = {fmt_num(best['ic_t_bh'], 2)} ({verdict(best['ic_t_bh'])}).")
+    return [line1, line2]

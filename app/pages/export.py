@@ -17,7 +17,7 @@ from app.jobs_ui import alert, job_components, register_job_callbacks
 from app.services import normalise_selection, state
 from core.errors import ValueSiftError
 
-dash.register_page(__name__, path="/export", name="Export", order=3, title="ValueSift - Export")
+dash.register_page(__name__, path="/export", name="Export", order=4, title="ValueSift - Export")
 
 P = "export"
 _POLL_MS = 400

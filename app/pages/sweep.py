@@ -20,7 +20,7 @@ from dash import Input, Output, State, dash_table, dcc, html, no_update
 
 from app.services import normalise_selection, state
 
-dash.register_page(__name__, path="/sweep", name="Sweep", order=5, title="ValueSift - Sweep", nav=False)
+dash.register_page(__name__, path="/sweep", name="Sweep", order=3, title="ValueSift - Sweep")
 
 P = "sweep"
 
