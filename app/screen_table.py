@@ -145,8 +145,9 @@ def _export_frame(df: pd.DataFrame) -> pd.DataFrame:
 
 
 def to_csv_bytes(df: pd.DataFrame) -> bytes:
-    """The table as UTF-8 CSV (formula-safe)."""
-    return _export_frame(df).to_csv(index=False).encode("utf-8")
+    """The table as UTF-8 CSV (formula-safe; CRLF line ends, RFC 4180, so a text cell holding a bare
+    carriage return is quoted and cannot start a new row)."""
+    return _export_frame(df).to_csv(index=False, lineterminator="\r\n").encode("utf-8")
 
 
 def to_xlsx_bytes(df: pd.DataFrame, sheet: str = "screen") -> bytes:

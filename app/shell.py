@@ -58,15 +58,17 @@ def register_shell_callbacks(app: dash.Dash) -> None:
         State("vs-selection", "data"),
     )
     def _boot(_path: str | None, sel: Any) -> Any:
-        from app.services import normalise_selection, state
+        from app.services import current_owner, normalise_selection, selection_key, state
 
         st = state()
         if isinstance(sel, dict) and sel.get("instance") == st.instance:
             raise dash.exceptions.PreventUpdate
-        known = {r.id for r in st.workspace.records()}
+        owner = current_owner()
+        known = {r.id for r in st.workspace.records(owner=owner)}   # this browser session's and the shared ones
         current = normalise_selection(sel)
         kept = [i for i in current["ids"] if i in known]
         if sel is None or (current["ids"] and not kept):
-            current = normalise_selection(st.workspace.get_setting("selection", {}))
+            current = normalise_selection(st.workspace.get_setting(selection_key(owner), None)
+                                          or st.workspace.get_setting("selection", {}))
             kept = [i for i in current["ids"] if i in known]
         return {"ids": kept, "splits": current["splits"], "instance": st.instance}

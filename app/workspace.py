@@ -141,7 +141,7 @@ def atomic_write_bytes(path: Path, data: bytes) -> None:
 
 def _atomic(path: Path, write: Callable[[Any], object]) -> None:
     path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=path.suffix)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".tmp-{os.getpid()}-", suffix=path.suffix)
     try:
         with os.fdopen(fd, "wb") as fh:
             write(fh)
@@ -154,6 +154,23 @@ def _atomic(path: Path, write: Callable[[Any], object]) -> None:
         except OSError:
             pass
         raise
+
+
+def _writer_alive(name: str) -> bool:
+    """Whether the process named in a ``.tmp-<pid>-...`` file name is running (not this one)."""
+    try:
+        pid = int(name.split("-")[1])
+    except (IndexError, ValueError):
+        return False
+    if pid == os.getpid():
+        return False
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
 
 
 # -- records ---------------------------------------------------------------------------
@@ -202,10 +219,12 @@ class Workspace:
         self.removed_temp_files = self._remove_temp_files()
 
     def _remove_temp_files(self) -> int:
-        """Delete ``.tmp-*`` files a crash left behind (they never count as datasets)."""
+        """Delete ``.tmp-<pid>-*`` files whose writing process is gone (left by a crash; never datasets)."""
         n = 0
         for sub in ("raw", "data"):
             for p in (self.root / sub).glob(".tmp-*"):
+                if _writer_alive(p.name):
+                    continue          # another process (a server, a command) is writing it now
                 try:
                     p.unlink()
                     n += 1

@@ -8,9 +8,9 @@ import dash
 from dash import Input, Output, State, dcc, html, no_update
 
 from app.components.common import chart, field, panel_choices
-from app.figures import backtest as fb
 from app.figures import study as fs
 from app.figures._common import month
+from app.figures.cache import HORIZON_CHARTS, scatter_for, study_figures, warm_study
 from app.jobs_ui import job_components, register_job_callbacks
 from app.services import normalise_selection, state
 from app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES
@@ -175,9 +175,13 @@ def _figures(job: Any, horizon: Any) -> Any:
         # No result (no data, or the study failed: the alert says why): show no stale charts.
         return (*([no_update] * len(_CHARTS)), None, None, True)
     h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]
-    figs = [fs.ic_by_horizon_figure(res), fs.ic_over_time_figure(res, h), fs.quantile_returns_figure(res, h),
-            fs.spread_over_time_figure(res, h), fs.fm_slopes_figure(res), fb.growth_figure(res),
-            fb.drawdown_figure(res), fb.cohort_figure(res)]
+    built = study_figures(job["key"], res, h)
+    warm_study(job["key"], res)  # the other horizons, in the background: later changes are look-ups
+    if dash.ctx.triggered_id == f"{P}-horizon":
+        # Only the horizon changed: the study-wide charts on screen are already right.
+        figs = [built[c] if c in HORIZON_CHARTS else no_update for c in _CHARTS]
+    else:
+        figs = [built[c] for c in _CHARTS]
     return (*figs, _summary(res, h), _notes(res), False)
 
 
@@ -190,7 +194,7 @@ def _scatter(job: Any, horizon: Any, date: Any) -> Any:
     if res is None:
         return no_update
     h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]
-    return fs.scatter_figure(res, h, None if date in (None, "pooled") else date)
+    return scatter_for(job["key"], res, h, None if date in (None, "pooled") else str(date))
 
 
 def _summary(res: Any, h: int) -> Any:

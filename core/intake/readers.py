@@ -334,7 +334,9 @@ def _read_parquet(raw: bytes, name: str) -> Grid:
 
     try:
         table = pq.read_table(pa.BufferReader(raw))
-        frame = table.to_pandas()
+        # date32 columns come as datetime64 (not Python date objects, which would be turned into
+        # text and parsed again: most of the time of a large long-layout file).
+        frame = table.to_pandas(date_as_object=False)
     except Exception as err:
         raise IntakeError(name, Reason.UNREADABLE, "the Parquet file could not be read.",
                           hint="Write it again with a Parquet writer, or export CSV.") from err

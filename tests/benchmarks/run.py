@@ -218,7 +218,10 @@ def _rows(r: dict[str, Any]) -> list[tuple[str, str, str, str, str]]:
     if dsh:
         rows.append(("dashboard: cold study (service layer)", "M", f"{dsh['cold_study_s']:.2f} s", "<= 1.5 s",
                      verdict(dsh["cold_study_s"] <= 1.5)))
-        rows.append(("dashboard: warm horizon change (figures)", "M", f"{dsh['warm_horizon_change_s'] * 1000:.0f} ms",
+        if "first_view_s" in dsh:
+            rows.append(("dashboard: first view of a study (all figures)", "M",
+                         f"{dsh['first_view_s'] * 1000:.0f} ms", "(reported)", ""))
+        rows.append(("dashboard: warm horizon change (figures)", "M", f"{dsh['warm_horizon_change_s'] * 1000:.2f} ms",
                      "<= 100 ms", verdict(dsh["warm_horizon_change_s"] <= 0.1)))
         rows.append(("dashboard: screen first page", "M", f"{dsh['screen_first_page_s'] * 1000:.0f} ms, "
                      f"{dsh['screen_rows_sent']} of {dsh['screen_rows_total']} rows sent", "page only",
