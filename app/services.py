@@ -89,6 +89,10 @@ class LRU:
         with self._lock:
             return key in self._d
 
+    def values(self) -> list[Any]:
+        with self._lock:
+            return list(self._d.values())
+
 
 class _Cancelled(Exception):
     pass
@@ -104,6 +108,7 @@ class StudyJob:
     fraction: float = 0.0
     error: str | None = None
     cancel: threading.Event = field(default_factory=threading.Event)
+    owners: set[str] = field(default_factory=set)   # browser sessions waiting for it
 
 
 class AppState:
@@ -122,6 +127,9 @@ class AppState:
             "CACHE_THRESHOLD": 16,      # results of large universes are big; keep the folder bounded
         })
         self.results = LRU(4)
+        # Each browser session's latest result stays in memory, so a finished study cannot be evicted
+        # (by other sessions' studies) between "done" and the page fetching it.
+        self.pins = LRU(32)
         self.panels = LRU(4)
         self.jobs: dict[str, StudyJob] = {}
         self._jobs_lock = threading.Lock()
@@ -185,6 +193,9 @@ class AppState:
         hit = self.results.get(key)
         if hit is not None:
             return hit
+        for pinned_key, pinned in self.pins.values():
+            if pinned_key == key:
+                return pinned
         with self.server.app_context():
             try:
                 hit = self.cache.get(key)
@@ -204,13 +215,17 @@ class AppState:
         """Return a finished job at once when memoised; else start (or join) a worker thread."""
         sel = self.visible(sel)   # the worker thread has no session: hand it the session's ids only
         key = self.study_key(sel, config)
-        if self.result(key) is not None:
+        owner = current_owner() or ""
+        res = self.result(key)
+        if res is not None:
+            self.pins.put(owner, (key, res))
             return StudyJob(key=key, status="done", stage="done", fraction=1.0)
         with self._jobs_lock:
             job = self.jobs.get(key)
             if job is not None and job.status in ("queued", "running"):
+                job.owners.add(owner)
                 return job
-            job = StudyJob(key=key)
+            job = StudyJob(key=key, owners={owner})
             self.jobs[key] = job
         thread = threading.Thread(target=self._work, args=(job, normalise_selection(sel), config),
                                   name=f"study-{key[-6:]}", daemon=True)
@@ -225,6 +240,7 @@ class AppState:
         if res is None:
             res = run_study(self.panel(sel), config)
             self._store(key, res)
+        self.pins.put(current_owner() or "", (key, res))
         return key, res
 
     def _store(self, key: str, res: StudyResult) -> None:
@@ -262,6 +278,9 @@ class AppState:
                 job.error = f"The study could not be computed ({type(err).__name__}). The log has the details."
                 return
             self._store(job.key, res)
+            with self._jobs_lock:
+                for owner in job.owners:
+                    self.pins.put(owner, (job.key, res))
             job.status, job.stage, job.fraction = "done", "done", 1.0
 
     def cancel(self, key: str | None) -> None:

@@ -22,7 +22,7 @@ from tests.robustness._serve import DashClient, Server, check_workspace, workspa
 
 pytestmark = pytest.mark.slow
 
-FAULTS = {"sigkill_rounds": 0}
+FAULTS = {"sigkill_rounds": 0, "upload_absent_after": 0, "upload_complete_after": 0}
 
 
 def _upload_ok(c: DashClient, files, sel=None, version=0):  # type: ignore[no-untyped-def]
@@ -100,13 +100,13 @@ def test_sigkill_in_the_middle_of_a_large_upload(tmp_path: Path) -> None:
 
             def send() -> None:
                 try:
-                    result["r"] = c.upload([(f"big-{k}.csv", body)])
+                    result["r"] = c.upload([(f"prices-big-{k}.csv", body)])
                 except requests.RequestException as err:   # the server died under the request
                     result["err"] = err
 
             t = threading.Thread(target=send, daemon=True)
             t.start()
-            time.sleep(float(rng.uniform(0.3, 4.0)))     # somewhere in decoding, writing or reading
+            time.sleep(float(rng.uniform(0.3, 8.0)))     # somewhere in decoding, writing, reading or after
             srv.kill()
             t.join(120)
             FAULTS["sigkill_rounds"] += 1
@@ -124,13 +124,15 @@ def test_sigkill_in_the_middle_of_a_large_upload(tmp_path: Path) -> None:
             names = {r["name"] for r in rows}
             cards = str(DashClient.values(c2.call({"data-version.data": 1, "vs-selection.data": None})))
             assert "prices.csv" in cards and "eps.csv" in cards
-            for r in rows:                              # the half-written upload: absent, or complete and readable
-                if r["name"].startswith("big-"):
-                    assert r["status"] == "ok"
+            big_rows = [r for r in rows if r["name"] == f"prices-big-{k}.csv"]
+            for r in big_rows:                          # the half-written upload: absent, or complete and readable
+                assert r["status"] == "ok"
+            FAULTS["upload_complete_after" if big_rows else "upload_absent_after"] += 1
             assert names >= {"prices.csv", "eps.csv"}
 
 
 def test_print_faults() -> None:
     if not FAULTS["sigkill_rounds"]:
         pytest.skip("the SIGKILL test did not run in this session")
-    print(f"\nfaults survived: {FAULTS['sigkill_rounds']} SIGKILLs during a large upload")
+    print(f"\nfaults survived: {FAULTS['sigkill_rounds']} SIGKILLs during a large upload "
+          f"(upload absent after {FAULTS['upload_absent_after']}, complete after {FAULTS['upload_complete_after']})")

@@ -44,3 +44,24 @@ def test_two_browsers_do_not_see_each_other(tmp_path: Path) -> None:
         job_a = DashClient.values(a.call({"vs-selection.data": sel_a, "vs-settings.data": {"horizons": [1]}},
                                          {"study-job.data": None}, output_has="..study-job.data...study-poll"))
         assert job_a["study-job.data"]["status"] in ("running", "done")
+
+
+def test_a_sessions_latest_result_survives_cache_eviction(tmp_path: Path) -> None:
+    """Many sessions' studies evict results from the small memory and file caches; each session's latest stays."""
+    import flask
+
+    from app.server import create_app
+    from app.services import LRU
+    from app.settings import config_from_settings
+
+    app = create_app(tmp_path / "ws")
+    st = app.server.extensions["valuesift"]
+    pa, ea = price_eps_files(41)
+    ids = [st.workspace.add_upload("prices.csv", pa).id, st.workspace.add_upload("eps.csv", ea).id]
+    with app.server.test_request_context("/"):
+        flask.g.vs_session = "a" * 32
+        key, res = st.run_now({"ids": ids, "splits": []}, config_from_settings({"horizons": [1]}))
+    st.results = LRU(4)                     # evicted from memory ...
+    with app.server.app_context():
+        st.cache.clear()                    # ... and from the file cache by other sessions' studies
+    assert st.result(key) is res
