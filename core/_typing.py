@@ -1,6 +1,3 @@
-# LEAD NOTE TO ENGINEERS (temporary, the lead removes it): before writing any code read
-# /tmp/rules.md (binding rules), /tmp/intake_api.md (the agreed intake API you must implement
-# exactly) and /tmp/demo_spec.md (the demo files intake must read).
 """Option sets used across the core package, in one place."""
 
 from __future__ import annotations

@@ -1,6 +1,3 @@
-# LEAD NOTE TO ENGINEERS (temporary, the lead removes it): before writing any code read
-# /tmp/rules.md (binding rules), /tmp/intake_api.md (the agreed intake API you must implement
-# exactly) and /tmp/demo_spec.md (the demo files intake must read).
 """The project's error types.
 
 Every error a user can provoke is a :class:`ValueSiftError`.  The dashboard

@@ -9,7 +9,7 @@ sizes), ``--no-baseline``, ``--no-dashboard``, ``--json PATH`` (default
 ``tests/benchmarks/results/latest.json``, git-ignored), ``--markdown PATH``
 (write the table as Markdown, e.g. ``tests/benchmarks/RESULTS.md``).
 
-What is measured (see ``README_performance.md`` for the targets):
+What is measured (targets and the latest figures: README, "Performance"):
 
 * the whole study (``core.study.run_study``, default settings: earnings
   yield, 6 horizons, IC, quantiles, Fama-MacBeth, backtest, screen) and each
