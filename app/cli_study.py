@@ -12,7 +12,7 @@ import time
 from pathlib import Path
 from typing import Any
 
-__all__ = ["add_study_arguments", "run_study_command", "config_from_args", "load_study_panel"]
+__all__ = ["add_input_file_arguments", "add_study_arguments", "run_study_command", "config_from_args", "load_study_panel"]
 
 _FILE_ARGS = (
     ("prices", "prices"),
@@ -44,7 +44,8 @@ def _pair(text: str) -> tuple[float, float]:
     return lo, hi
 
 
-def add_study_arguments(p: argparse.ArgumentParser) -> None:
+def add_input_file_arguments(p: argparse.ArgumentParser, *, signal_help: str) -> None:
+    """The input-file options shared by ``study`` and ``sweep``."""
     f = p.add_argument_group("input files (any layout and format intake reads)")
     f.add_argument("--prices", required=True, metavar="FILE", help="month-end or daily prices (required)")
     f.add_argument("--earnings", metavar="FILE", help="trailing-twelve-month EPS (or P/E) series")
@@ -53,10 +54,14 @@ def add_study_arguments(p: argparse.ArgumentParser) -> None:
     f.add_argument("--holdings", metavar="FILE", help="holdings with weights")
     f.add_argument("--benchmark", metavar="FILE", help="benchmark level series")
     f.add_argument("--market-cap", metavar="FILE", help="market capitalisation series (Fama-MacBeth control)")
-    f.add_argument("--signal", metavar="FILE", help="your own signal series; it becomes the studied signal")
+    f.add_argument("--signal", metavar="FILE", help=signal_help)
     f.add_argument("--signal-name", default=None, help="name of your signal (default: the file name)")
     f.add_argument("--lower-is-cheaper", action="store_true",
                    help="your signal is a ratio like P/E where LOWER values mean cheaper")
+
+
+def add_study_arguments(p: argparse.ArgumentParser) -> None:
+    add_input_file_arguments(p, signal_help="your own signal series; it becomes the studied signal")
 
     s = p.add_argument_group("study settings")
     s.add_argument("--name", default="study", help="study name (used in output file names)")

@@ -25,6 +25,7 @@ __all__ = ["add_sweep", "run_sweep_command"]
 
 def add_sweep(sub: Any) -> None:
     from app.cli_commands import _add_intake_options
+    from app.cli_study import add_input_file_arguments
 
     p = sub.add_parser("sweep", help="run many studies from a grid file and compare them",
                        description="Cross the settings listed in a grid file (TOML), run every study on a Dask "
@@ -38,17 +39,7 @@ def add_sweep(sub: Any) -> None:
     p.add_argument("--in-process", action="store_true",
                    help="local cluster: worker threads in this process instead of worker processes")
     p.add_argument("--quiet", action="store_true", help="no progress bar")
-    f = p.add_argument_group("input files (as for 'valuesift study')")
-    f.add_argument("--prices", required=True, metavar="FILE", help="month-end or daily prices (required)")
-    f.add_argument("--earnings", metavar="FILE", help="trailing-twelve-month EPS (or P/E) series")
-    f.add_argument("--dividends", metavar="FILE", help="dividend events: security, ex-date, amount")
-    f.add_argument("--sectors", metavar="FILE", help="security to sector map")
-    f.add_argument("--holdings", metavar="FILE", help="holdings with weights")
-    f.add_argument("--benchmark", metavar="FILE", help="benchmark level series")
-    f.add_argument("--market-cap", metavar="FILE", help="market capitalisation series")
-    f.add_argument("--signal", metavar="FILE", help="your own signal series (use its name in the grid)")
-    f.add_argument("--signal-name", default=None, help="name of your signal (default: the file name)")
-    f.add_argument("--lower-is-cheaper", action="store_true", help="your signal is a ratio where lower is cheaper")
+    add_input_file_arguments(p, signal_help="your own signal series (use its name in the grid)")
     _add_intake_options(p)
     p.set_defaults(func=run_sweep_command)
 

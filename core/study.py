@@ -33,7 +33,7 @@ from core._typing import (
     ZScoreMethod,
 )
 from core.backtest import BacktestResult
-from core.errors import ConfigError, InsufficientDataError
+from core.errors import ConfigError
 from core.evaluate.summary import ic_by_date_frame, summary_dict
 from core.panel import Panel
 

@@ -10,9 +10,7 @@ found, :func:`render_static` returns no images and a plain hint
 from __future__ import annotations
 
 import asyncio
-import os
 import re
-import shutil
 import threading
 import dataclasses
 import io
@@ -21,6 +19,8 @@ from pathlib import Path
 from typing import Any, Callable
 
 import plotly.graph_objects as go
+
+from app.browser import find_browser
 
 from app.figures import backtest as fb
 from app.figures._common import wrap
@@ -141,18 +141,6 @@ def write_html(fig: go.Figure, path: Path, *, title: str, script: str = "plotly.
 
 def _escape(text: str) -> str:
     return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-
-
-def find_browser() -> str | None:
-    """The Chrome/Chromium kaleido would use: ``BROWSER_PATH`` if set (it must exist), else one on PATH."""
-    env = os.environ.get("BROWSER_PATH")
-    if env:
-        return env if Path(env).is_file() and os.access(env, os.X_OK) else None
-    for name in ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable", "chrome"):
-        hit = shutil.which(name)
-        if hit:
-            return hit
-    return None
 
 
 @dataclass(frozen=True)

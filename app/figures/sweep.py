@@ -3,13 +3,14 @@
 from __future__ import annotations
 
 import os
-import shutil
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
+
+from app.browser import find_browser
 
 from app.figures._common import base_figure, message_figure
 from app.figures.theme import CHEAP, DEAR, NEUTRAL
@@ -73,17 +74,6 @@ def sweep_heatmap_figure(result: Any) -> go.Figure:
     return fig
 
 
-def _browser() -> str | None:
-    env = os.environ.get("BROWSER_PATH")
-    if env:
-        return env if Path(env).is_file() and os.access(env, os.X_OK) else None
-    for name in ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable", "chrome"):
-        hit = shutil.which(name)
-        if hit:
-            return hit
-    return None
-
-
 def write_heatmap(fig: go.Figure, out_dir: str | os.PathLike[str], stem: str = "heatmap") -> tuple[list[Path], str | None]:
     """Write ``stem.html`` (plotly.js embedded, opens offline) and ``stem.png`` when a browser is available.
 
@@ -94,7 +84,7 @@ def write_heatmap(fig: go.Figure, out_dir: str | os.PathLike[str], stem: str = "
     html = out / f"{stem}.html"
     fig.write_html(html, include_plotlyjs=True, full_html=True, config={"displaylogo": False})
     paths = [html]
-    browser = _browser()
+    browser = find_browser()
     if browser is None:
         return paths, ("No Chrome/Chromium found: the heat map was written as HTML only "
                        "(install chromium or set BROWSER_PATH for a PNG).")
