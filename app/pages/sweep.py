@@ -123,19 +123,20 @@ def settings_from_query(workspace_root: Path, query: dict[str, Any]) -> dict[str
 
 def layout(**_: Any) -> html.Div:
     try:
+        root = sweep_root(state().workspace.root)
         names = list_sweeps(state().workspace.root)
     except Exception:  # outside a request (unit tests of the layout)
-        names = []
+        root, names = Path("<workspace>") / "sweeps", []
     return html.Div(className="vs-page", children=[
         html.H1("Sweep"),
-        html.P(["Finished sweeps in the workspace folder ", html.Code("sweeps/"), ". Run one with ",
-                html.Code("valuesift sweep --grid GRID.toml --out <workspace>/sweeps/NAME ..."),
-                ". Click a row to open that configuration as a study."]),
+        html.P(["Finished sweeps in the workspace folder ", html.Code(str(root)), ". Run one with ",
+                html.Code(f"valuesift sweep --grid GRID.toml --out {root / 'NAME'} --prices ..."),
+                " (see README, Sweeps). Click a row to open that configuration as a study."]),
         dcc.Dropdown(id=f"{P}-pick", options=[{"label": n, "value": n} for n in names],
                      value=names[0] if names else None, clearable=False, placeholder="no finished sweep yet"),
         html.P(id=f"{P}-statement", className="vs-summary"),
         html.P(id=f"{P}-data-note", className="vs-notes"),
-        dcc.Graph(id=f"{P}-heatmap", config={"displaylogo": False}),
+        dcc.Graph(id=f"{P}-heatmap", config={"displaylogo": False}, style={"display": "none"}),
         dash_table.DataTable(id=f"{P}-table", columns=[], data=[], sort_action="native", sort_mode="multi",
                              page_size=25, style_table={"overflowX": "auto"},
                              style_cell={"fontFamily": "inherit", "fontSize": 14, "padding": "4px 8px"}),
@@ -146,7 +147,7 @@ def layout(**_: Any) -> html.Div:
 
 @dash.callback(
     Output(f"{P}-table", "columns"), Output(f"{P}-table", "data"), Output(f"{P}-statement", "children"),
-    Output(f"{P}-heatmap", "figure"), Output(f"{P}-data-note", "children"),
+    Output(f"{P}-heatmap", "figure"), Output(f"{P}-data-note", "children"), Output(f"{P}-heatmap", "style"),
     Input(f"{P}-pick", "value"), State("vs-selection", "data"),
 )
 def _show(name: Any, sel: Any) -> Any:
@@ -155,8 +156,11 @@ def _show(name: Any, sel: Any) -> Any:
     st = state()
     res = _load(st.workspace.root, name)
     if res is None:
-        return [], [], "No sweep chosen.", {}, None
-    return table_columns(res), table_records(res), res.statement, sweep_heatmap_figure(res), _data_note(st, sel, res)
+        msg = ("No finished sweep in this workspace yet." if not list_sweeps(st.workspace.root)
+               else "Choose a sweep above.")
+        return [], [], msg, {}, None, {"display": "none"}
+    return (table_columns(res), table_records(res), res.statement, sweep_heatmap_figure(res),
+            _data_note(st, sel, res), {})
 
 
 def _data_note(st: Any, sel: Any, res: Any) -> str:
