@@ -9,78 +9,23 @@ from __future__ import annotations
 
 import csv
 import io
-import os
-import socket
-import subprocess
-import sys
-import time
-import urllib.request
 from pathlib import Path
 from typing import Iterator
 
 import pytest
 
+from tests.browser_support import ARTIFACTS, CHROMIUM, CHROMIUM_ARGS as ARGS, need_browser, running_server
+
 pytestmark = pytest.mark.browser
 
-CHROMIUM = "/usr/bin/chromium"
-ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
-        "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"]
-ROOT = Path(__file__).resolve().parents[2]
-ARTIFACTS = ROOT / "test-artifacts"
 WAIT = 90_000   # ms; a generous upper bound for a slow machine, not a speed check
-
-
-def _need_browser() -> None:
-    """Skip without a browser locally; under CI a missing browser is a failure (CI must run these)."""
-    problem = None
-    if not Path(CHROMIUM).exists():
-        problem = f"{CHROMIUM} is not installed (apt-get install chromium)"
-    else:
-        try:
-            import playwright.sync_api  # noqa: F401
-        except ImportError:
-            problem = "the playwright Python package is not installed"
-    if problem:
-        if os.environ.get("CI"):
-            pytest.fail(f"{problem}; CI must run the browser tests.")
-        pytest.skip(f"{problem}; the browser tests run in CI.")
-
-
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return int(s.getsockname()[1])
 
 
 @pytest.fixture(scope="module")
 def server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[str]:
-    _need_browser()
-    ws = tmp_path_factory.mktemp("browser-ws")
-    port = _free_port()
-    log = open(ws / "server.log", "w")
-    proc = subprocess.Popen([sys.executable, "-m", "app.cli", "serve", "--port", str(port), "--workspace", str(ws)],
-                            cwd=ROOT, stdout=log, stderr=subprocess.STDOUT)
-    base = f"http://127.0.0.1:{port}"
-    try:
-        end = time.monotonic() + 90
-        while True:
-            try:
-                urllib.request.urlopen(base + "/data", timeout=2).read()
-                break
-            except OSError:
-                if proc.poll() is not None or time.monotonic() > end:
-                    log.flush()
-                    pytest.fail("the server did not start: " + (ws / "server.log").read_text())
-                time.sleep(0.3)
+    need_browser()
+    with running_server(tmp_path_factory.mktemp("browser-ws"), ready_path="/data", start_timeout=90) as base:
         yield base
-    finally:
-        proc.terminate()
-        try:
-            proc.wait(timeout=20)
-        except subprocess.TimeoutExpired:
-            proc.kill()
-            proc.wait(timeout=20)
-        log.close()
 
 
 @pytest.fixture(scope="module")
@@ -230,10 +175,12 @@ def test_screen_export_and_company_page(page, server: str, tmp_path: Path) -> No
 
 def test_missing_browser_skips_locally_and_fails_under_ci(monkeypatch: pytest.MonkeyPatch) -> None:
     # Needs no browser: checks the policy itself (skip with a reason locally, fail when CI is set).
-    monkeypatch.setattr(sys.modules[__name__], "CHROMIUM", "/nonexistent/chromium")
+    import tests.browser_support as support
+
+    monkeypatch.setattr(support, "CHROMIUM", "/nonexistent/chromium")
     monkeypatch.delenv("CI", raising=False)
     with pytest.raises(pytest.skip.Exception, match="not installed"):
-        _need_browser()
+        need_browser()
     monkeypatch.setenv("CI", "true")
     with pytest.raises(pytest.fail.Exception, match="CI must run"):
-        _need_browser()
+        need_browser()

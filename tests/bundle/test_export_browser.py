@@ -8,70 +8,24 @@ starts it; it is stopped when the module's tests end.
 from __future__ import annotations
 
 import json
-import os
-import socket
-import subprocess
-import sys
-import time
-import urllib.request
 import zipfile
 from pathlib import Path
 from typing import Iterator
 
 import pytest
 
+from tests.browser_support import ARTIFACTS, CHROMIUM, CHROMIUM_ARGS as ARGS, need_browser, running_server
+
 pytestmark = pytest.mark.browser
 
-CHROMIUM = "/usr/bin/chromium"
-ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
-        "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"]
-ROOT = Path(__file__).resolve().parents[2]
-ARTIFACTS = ROOT / "test-artifacts"
 WAIT = 180_000   # ms; a generous upper bound for a slow, shared machine, not a speed check
-
-
-def _need_browser() -> None:
-    if not Path(CHROMIUM).exists():
-        if os.environ.get("CI"):
-            pytest.fail(f"{CHROMIUM} is missing; CI must run the browser tests (apt-get install chromium).")
-        pytest.skip(f"{CHROMIUM} is not installed (the browser tests run in CI).")
-
-
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return int(s.getsockname()[1])
 
 
 @pytest.fixture(scope="module")
 def server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[str]:
-    _need_browser()
-    ws = tmp_path_factory.mktemp("export-ws")
-    port = _free_port()
-    log = open(ws / "server.log", "w")
-    proc = subprocess.Popen([sys.executable, "-m", "app.cli", "serve", "--demo", "--port", str(port),
-                             "--workspace", str(ws)], cwd=ROOT, stdout=log, stderr=subprocess.STDOUT)
-    base = f"http://127.0.0.1:{port}"
-    try:
-        end = time.monotonic() + 120
-        while True:
-            try:
-                urllib.request.urlopen(base + "/export", timeout=2).read()
-                break
-            except OSError:
-                if proc.poll() is not None or time.monotonic() > end:
-                    log.flush()
-                    pytest.fail("the server did not start: " + (ws / "server.log").read_text())
-                time.sleep(0.3)
+    need_browser()
+    with running_server(tmp_path_factory.mktemp("export-ws"), ready_path="/export", extra=["--demo"]) as base:
         yield base
-    finally:
-        proc.terminate()
-        try:
-            proc.wait(timeout=20)
-        except subprocess.TimeoutExpired:
-            proc.kill()
-            proc.wait(timeout=20)
-        log.close()
 
 
 def test_export_downloads_the_bundle_of_the_study_on_screen(server: str, tmp_path: Path) -> None:

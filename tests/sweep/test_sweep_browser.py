@@ -2,82 +2,29 @@
 
 from __future__ import annotations
 
-import os
-import socket
-import subprocess
-import sys
-import time
-import urllib.request
-from pathlib import Path
 from typing import Any, Iterator
 
 import pytest
 
+from tests.browser_support import CHROMIUM, CHROMIUM_ARGS as ARGS, need_browser, running_server
+
 pytestmark = pytest.mark.browser
 
-CHROMIUM = "/usr/bin/chromium"
-ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
-        "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"]
-ROOT = Path(__file__).resolve().parents[2]
 WAIT = 90_000   # ms; a generous upper bound for a slow machine, not a speed check
-
-
-def _need_browser() -> None:
-    problem = None
-    if not Path(CHROMIUM).exists():
-        problem = f"{CHROMIUM} is not installed (apt-get install chromium)"
-    else:
-        try:
-            import playwright.sync_api  # noqa: F401
-        except ImportError:
-            problem = "the playwright Python package is not installed"
-    if problem:
-        if os.environ.get("CI"):
-            pytest.fail(f"{problem}; CI must run the browser tests.")
-        pytest.skip(f"{problem}; the browser tests run in CI.")
-
-
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return int(s.getsockname()[1])
 
 
 @pytest.fixture(scope="module")
 def server(tmp_path_factory: pytest.TempPathFactory, panel: Any) -> Iterator[str]:
     from core.sweep import parse_grid, run_sweep, save_sweep
 
-    _need_browser()
+    need_browser()
     ws = tmp_path_factory.mktemp("sweep-ws")
     grid = parse_grid({"study": {"min_breadth": 5, "n_quantiles": 4},
                        "vary": {"signal": ["earnings_yield", "dividend_yield"], "horizons": [1, 3],
                                 "sector_neutral": [False, True]}}, "browser-grid")
     save_sweep(run_sweep(panel, grid), ws / "sweeps" / "browser-sweep")
-    port = _free_port()
-    log = open(ws / "server.log", "w")
-    proc = subprocess.Popen([sys.executable, "-m", "app.cli", "serve", "--port", str(port), "--workspace", str(ws)],
-                            cwd=ROOT, stdout=log, stderr=subprocess.STDOUT)
-    base = f"http://127.0.0.1:{port}"
-    try:
-        end = time.monotonic() + 90
-        while True:
-            try:
-                urllib.request.urlopen(base + "/sweep", timeout=2).read()
-                break
-            except OSError:
-                if proc.poll() is not None or time.monotonic() > end:
-                    log.flush()
-                    pytest.fail("the server did not start: " + (ws / "server.log").read_text())
-                time.sleep(0.3)
+    with running_server(ws, ready_path="/sweep", start_timeout=90) as base:
         yield base
-    finally:
-        proc.terminate()
-        try:
-            proc.wait(timeout=20)
-        except subprocess.TimeoutExpired:
-            proc.kill()
-            proc.wait(timeout=20)
-        log.close()
 
 
 def test_sweep_table_sorts_and_a_click_opens_the_study(server: str) -> None:
