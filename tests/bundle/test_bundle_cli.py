@@ -11,19 +11,9 @@ import pytest
 
 from app.cli import main
 
-ROOT = Path(__file__).resolve().parents[2]
-SAMPLE = ROOT / "sample_data"
-DEMO_ARGS = [
-    "--prices", str(SAMPLE / "prices.csv"),
-    "--earnings", str(SAMPLE / "earnings.csv"),
-    "--dividends", str(SAMPLE / "dividends.csv"),
-    "--sectors", str(SAMPLE / "sectors.csv"),
-    "--holdings", str(SAMPLE / "holdings.csv"),
-    "--benchmark", str(SAMPLE / "benchmark.csv"),
-    "--exclude", "Maren All-Share",
-    "--confirm-split", "LUD24",
-    "--horizons", "1,3,12", "--quiet",
-]
+from tests.cli.test_cli import DEMO_ARGS as _DEMO_FILES
+
+DEMO_ARGS = [*_DEMO_FILES, "--horizons", "1,3,12", "--quiet"]
 
 
 def test_study_command_writes_the_bundle_beside_summary(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
