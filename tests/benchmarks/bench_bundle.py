@@ -1,10 +1,10 @@
 """Benchmark of the committee bundle on the demo study (not collected by pytest; no timed assertion).
 
-    .venv/bin/python tests/bundle/bench_bundle.py [--repeats 3] [--horizons 1,3,6,12,24,36]
+    .venv/bin/python tests/benchmarks/bench_bundle.py [--repeats 3] [--horizons 1,3,6,12,24,36]
 
 Prints the build time (median of the repeats, with the time to the first chart image and the PDF
 layout time taken from the build's own progress reports), the ZIP size and the load average, since
-a shared machine's load changes the numbers a lot.  Targets (issue 5): ZIP under 20 MB, build under 15 s.
+a shared machine's load changes the numbers a lot.  Targets: ZIP under 20 MB, build under 15 s.
 """
 
 from __future__ import annotations
@@ -26,8 +26,7 @@ def main() -> int:
     from app.bundle import find_browser, write_bundle
     from core.study import StudyConfig, run_study
 
-    sys.path.insert(0, str(Path(__file__).resolve().parent))
-    from conftest import load_demo  # the same demo panel as the tests
+    from tests.bundle.conftest import load_demo  # the same demo panel as the bundle tests
 
     ap = argparse.ArgumentParser()
     ap.add_argument("--repeats", type=int, default=3)
