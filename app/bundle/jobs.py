@@ -49,7 +49,8 @@ def get_export(job_id: str | None) -> ExportJob | None:
 
 
 def start_export(result: Any, panel: Any, folder: Path, study_key: str, *, study_name: str, title: str | None,
-                 note: str | None, include: Iterable[str] | None, horizon: int | None) -> ExportJob:
+                 note: str | None, include: Iterable[str] | None, horizon: int | None,
+                 sweep: Any | None = None) -> ExportJob:
     """Start building the bundle of ``result`` in a thread; returns the job at once."""
     job = ExportJob(id=uuid.uuid4().hex[:12], study_key=study_key)
     with _LOCK:
@@ -68,7 +69,7 @@ def start_export(result: Any, panel: Any, folder: Path, study_key: str, *, study
             name = bundle_name(study_name, result)
             paths = write_bundle(result, panel, None, out / "bundle", study_name=study_name, title=title, note=note,
                                  include=inc, progress=progress, horizon=horizon,
-                                 zip_path=out / "zip" / f"{name}.zip")
+                                 zip_path=out / "zip" / f"{name}.zip", sweep=sweep)
             job.paths = paths
             job.thumbnails = page_thumbnails(paths.folder / "report.pdf", paths.folder / "charts")
             job.status, job.stage, job.fraction = "done", "done", 1.0

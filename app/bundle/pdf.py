@@ -247,9 +247,14 @@ def build_pdf(data: ReportInput, path: Path) -> int:
     story.append(PageBreak())
 
     # -- charts ------------------------------------------------------------------------------
-    img_h = usable_h - 70
     for key, heading, picture, lines in data.charts:
-        block: list[Any] = [_p(heading, st["h1"])]
+        head = _p(heading, st["h1"])
+        reading = [_p(line, st["reading"]) for line in lines if line]
+        # The image takes what the heading and the reading leave of the page, so a longer
+        # reading shrinks the chart instead of spilling onto a page of its own.
+        taken = head.wrap(usable_w, usable_h)[1] + sum(r.wrap(usable_w, usable_h)[1] + 4 for r in reading)
+        img_h = max(usable_h * 0.4, usable_h - taken - 40)
+        block: list[Any] = [head]
         if picture is not None:
             block.append(_image(picture, usable_w, img_h))
         else:
@@ -257,9 +262,7 @@ def build_pdf(data: ReportInput, path: Path) -> int:
             block.append(Spacer(1, 8))
             block.append(_p(f"The interactive chart is charts/{key}.html in this bundle.", st["body"]))
         block.append(Spacer(1, 6))
-        for line in lines:
-            if line:
-                block.append(_p(line, st["reading"]))
+        block.extend(reading)
         story.append(KeepTogether(block))
         story.append(PageBreak())
 

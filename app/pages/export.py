@@ -30,7 +30,18 @@ def _browser_hint() -> Any:
     return None
 
 
+def _sweep_options() -> list[dict[str, str]]:
+    from app.pages.sweep import list_sweeps
+
+    try:
+        names = list_sweeps(state().workspace.root)
+    except Exception:  # outside a request (unit tests of the layout)
+        names = []
+    return [{"label": "no sweep", "value": ""}] + [{"label": f"sweep {n}", "value": n} for n in names]
+
+
 def layout(**_: Any) -> html.Div:
+    sweeps = _sweep_options()
     return html.Div(className="vs-page", children=[
         html.H1("Export the committee bundle"),
         html.P("One download for the investment committee: the PDF report, slide-ready images, interactive "
@@ -53,6 +64,9 @@ def layout(**_: Any) -> html.Div:
                                           options=[{"label": c.title, "value": c.key} for c in CHARTS])),
             field("Tables", dcc.Checklist(id=f"{P}-tables", value=list(TABLES),
                                           options=[{"label": f"{k}: {v}", "value": k} for k, v in TABLES.items()])),
+            field("A finished sweep to include (heat map, comparison table with adjusted columns)",
+                  dcc.Dropdown(id=f"{P}-sweep", options=sweeps, value="", clearable=False,
+                               disabled=len(sweeps) == 1)),
             html.Button("Build the bundle", id=f"{P}-build", n_clicks=0, className="vs-button"),
         ]),
         dcc.Store(id=f"{P}-build-job"),
@@ -102,11 +116,11 @@ def _study(job: Any, current: Any) -> Any:
     Input(f"{P}-build", "n_clicks"),
     State(f"{P}-job", "data"), State("vs-selection", "data"), State(f"{P}-name", "value"),
     State(f"{P}-title", "value"), State(f"{P}-note", "value"), State(f"{P}-horizon", "value"),
-    State(f"{P}-charts", "value"), State(f"{P}-tables", "value"),
+    State(f"{P}-charts", "value"), State(f"{P}-tables", "value"), State(f"{P}-sweep", "value"),
     prevent_initial_call=True,
 )
 def _build(n: Any, job: Any, sel: Any, name: Any, title: Any, note: Any, horizon: Any, charts: Any,
-           tables: Any) -> Any:
+           tables: Any, sweep_name: Any = None) -> Any:
     if not n:
         raise PreventUpdate
     res = _result(job)
@@ -117,11 +131,22 @@ def _build(n: Any, job: Any, sel: Any, name: Any, title: Any, note: Any, horizon
         panel = st.panel(normalise_selection(sel))
     except ValueSiftError as err:
         return no_update, True, True, alert(str(err)), False, None
+    sweep = None
+    if sweep_name:
+        from app.pages.sweep import list_sweeps, sweep_root
+        from core.sweep import load_sweep
+
+        if sweep_name not in list_sweeps(st.workspace.root):  # only listed folder names are ever read
+            return no_update, True, True, alert(f"No finished sweep named {sweep_name!r} in this workspace."), False, None
+        try:
+            sweep = load_sweep(sweep_root(st.workspace.root) / sweep_name)
+        except ValueSiftError as err:
+            return no_update, True, True, alert(str(err)), False, None
     include = [f"chart:{c}" for c in (charts or [])] + [f"table:{t}" for t in (tables or [])]
     ej = start_export(res, panel, st.workspace.root / "exports", str(job["key"]),
                       study_name=str(name or "study").strip() or "study", title=(title or "").strip() or None,
                       note=(note or "").strip() or None, include=include,
-                      horizon=int(horizon) if horizon in res.config.horizons else None)
+                      horizon=int(horizon) if horizon in res.config.horizons else None, sweep=sweep)
     return {"id": ej.id}, False, False, None, True, None
 
 
