@@ -26,7 +26,7 @@ from core.intake import PanelOptions, build_panel
 from core.panel import Panel
 from core.study import StudyConfig, StudyResult, run_study
 
-__all__ = ["AppState", "StudyJob", "Selection", "state", "normalise_selection", "LRU", "current_owner",
+__all__ = ["job_done", "finished_result", "AppState", "StudyJob", "Selection", "state", "normalise_selection", "LRU", "current_owner",
            "SESSION_COOKIE", "selection_key"]
 
 log = logging.getLogger("valuesift.app")
@@ -292,5 +292,15 @@ class AppState:
 def state() -> AppState:
     """The AppState of the Flask app serving the current request."""
     return flask.current_app.extensions["valuesift"]
+
+
+def job_done(job: Any) -> bool:
+    """Whether a page's job store (``{"key", "status", ...}``) holds a finished study."""
+    return isinstance(job, dict) and job.get("status") == "done"
+
+
+def finished_result(job: Any, st: "AppState | None" = None) -> StudyResult | None:
+    """The result of a page's finished study job, else None (running, failed or no job)."""
+    return (st or state()).result(job.get("key")) if job_done(job) else None
 
 

@@ -12,7 +12,7 @@ from app.figures.company import later_returns_figure, signal_history_figure
 from app.figures._common import message_figure
 from app.ids import decode_id
 from app.jobs_ui import job_components, register_job_callbacks
-from app.services import normalise_selection, state
+from app.services import finished_result, normalise_selection, state
 from core.evaluate.screen import SINGLE_NAME_CAUTION
 
 dash.register_page(__name__, path_template="/company/<code>", name="Company", nav=False, order=9,
@@ -55,7 +55,7 @@ register_job_callbacks(P)
     Input(f"{P}-job", "data"), State(f"{P}-horizon", "value"),
 )
 def _horizons(job: Any, current: Any) -> Any:
-    res = state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    res = finished_result(job)
     if res is None:
         return no_update, no_update
     hs = list(res.config.horizons)
@@ -70,7 +70,7 @@ def _horizons(job: Any, current: Any) -> Any:
 )
 def _company(job: Any, horizon: Any, security: Any, sel: Any) -> Any:
     st = state()
-    res = st.result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    res = finished_result(job, st)
     if res is None:
         if isinstance(job, dict) and job.get("status") in ("failed", "empty", "cancelled"):
             msg = message_figure("", "No study result: see the message above.")

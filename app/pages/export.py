@@ -14,7 +14,7 @@ from app.components.common import field
 from app.figures._common import span
 from app.figures.study import signal_label
 from app.jobs_ui import alert, job_components, register_job_callbacks
-from app.services import normalise_selection, state
+from app.services import finished_result, normalise_selection, state
 from core.errors import ValueSiftError
 
 dash.register_page(__name__, path="/export", name="Export", order=4, title="ValueSift - Export")
@@ -86,7 +86,7 @@ register_job_callbacks(P, controls_id=f"{P}-form")
 
 
 def _result(job: Any) -> Any:
-    return state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    return finished_result(job)
 
 
 @dash.callback(

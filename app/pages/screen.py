@@ -14,7 +14,7 @@ from app.figures._common import month
 from app.ids import company_path
 from app.jobs_ui import alert, job_components, register_job_callbacks
 from app.screen_table import COLUMNS, apply_filter, apply_sort, display_frame, page, to_csv_bytes, to_xlsx_bytes
-from app.services import LRU, state
+from app.services import LRU, finished_result, job_done, state
 from core.errors import ValueSiftError
 from core.evaluate.screen import screen_table
 
@@ -89,7 +89,7 @@ def _frame(key: str, date: str | None, holdings: bool) -> Any:
     Input(f"{P}-job", "data"), State(f"{P}-date", "value"),
 )
 def _dates(job: Any, current: Any) -> Any:
-    res = state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    res = finished_result(job)
     if res is None:
         return no_update, no_update
     has = res.signal_z.notna().any(axis=1)
@@ -107,7 +107,7 @@ def _dates(job: Any, current: Any) -> Any:
     prevent_initial_call="initial_duplicate",
 )
 def _table(job: Any, date: Any, scope: Any, current: Any, size: Any, sort_by: Any, query: Any) -> Any:
-    if not (isinstance(job, dict) and job.get("status") == "done"):
+    if not job_done(job):
         return [], 1, "", no_update
     try:
         df = _frame(job["key"], date, scope == "holdings")
@@ -145,7 +145,7 @@ def _open(cell: Any) -> Any:
     prevent_initial_call=True,
 )
 def _download(n_csv: Any, n_xlsx: Any, job: Any, date: Any, scope: Any, sort_by: Any, query: Any) -> Any:
-    if not (isinstance(job, dict) and job.get("status") == "done") or not (n_csv or n_xlsx):
+    if not job_done(job) or not (n_csv or n_xlsx):
         raise PreventUpdate
     df = _frame(job["key"], date, scope == "holdings")
     if df is None:

@@ -12,7 +12,7 @@ from app.figures import study as fs
 from app.figures._common import month
 from app.figures.cache import HORIZON_CHARTS, scatter_for, study_figures, warm_study
 from app.jobs_ui import job_components, register_job_callbacks
-from app.services import normalise_selection, state
+from app.services import finished_result, normalise_selection, state
 from app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES
 
 dash.register_page(__name__, path="/study", name="Study", order=1, title="ValueSift - Study")
@@ -151,7 +151,7 @@ def _choices(sel: Any) -> Any:
     Input(f"{P}-job", "data"), State(f"{P}-horizon", "value"),
 )
 def _horizons(job: Any, current: Any) -> Any:
-    res = state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    res = finished_result(job)
     if res is None:
         return no_update, no_update, no_update
     hs = list(res.config.horizons)
@@ -168,7 +168,7 @@ def _horizons(job: Any, current: Any) -> Any:
     Input(f"{P}-job", "data"), Input(f"{P}-horizon", "value"),
 )
 def _figures(job: Any, horizon: Any) -> Any:
-    res = state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    res = finished_result(job)
     if res is None:
         if isinstance(job, dict) and job.get("status") == "running":
             return (no_update,) * (len(_CHARTS) + 3)
@@ -190,7 +190,7 @@ def _figures(job: Any, horizon: Any) -> Any:
     Input(f"{P}-job", "data"), Input(f"{P}-horizon", "value"), Input(f"{P}-scatter-date", "value"),
 )
 def _scatter(job: Any, horizon: Any, date: Any) -> Any:
-    res = state().result(job.get("key")) if isinstance(job, dict) and job.get("status") == "done" else None
+    res = finished_result(job)
     if res is None:
         return no_update
     h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]

@@ -8,6 +8,8 @@ from pathlib import Path
 
 import pytest
 
+from tests.job_support import wait_for_job
+
 import app.services as services
 from app import jobs_ui
 from app.server import create_app
@@ -17,14 +19,7 @@ from core.errors import InsufficientDataError
 
 
 def _wait(st, key: str, limit: float = 120.0):  # type: ignore[no-untyped-def]
-    """Wait for a job to leave the running states (a generous limit; not a speed check)."""
-    end = time.monotonic() + limit
-    while time.monotonic() < end:
-        job = st.job(key)
-        if job is None or job.status not in ("queued", "running"):
-            return job
-        time.sleep(0.05)
-    pytest.fail("the study job did not finish")
+    return wait_for_job(st, key, limit)
 
 
 @pytest.fixture(scope="module")

@@ -7,12 +7,13 @@ returns nan for it): the IC of that date is missing, never 0.
 
 from __future__ import annotations
 
-import time
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 import pytest
+
+from tests.job_support import wait_for_job
 from scipy import stats
 
 from app import jobs_ui
@@ -79,13 +80,7 @@ def test_study_command_exits_2_with_a_message(case, files, tmp_path: Path, capsy
 
 
 def _wait(st, key: str, limit: float = 180.0):  # type: ignore[no-untyped-def]
-    end = time.monotonic() + limit
-    while time.monotonic() < end:
-        job = st.job(key)
-        if job is None or job.status not in ("queued", "running"):
-            return job
-        time.sleep(0.05)
-    pytest.fail("the study job did not finish")
+    return wait_for_job(st, key, limit)
 
 
 def _dashboard(tmp: Path, files: dict[str, Path], used: tuple[str, ...]):  # type: ignore[no-untyped-def]
