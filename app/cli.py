@@ -21,15 +21,15 @@ from collections.abc import Sequence
 
 __all__ = ["main", "build_parser", "CAUTION"]
 
-from app.caution import CAUTION
+from valuesift.app.caution import CAUTION
 
 log = logging.getLogger("valuesift")
 
 
 
 def build_parser() -> argparse.ArgumentParser:
-    from app import cli_commands as cmd
-    from app.cli_sweep import add_sweep
+    from valuesift.app import cli_commands as cmd
+    from valuesift.app.cli_sweep import add_sweep
 
     parser = argparse.ArgumentParser(
         prog="valuesift",
@@ -47,7 +47,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    from core.errors import ValueSiftError
+    from valuesift.core.errors import ValueSiftError
 
     parser = build_parser()
     args = parser.parse_args(argv)

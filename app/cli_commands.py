@@ -41,7 +41,7 @@ def _add_intake_options(p: argparse.ArgumentParser) -> None:
 
 
 def read_options_from_args(args: argparse.Namespace, kind: str | None = None, **extra: Any) -> Any:
-    from core.intake import ReadOptions
+    from valuesift.core.intake import ReadOptions
 
     return ReadOptions(
         kind=kind,  # type: ignore[arg-type]
@@ -58,7 +58,7 @@ def read_options_from_args(args: argparse.Namespace, kind: str | None = None, **
 
 
 def panel_options_from_args(args: argparse.Namespace) -> Any:
-    from core.intake import PanelOptions
+    from valuesift.core.intake import PanelOptions
 
     return PanelOptions(
         staleness_days=args.staleness_days,
@@ -82,7 +82,7 @@ def add_check(sub: Any) -> None:
 
 
 def _kind_overrides(pairs: list[str]) -> dict[str, str]:
-    from core.errors import ConfigError
+    from valuesift.core.errors import ConfigError
 
     out: dict[str, str] = {}
     for pair in pairs:
@@ -94,8 +94,8 @@ def _kind_overrides(pairs: list[str]) -> dict[str, str]:
 
 
 def run_check(args: argparse.Namespace) -> int:
-    from core.errors import IntakeError
-    from core.intake import build_panel, read_table
+    from valuesift.core.errors import IntakeError
+    from valuesift.core.intake import build_panel, read_table
 
     kinds = _kind_overrides(args.kind)
     parsed = []
@@ -143,7 +143,7 @@ def add_demo(sub: Any) -> None:
 
 
 def run_demo(args: argparse.Namespace) -> int:
-    from core.demo import write_demo
+    from valuesift.core.demo import write_demo
 
     kwargs = {} if args.seed is None else {"seed": args.seed}
     paths = write_demo(args.out, **kwargs)
@@ -171,7 +171,7 @@ def add_serve(sub: Any) -> None:
 
 
 def run_serve(args: argparse.Namespace) -> int:
-    from app.server import serve
+    from valuesift.app.server import serve
 
     return serve(
         host=args.host,
@@ -187,7 +187,7 @@ def run_serve(args: argparse.Namespace) -> int:
 
 # -- study ------------------------------------------------------------------------
 def add_study(sub: Any) -> None:
-    from app.cli_study import add_study_arguments, run_study_command
+    from valuesift.app.cli_study import add_study_arguments, run_study_command
 
     p = sub.add_parser("study", help="run a study headless and write its results",
                        description="Run the same study as the dashboard and write summary.json and tables/.")

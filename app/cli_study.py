@@ -105,8 +105,8 @@ def add_study_arguments(p: argparse.ArgumentParser) -> None:
 
 def load_study_panel(args: argparse.Namespace) -> tuple[Any, list[dict[str, Any]]]:
     """Read every input file named on the command line and build the panel."""
-    from app.cli_commands import panel_options_from_args, read_options_from_args
-    from core.intake import build_panel, read_table
+    from valuesift.app.cli_commands import panel_options_from_args, read_options_from_args
+    from valuesift.core.intake import build_panel, read_table
 
     parsed = []
     for attr, kind in _FILE_ARGS:
@@ -129,7 +129,7 @@ def load_study_panel(args: argparse.Namespace) -> tuple[Any, list[dict[str, Any]
 
 
 def config_from_args(args: argparse.Namespace, panel: Any) -> Any:
-    from core.study import StudyConfig
+    from valuesift.core.study import StudyConfig
 
     signal = args.signal_kind
     if signal is None:
@@ -177,7 +177,7 @@ def _progress_printer(quiet: bool) -> Any:
 
 
 def run_study_command(args: argparse.Namespace) -> int:
-    from core.study import ic_by_date_frame, run_study, summary_dict
+    from valuesift.core.study import ic_by_date_frame, run_study, summary_dict
 
     show = _progress_printer(args.quiet)
     show("reading files", 0.0)
@@ -197,11 +197,11 @@ def run_study_command(args: argparse.Namespace) -> int:
     _print_headline(summary)
     print(f"Wrote {out / 'summary.json'} and {tables / 'ic_by_date.csv'}")
     if not getattr(args, "no_bundle", False):
-        from app.bundle import write_bundle
+        from valuesift.app.bundle import write_bundle
 
         sweep = None
         if getattr(args, "sweep", None):
-            from core.sweep import load_sweep
+            from valuesift.core.sweep import load_sweep
 
             sweep = load_sweep(args.sweep)
         paths = write_bundle(result, panel, inputs, out, study_name=args.name, title=getattr(args, "title", None),
@@ -214,7 +214,7 @@ def run_study_command(args: argparse.Namespace) -> int:
 
 
 def _print_headline(summary: dict[str, Any]) -> None:
-    from app.cli import CAUTION
+    from valuesift.app.cli import CAUTION
 
     rows = summary.get("horizons", {})
     print(f"{'horizon':>8} {'mean IC':>8} {'HAC t':>7} {'dates':>6} {'spread':>8} {'spread t':>8}")

@@ -24,8 +24,8 @@ __all__ = ["add_sweep", "run_sweep_command"]
 
 
 def add_sweep(sub: Any) -> None:
-    from app.cli_commands import _add_intake_options
-    from app.cli_study import add_input_file_arguments
+    from valuesift.app.cli_commands import _add_intake_options
+    from valuesift.app.cli_study import add_input_file_arguments
 
     p = sub.add_parser("sweep", help="run many studies from a grid file and compare them",
                        description="Cross the settings listed in a grid file (TOML), run every study on a Dask "
@@ -62,7 +62,7 @@ def _bar(quiet: bool) -> Any:
 
 
 def _client(args: argparse.Namespace, stack: ExitStack) -> Any:
-    from core.errors import ConfigError
+    from valuesift.core.errors import ConfigError
 
     try:
         from distributed import Client, LocalCluster
@@ -89,10 +89,10 @@ def _client(args: argparse.Namespace, stack: ExitStack) -> Any:
 
 
 def run_sweep_command(args: argparse.Namespace) -> int:
-    from app.cli import CAUTION
-    from app.cli_study import load_study_panel
-    from app.figures.sweep import sweep_heatmap_figure, write_heatmap
-    from core.sweep import read_grid, run_sweep, save_sweep
+    from valuesift.app.cli import CAUTION
+    from valuesift.app.cli_study import load_study_panel
+    from valuesift.app.figures.sweep import sweep_heatmap_figure, write_heatmap
+    from valuesift.core.sweep import read_grid, run_sweep, save_sweep
 
     grid = read_grid(args.grid)
     out = Path(args.out)

@@ -14,9 +14,9 @@ from typing import Any
 import dash
 from dash import Input, Output, State, dcc, html, no_update
 
-from app.services import normalise_selection, state
-from app.settings import config_from_settings
-from core.errors import ValueSiftError
+from valuesift.app.services import normalise_selection, state
+from valuesift.app.settings import config_from_settings
+from valuesift.core.errors import ValueSiftError
 
 __all__ = ["job_components", "register_job_callbacks", "alert"]
 

@@ -21,10 +21,10 @@ from typing import Any
 import dash
 import flask
 
-import app as _app_pkg
-from app import shell
-from app.services import AppState, selection_key
-from app.workspace import Workspace
+from valuesift import app as _app_pkg
+from valuesift.app import shell
+from valuesift.app.services import AppState, selection_key
+from valuesift.app.workspace import Workspace
 
 __all__ = ["create_app", "serve", "load_demo", "DEFAULT_WORKSPACE", "TOKEN_COOKIE", "assets_folder"]
 
@@ -48,9 +48,9 @@ def load_demo(ws: Workspace, folder: Path | None = None) -> list[str]:
     purpose; the demo reads it with that column excluded so the first study is
     clean (the Data page shows the choice and lets the user change it).
     """
-    from core.demo import write_demo
-    from core.demo.write import INDEX_COLUMN
-    from core.intake import ReadOptions
+    from valuesift.core.demo import write_demo
+    from valuesift.core.demo.write import INDEX_COLUMN
+    from valuesift.core.intake import ReadOptions
 
     folder = Path(folder) if folder is not None else ws.root / "demo-files"
     if not (folder / "prices.csv").exists():
@@ -99,7 +99,7 @@ _SESSION_RE = re.compile(r"^[0-9a-f]{32}$")
 
 def _install_sessions(server: flask.Flask) -> None:
     """Give every browser a random session id (an http-only cookie) that scopes its datasets."""
-    from app.services import SESSION_COOKIE
+    from valuesift.app.services import SESSION_COOKIE
 
     @server.before_request
     def _session() -> None:
@@ -143,12 +143,12 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
     # Page modules are executed by Dash for each app; drop callbacks left by an earlier import.
     _callback.GLOBAL_CALLBACK_LIST.clear()
     _callback.GLOBAL_CALLBACK_MAP.clear()
-    server = flask.Flask("valuesift")
+    server = flask.Flask("valuesift", root_path=str(_APP_DIR))
     max_bytes = int(max_upload_mb * 1024 * 1024)
     # Uploads travel base64-encoded inside a JSON callback body (4/3 larger, plus framing).
     server.config["MAX_CONTENT_LENGTH"] = int(max_bytes * 4 / 3) + 256 * 1024
     app = dash.Dash(
-        "app",
+        "valuesift.app",
         server=server,
         use_pages=True,
         pages_folder=str(_APP_DIR / "pages"),
@@ -191,8 +191,8 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
 
 def _warm(st: AppState) -> None:
     """Start the default study in the background so the demo's Study page is ready at once."""
-    from app.settings import config_from_settings
-    from app.services import normalise_selection
+    from valuesift.app.settings import config_from_settings
+    from valuesift.app.services import normalise_selection
 
     sel = normalise_selection(st.workspace.get_setting("selection", {}))
     try:
@@ -210,7 +210,7 @@ def serve(host: str = "127.0.0.1", port: int = 8750, demo: bool = False, workspa
     and requires an access token on every request (``token`` or one made with
     :mod:`secrets`).
     """
-    from core.errors import ConfigError
+    from valuesift.core.errors import ConfigError
 
     remote = not _is_loopback(host)
     if remote and not allow_remote:

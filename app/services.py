@@ -20,11 +20,11 @@ from typing import Any
 import flask
 from flask_caching import Cache
 
-from app.workspace import Workspace, options_to_dict
-from core.errors import ValueSiftError
-from core.intake import PanelOptions, build_panel
-from core.panel import Panel
-from core.study import StudyConfig, StudyResult, run_study
+from valuesift.app.workspace import Workspace, options_to_dict
+from valuesift.core.errors import ValueSiftError
+from valuesift.core.intake import PanelOptions, build_panel
+from valuesift.core.panel import Panel
+from valuesift.core.study import StudyConfig, StudyResult, run_study
 
 __all__ = ["job_done", "finished_result", "AppState", "StudyJob", "Selection", "state", "normalise_selection", "LRU", "current_owner",
            "SESSION_COOKIE", "selection_key"]

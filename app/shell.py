@@ -7,7 +7,7 @@ from typing import Any
 import dash
 from dash import Input, Output, State, dcc, html
 
-from app.caution import CAUTION
+from valuesift.app.caution import CAUTION
 
 __all__ = ["layout", "register_shell_callbacks", "nav_links"]
 
@@ -58,7 +58,7 @@ def register_shell_callbacks(app: dash.Dash) -> None:
         State("vs-selection", "data"),
     )
     def _boot(_path: str | None, sel: Any) -> Any:
-        from app.services import current_owner, normalise_selection, selection_key, state
+        from valuesift.app.services import current_owner, normalise_selection, selection_key, state
 
         st = state()
         if isinstance(sel, dict) and sel.get("instance") == st.instance:

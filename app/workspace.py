@@ -44,9 +44,9 @@ from typing import Any, Callable, Iterator
 
 import pandas as pd
 
-from core.errors import IntakeError, Reason, ValueSiftError
-from core.intake import ParsedFile, ReadOptions, read_table
-from core.intake.report import FileReport
+from valuesift.core.errors import IntakeError, Reason, ValueSiftError
+from valuesift.core.intake import ParsedFile, ReadOptions, read_table
+from valuesift.core.intake.report import FileReport
 
 __all__ = ["DatasetRecord", "Workspace", "options_to_dict", "options_from_dict", "report_to_dict",
            "report_from_dict", "atomic_write_bytes"]

@@ -13,11 +13,11 @@ from typing import TYPE_CHECKING, Any, Callable, TypeVar
 import numpy as np
 import pandas as pd
 
-from core.backtest import run_backtest
-from core.errors import ConfigError, InsufficientDataError
-from core.evaluate.famamacbeth import fm_slopes
-from core.evaluate.ic import _ic_and_slope, ic_by_date, ic_summary, rolling_ic
-from core.evaluate.quantiles import (
+from valuesift.core.backtest import run_backtest
+from valuesift.core.errors import ConfigError, InsufficientDataError
+from valuesift.core.evaluate.famamacbeth import fm_slopes
+from valuesift.core.evaluate.ic import _ic_and_slope, ic_by_date, ic_summary, rolling_ic
+from valuesift.core.evaluate.quantiles import (
     _fast_means,
     _quantile_index,
     _quantile_masks,
@@ -25,9 +25,9 @@ from core.evaluate.quantiles import (
     monotonicity,
     quantile_turnover,
 )
-from core.panel import Panel, month_end_index
-from core.returns import excess_returns, forward_returns, level_forward_returns, monthly_returns, price_track
-from core.signals import (
+from valuesift.core.panel import Panel, month_end_index
+from valuesift.core.returns import excess_returns, forward_returns, level_forward_returns, monthly_returns, price_track
+from valuesift.core.signals import (
     NO_SECTOR,
     RawSignal,
     base_universe,
@@ -41,10 +41,10 @@ from core.signals import (
     sector_zscore,
     standardise,
 )
-from core.stats import annualise, average_ranks, hac_lags, mean_inference, row_mean
+from valuesift.core.stats import annualise, average_ranks, hac_lags, mean_inference, row_mean
 
 if TYPE_CHECKING:  # pragma: no cover
-    from core.study import StudyConfig
+    from valuesift.core.study import StudyConfig
 
 __all__ = ["compute_study"]
 

@@ -33,7 +33,7 @@ import numpy as np
 import pandas as pd
 
 if TYPE_CHECKING:  # pragma: no cover
-    from core.intake.report import IntakeReport
+    from valuesift.core.intake.report import IntakeReport
 
 __all__ = ["Panel", "UserSignal", "month_end_index"]
 

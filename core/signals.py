@@ -12,10 +12,10 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from core._typing import OutlierRule, SmallSectorRule, ZScoreMethod
-from core.errors import ConfigError
-from core.panel import Panel
-from core.stats import clip_robust_rows, winsorise_rows, zscore_rows
+from valuesift.core._typing import OutlierRule, SmallSectorRule, ZScoreMethod
+from valuesift.core.errors import ConfigError
+from valuesift.core.panel import Panel
+from valuesift.core.stats import clip_robust_rows, winsorise_rows, zscore_rows
 
 __all__ = [
     "NO_SECTOR",

@@ -11,7 +11,7 @@ import math
 
 import numpy as np
 
-from core._typing import HacLagRule, ZScoreMethod
+from valuesift.core._typing import HacLagRule, ZScoreMethod
 
 __all__ = [
     "MAD_SCALE",

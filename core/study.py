@@ -22,7 +22,7 @@ from typing import Any, Callable, get_args
 import numpy as np
 import pandas as pd
 
-from core._typing import (
+from valuesift.core._typing import (
     ComparisonRule,
     DividendTreatment,
     ExcessOver,
@@ -32,10 +32,10 @@ from core._typing import (
     UniverseRule,
     ZScoreMethod,
 )
-from core.backtest import BacktestResult
-from core.errors import ConfigError
-from core.evaluate.summary import ic_by_date_frame, summary_dict
-from core.panel import Panel
+from valuesift.core.backtest import BacktestResult
+from valuesift.core.errors import ConfigError
+from valuesift.core.evaluate.summary import ic_by_date_frame, summary_dict
+from valuesift.core.panel import Panel
 
 __all__ = [
     "StudyConfig",
@@ -415,8 +415,8 @@ def run_study(
     Fama & MacBeth (1973), JPE 81(3); Newey & West (1987), Econometrica 55(3);
     Jegadeesh & Titman (1993), J. Finance 48(1).
     """
-    from core._study_steps import compute_study
-    from core.evaluate.screen import screen_table
+    from valuesift.core._study_steps import compute_study
+    from valuesift.core.evaluate.screen import screen_table
 
     if not isinstance(config, StudyConfig):
         raise ConfigError("run_study needs a StudyConfig.", hint="Build one with StudyConfig(...).")

@@ -1,6 +1,6 @@
 """Shared support of the browser tests: Debian's chromium, a server on a free loopback port.
 
-The server is the real ``python -m app.cli serve`` in a subprocess, bound to
+The server is the real ``python -m valuesift.app.cli serve`` in a subprocess, bound to
 127.0.0.1, and it is always stopped at the end (terminate, then kill).
 """
 
@@ -57,7 +57,7 @@ def running_server(workspace: Path, *, ready_path: str = "/data", extra: Sequenc
     port = free_port()
     log_path = workspace / "server.log"
     log = open(log_path, "w")
-    proc = subprocess.Popen([sys.executable, "-m", "app.cli", "serve", *extra, "--port", str(port),
+    proc = subprocess.Popen([sys.executable, "-m", "valuesift.app.cli", "serve", *extra, "--port", str(port),
                              "--workspace", str(workspace)], cwd=ROOT, stdout=log, stderr=subprocess.STDOUT)
     base = f"http://127.0.0.1:{port}"
     try:

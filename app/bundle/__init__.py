@@ -12,9 +12,9 @@ Public API::
 
 from __future__ import annotations
 
-from app.bundle.build import INCLUDE_CHOICES, BundlePaths, bundle_name, default_horizon, write_bundle
-from app.bundle.charts import CHART_KEYS, CHARTS, NO_BROWSER_HINT, find_browser
-from app.bundle.tables import TABLE_KEYS, TABLES
+from valuesift.app.bundle.build import INCLUDE_CHOICES, BundlePaths, bundle_name, default_horizon, write_bundle
+from valuesift.app.bundle.charts import CHART_KEYS, CHARTS, NO_BROWSER_HINT, find_browser
+from valuesift.app.bundle.tables import TABLE_KEYS, TABLES
 
 __all__ = ["write_bundle", "BundlePaths", "INCLUDE_CHOICES", "bundle_name", "default_horizon", "find_browser",
            "NO_BROWSER_HINT", "CHARTS", "CHART_KEYS", "TABLES", "TABLE_KEYS"]

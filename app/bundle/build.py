@@ -20,14 +20,14 @@ from typing import Any, Callable, Iterable, Sequence
 
 import pandas as pd
 
-from app.bundle import charts as bc
-from app.bundle import tables as bt
-from app.bundle.content import report_input
-from app.bundle.text import sweep_reading
-from app.bundle.pdf import build_pdf
-from app.caution import CAUTION
-from core.errors import ConfigError
-from core.study import StudyResult, summary_dict
+from valuesift.app.bundle import charts as bc
+from valuesift.app.bundle import tables as bt
+from valuesift.app.bundle.content import report_input
+from valuesift.app.bundle.text import sweep_reading
+from valuesift.app.bundle.pdf import build_pdf
+from valuesift.app.caution import CAUTION
+from valuesift.core.errors import ConfigError
+from valuesift.core.study import StudyResult, summary_dict
 
 __all__ = ["BundlePaths", "write_bundle", "bundle_name", "default_horizon", "INCLUDE_CHOICES", "merge_inputs"]
 
@@ -289,7 +289,7 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
 
 
 def _tool_version() -> str:
-    import core
+    from valuesift import core
 
     return str(core.__version__)
 

@@ -20,13 +20,13 @@ from typing import Any, Callable
 
 import plotly.graph_objects as go
 
-from app.browser import find_browser
+from valuesift.app.browser import find_browser
 
-from app.figures import backtest as fb
-from app.figures._common import wrap
-from app.figures import data as fd
-from app.figures import study as fs
-from core.study import StudyResult
+from valuesift.app.figures import backtest as fb
+from valuesift.app.figures._common import wrap
+from valuesift.app.figures import data as fd
+from valuesift.app.figures import study as fs
+from valuesift.core.study import StudyResult
 
 __all__ = ["ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
            "plotly_js_path", "find_browser", "NO_BROWSER_HINT", "RenderOutcome", "RenderJob", "start_render", "print_jpeg"]
@@ -76,7 +76,7 @@ SWEEP_SPEC = ChartSpec(SWEEP_KEY, SWEEP_TITLE, lambda r, h, p: go.Figure(), Fals
 
 def sweep_figure(sweep: Any) -> go.Figure:
     """The dashboard's sweep heat map with the same slide layout as every other chart."""
-    from app.figures.sweep import sweep_heatmap_figure
+    from valuesift.app.figures.sweep import sweep_heatmap_figure
 
     fig = sweep_heatmap_figure(sweep)
     fig.update_layout(width=SLIDE["width"], height=SLIDE["height"], autosize=False)

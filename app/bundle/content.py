@@ -8,14 +8,14 @@ from typing import Any, Sequence
 import numpy as np
 import pandas as pd
 
-import core
-from app.bundle.charts import CHARTS
-from app.bundle.pdf import ReportInput
-from app.bundle.text import CHART_READINGS, headline_sentences, share_word, signal_definition, universe_words
-from app.caution import CAUTION
-from app.figures._common import fmt_num, fmt_pct, span
-from app.figures.study import return_label, signal_label
-from core.study import StudyResult
+from valuesift import core
+from valuesift.app.bundle.charts import CHARTS
+from valuesift.app.bundle.pdf import ReportInput
+from valuesift.app.bundle.text import CHART_READINGS, headline_sentences, share_word, signal_definition, universe_words
+from valuesift.app.caution import CAUTION
+from valuesift.app.figures._common import fmt_num, fmt_pct, span
+from valuesift.app.figures.study import return_label, signal_label
+from valuesift.core.study import StudyResult
 
 __all__ = ["report_input", "summary_rows", "screen_frames"]
 

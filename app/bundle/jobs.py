@@ -17,8 +17,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Iterable
 
-from app.bundle.build import BundlePaths, bundle_name, write_bundle
-from core.errors import ValueSiftError
+from valuesift.app.bundle.build import BundlePaths, bundle_name, write_bundle
+from valuesift.core.errors import ValueSiftError
 
 __all__ = ["ExportJob", "start_export", "get_export", "page_thumbnails"]
 

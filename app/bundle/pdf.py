@@ -182,7 +182,7 @@ def _image(image: bytes, max_w: float, max_h: float) -> Image:
     from PIL import Image as PILImage
 
     if image[:8] == b"\x89PNG\r\n\x1a\n":
-        from app.bundle.charts import print_jpeg
+        from valuesift.app.bundle.charts import print_jpeg
 
         image = print_jpeg(image)
     with PILImage.open(io.BytesIO(image)) as im:

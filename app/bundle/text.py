@@ -14,8 +14,8 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from app.figures._common import fmt_num, fmt_pct, month, span
-from core.study import StudyResult
+from valuesift.app.figures._common import fmt_num, fmt_pct, month, span
+from valuesift.core.study import StudyResult
 
 __all__ = [
     "verdict",

@@ -6,8 +6,8 @@ from typing import Any
 
 from dash import dcc, html
 
-from app.components.common import text_table
-from app.workspace import DatasetRecord
+from valuesift.app.components.common import text_table
+from valuesift.app.workspace import DatasetRecord
 
 __all__ = ["dataset_card", "card_order", "KIND_OPTIONS", "options_from_controls"]
 

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
-from app.figures.theme import MUTED, TEMPLATE_NAME
+from valuesift.app.figures.theme import MUTED, TEMPLATE_NAME
 
 __all__ = ["wrap", "month", "span", "fmt_t", "fmt_num", "fmt_pct", "base_figure", "message_figure", "finite_dates"]
 

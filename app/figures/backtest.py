@@ -6,9 +6,9 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
-from app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, message_figure, span
-from app.figures.theme import CHEAP, SERIES
-from core.study import StudyResult
+from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, message_figure, span
+from valuesift.app.figures.theme import CHEAP, SERIES
+from valuesift.core.study import StudyResult
 
 __all__ = ["PORTFOLIO_LABELS", "growth_figure", "drawdown_figure", "cohort_figure", "stats_text"]
 

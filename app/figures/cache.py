@@ -16,8 +16,8 @@ from typing import Any
 
 import plotly.graph_objects as go
 
-from app.figures import backtest as fb
-from app.figures import study as fs
+from valuesift.app.figures import backtest as fb
+from valuesift.app.figures import study as fs
 
 __all__ = ["STUDY_CHARTS", "HORIZON_CHARTS", "study_figures", "scatter_for", "warm_study", "clear"]
 

@@ -8,11 +8,11 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
-from app.figures._common import base_figure, finite_dates, fmt_num, fmt_t, message_figure, month, span
-from app.figures.study import return_label, signal_label
-from app.figures.theme import CHEAP, DEAR, MUTED, diverging
-from core.evaluate.screen import security_history
-from core.study import StudyResult
+from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_t, message_figure, month, span
+from valuesift.app.figures.study import return_label, signal_label
+from valuesift.app.figures.theme import CHEAP, DEAR, MUTED, diverging
+from valuesift.core.evaluate.screen import security_history
+from valuesift.core.study import StudyResult
 
 __all__ = ["signal_history_figure", "later_returns_figure"]
 

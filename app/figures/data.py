@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import plotly.graph_objects as go
 
-from app.figures._common import base_figure, message_figure, span
-from app.figures.theme import CHEAP, GRID
-from core.panel import Panel
+from valuesift.app.figures._common import base_figure, message_figure, span
+from valuesift.app.figures.theme import CHEAP, GRID
+from valuesift.core.panel import Panel
 
 __all__ = ["coverage_figure"]
 

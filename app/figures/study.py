@@ -12,9 +12,9 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
-from app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, fmt_t, message_figure, month, span
-from app.figures.theme import CHEAP, MUTED, SERIES, diverging
-from core.study import StudyResult
+from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, fmt_t, message_figure, month, span
+from valuesift.app.figures.theme import CHEAP, MUTED, SERIES, diverging
+from valuesift.core.study import StudyResult
 
 __all__ = [
     "signal_label",

@@ -10,10 +10,10 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
-from app.browser import find_browser
+from valuesift.app.browser import find_browser
 
-from app.figures._common import base_figure, message_figure
-from app.figures.theme import CHEAP, DEAR, NEUTRAL
+from valuesift.app.figures._common import base_figure, message_figure
+from valuesift.app.figures.theme import CHEAP, DEAR, NEUTRAL
 
 __all__ = ["heatmap_cells", "sweep_heatmap_figure", "write_heatmap"]
 

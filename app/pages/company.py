@@ -7,13 +7,13 @@ from typing import Any
 import dash
 from dash import Input, Output, State, dcc, html, no_update
 
-from app.components.common import GRAPH_CONFIG, text_table
-from app.figures.company import later_returns_figure, signal_history_figure
-from app.figures._common import message_figure
-from app.ids import decode_id
-from app.jobs_ui import job_components, register_job_callbacks
-from app.services import finished_result, normalise_selection, state
-from core.evaluate.screen import SINGLE_NAME_CAUTION
+from valuesift.app.components.common import GRAPH_CONFIG, text_table
+from valuesift.app.figures.company import later_returns_figure, signal_history_figure
+from valuesift.app.figures._common import message_figure
+from valuesift.app.ids import decode_id
+from valuesift.app.jobs_ui import job_components, register_job_callbacks
+from valuesift.app.services import finished_result, normalise_selection, state
+from valuesift.core.evaluate.screen import SINGLE_NAME_CAUTION
 
 dash.register_page(__name__, path_template="/company/<code>", name="Company", nav=False, order=9,
                    title="ValueSift - Company")

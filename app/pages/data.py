@@ -10,13 +10,13 @@ import dash
 from dash import ALL, Input, Output, State, ctx, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
-from app.components.common import GRAPH_CONFIG, text_table
-from app.components.intake_view import card_order, dataset_card, options_from_controls
-from app.figures.data import coverage_figure
-from app.jobs_ui import alert
-from app.services import current_owner, normalise_selection, selection_key, state
-from core.errors import ValueSiftError
-from core.intake import ReadOptions
+from valuesift.app.components.common import GRAPH_CONFIG, text_table
+from valuesift.app.components.intake_view import card_order, dataset_card, options_from_controls
+from valuesift.app.figures.data import coverage_figure
+from valuesift.app.jobs_ui import alert
+from valuesift.app.services import current_owner, normalise_selection, selection_key, state
+from valuesift.core.errors import ValueSiftError
+from valuesift.core.intake import ReadOptions
 
 dash.register_page(__name__, path="/data", name="Data", order=0, title="ValueSift - Data")
 
@@ -247,7 +247,7 @@ def _use(values: Any, ids: Any, sel_raw: Any) -> Any:
     Input("vs-selection", "data"), Input(f"{P}-version", "data"),
 )
 def _panel_view(sel_raw: Any, _v: Any) -> Any:
-    from app.figures._common import message_figure
+    from valuesift.app.figures._common import message_figure
 
     st = state()
     sel = normalise_selection(sel_raw)

@@ -8,14 +8,14 @@ import dash
 from dash import Input, Output, State, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
-from app.bundle import CHARTS, NO_BROWSER_HINT, TABLES, default_horizon, find_browser
-from app.bundle.jobs import get_export, start_export
-from app.components.common import field
-from app.figures._common import span
-from app.figures.study import signal_label
-from app.jobs_ui import alert, job_components, register_job_callbacks
-from app.services import finished_result, normalise_selection, state
-from core.errors import ValueSiftError
+from valuesift.app.bundle import CHARTS, NO_BROWSER_HINT, TABLES, default_horizon, find_browser
+from valuesift.app.bundle.jobs import get_export, start_export
+from valuesift.app.components.common import field
+from valuesift.app.figures._common import span
+from valuesift.app.figures.study import signal_label
+from valuesift.app.jobs_ui import alert, job_components, register_job_callbacks
+from valuesift.app.services import finished_result, normalise_selection, state
+from valuesift.core.errors import ValueSiftError
 
 dash.register_page(__name__, path="/export", name="Export", order=4, title="ValueSift - Export")
 
@@ -31,7 +31,7 @@ def _browser_hint() -> Any:
 
 
 def _sweep_options() -> list[dict[str, str]]:
-    from app.pages.sweep import list_sweeps
+    from valuesift.app.pages.sweep import list_sweeps
 
     try:
         names = list_sweeps(state().workspace.root)
@@ -133,8 +133,8 @@ def _build(n: Any, job: Any, sel: Any, name: Any, title: Any, note: Any, horizon
         return no_update, True, True, alert(str(err)), False, None
     sweep = None
     if sweep_name:
-        from app.pages.sweep import list_sweeps, sweep_root
-        from core.sweep import load_sweep
+        from valuesift.app.pages.sweep import list_sweeps, sweep_root
+        from valuesift.core.sweep import load_sweep
 
         if sweep_name not in list_sweeps(st.workspace.root):  # only listed folder names are ever read
             return no_update, True, True, alert(f"No finished sweep named {sweep_name!r} in this workspace."), False, None

@@ -10,13 +10,13 @@ from dash.dash_table import FormatTemplate
 from dash.dash_table.Format import Format, Scheme
 from dash.exceptions import PreventUpdate
 
-from app.figures._common import month
-from app.ids import company_path
-from app.jobs_ui import alert, job_components, register_job_callbacks
-from app.screen_table import COLUMNS, apply_filter, apply_sort, display_frame, page, to_csv_bytes, to_xlsx_bytes
-from app.services import LRU, finished_result, job_done, state
-from core.errors import ValueSiftError
-from core.evaluate.screen import screen_table
+from valuesift.app.figures._common import month
+from valuesift.app.ids import company_path
+from valuesift.app.jobs_ui import alert, job_components, register_job_callbacks
+from valuesift.app.screen_table import COLUMNS, apply_filter, apply_sort, display_frame, page, to_csv_bytes, to_xlsx_bytes
+from valuesift.app.services import LRU, finished_result, job_done, state
+from valuesift.core.errors import ValueSiftError
+from valuesift.core.evaluate.screen import screen_table
 
 dash.register_page(__name__, path="/screen", name="Screen", order=2, title="ValueSift - Screen")
 

@@ -7,13 +7,13 @@ from typing import Any
 import dash
 from dash import Input, Output, State, dcc, html, no_update
 
-from app.components.common import chart, field, panel_choices
-from app.figures import study as fs
-from app.figures._common import month
-from app.figures.cache import HORIZON_CHARTS, scatter_for, study_figures, warm_study
-from app.jobs_ui import job_components, register_job_callbacks
-from app.services import finished_result, normalise_selection, state
-from app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES
+from valuesift.app.components.common import chart, field, panel_choices
+from valuesift.app.figures import study as fs
+from valuesift.app.figures._common import month
+from valuesift.app.figures.cache import HORIZON_CHARTS, scatter_for, study_figures, warm_study
+from valuesift.app.jobs_ui import job_components, register_job_callbacks
+from valuesift.app.services import finished_result, normalise_selection, state
+from valuesift.app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES
 
 dash.register_page(__name__, path="/study", name="Study", order=1, title="ValueSift - Study")
 
@@ -71,7 +71,7 @@ def _controls(d: dict[str, Any] = _D, persist: dict[str, Any] = _PERSIST) -> htm
 def layout(**query: Any) -> html.Div:
     # Hook for the Sweep page: /study?sweep=NAME&point=ID opens that sweep configuration's settings
     # (own persistence key, so values kept from earlier visits do not override them).
-    from app.pages.sweep import settings_from_query
+    from valuesift.app.pages.sweep import settings_from_query
 
     opened = settings_from_query(state().workspace.root, query) if query.get("sweep") else None
     return html.Div(className="vs-page vs-two-col", children=[

@@ -18,7 +18,7 @@ from urllib.parse import urlencode
 import dash
 from dash import Input, Output, State, dash_table, dcc, html, no_update
 
-from app.services import normalise_selection, state
+from valuesift.app.services import normalise_selection, state
 
 dash.register_page(__name__, path="/sweep", name="Sweep", order=3, title="ValueSift - Sweep")
 
@@ -52,7 +52,7 @@ def list_sweeps(workspace_root: Path) -> list[str]:
 
 
 def _load(workspace_root: Path, name: Any) -> Any:
-    from core.sweep import load_sweep
+    from valuesift.core.sweep import load_sweep
 
     names = list_sweeps(workspace_root)
     if not isinstance(name, str) or name not in names:  # only folders we listed: no path from the browser
@@ -88,8 +88,8 @@ def study_settings(config: dict[str, Any]) -> tuple[dict[str, Any], list[str]]:
     ``app.settings.DEFAULT_SETTINGS``; ``not_shown`` names the configuration's
     settings that differ from the defaults but have no control on the Study page.
     """
-    from app.settings import DEFAULT_SETTINGS
-    from core.study import StudyConfig
+    from valuesift.app.settings import DEFAULT_SETTINGS
+    from valuesift.core.study import StudyConfig
 
     s = dict(DEFAULT_SETTINGS)
     for k in s:
@@ -151,7 +151,7 @@ def layout(**_: Any) -> html.Div:
     Input(f"{P}-pick", "value"), State("vs-selection", "data"),
 )
 def _show(name: Any, sel: Any) -> Any:
-    from app.figures.sweep import sweep_heatmap_figure
+    from valuesift.app.figures.sweep import sweep_heatmap_figure
 
     st = state()
     res = _load(st.workspace.root, name)
@@ -164,7 +164,7 @@ def _show(name: Any, sel: Any) -> Any:
 
 
 def _data_note(st: Any, sel: Any, res: Any) -> str:
-    from core.sweep import panel_fingerprint
+    from valuesift.core.sweep import panel_fingerprint
 
     try:
         sel = normalise_selection(sel)

@@ -8,16 +8,16 @@ relation between cheapness (earnings yield) and next month's total return.
 
 from __future__ import annotations
 
-from core.demo._constants import DEFAULT_SEED
-from core.demo.simulate import DemoMarket, DemoRoles, DividendEvent, simulate_demo
-from core.demo.truth import (
+from valuesift.core.demo._constants import DEFAULT_SEED
+from valuesift.core.demo.simulate import DemoMarket, DemoRoles, DividendEvent, simulate_demo
+from valuesift.core.demo.truth import (
     DEMO_TRUTH,
     expected_spearman_ic,
     horizon_ic_approx,
     ic_standard_error,
     spearman_from_pearson,
 )
-from core.demo.write import write_demo
+from valuesift.core.demo.write import write_demo
 
 __all__ = [
     "DEFAULT_SEED",

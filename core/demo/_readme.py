@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats
 
-from core.demo import _constants as C
-from core.demo.simulate import DemoMarket
-from core.demo.truth import DEMO_TRUTH, expected_spearman_ic, horizon_ic_approx, ic_standard_error
+from valuesift.core.demo import _constants as C
+from valuesift.core.demo.simulate import DemoMarket
+from valuesift.core.demo.truth import DEMO_TRUTH, expected_spearman_ic, horizon_ic_approx, ic_standard_error
 
 __all__ = ["readme_text", "monthly_spearman_ic", "z_autocorrelation"]
 

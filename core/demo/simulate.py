@@ -15,9 +15,9 @@ from dataclasses import dataclass
 import numpy as np
 import numpy.typing as npt
 
-from core.demo import _constants as C
-from core.demo._names import invent_names
-from core.errors import ConfigError
+from valuesift.core.demo import _constants as C
+from valuesift.core.demo._names import invent_names
+from valuesift.core.errors import ConfigError
 
 __all__ = ["DemoMarket", "DemoRoles", "DividendEvent", "simulate_demo", "month_end_dates"]
 

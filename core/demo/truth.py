@@ -16,8 +16,8 @@ import math
 from collections.abc import Mapping, Sequence
 from types import MappingProxyType
 
-from core.demo._constants import GAMMA, IDIO_SD, MARKET_MEAN, MARKET_SD, RHO, SECTOR_SD
-from core.errors import ConfigError
+from valuesift.core.demo._constants import GAMMA, IDIO_SD, MARKET_MEAN, MARKET_SD, RHO, SECTOR_SD
+from valuesift.core.errors import ConfigError
 
 __all__ = [
     "DEMO_TRUTH",

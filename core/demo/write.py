@@ -17,10 +17,10 @@ from collections.abc import Iterable, Sequence
 
 import numpy as np
 
-from core.demo import _constants as C
-from core.demo._readme import readme_text
-from core.demo.simulate import MESS_STREAM, DemoMarket, _stream, simulate_demo
-from core.errors import ConfigError
+from valuesift.core.demo import _constants as C
+from valuesift.core.demo._readme import readme_text
+from valuesift.core.demo.simulate import MESS_STREAM, DemoMarket, _stream, simulate_demo
+from valuesift.core.errors import ConfigError
 
 __all__ = [
     "write_demo",

@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
-from core.evaluate.famamacbeth import fm_slopes
-from core.evaluate.ic import ic_by_date, ic_summary, rolling_ic
-from core.evaluate.quantiles import assign_quantiles, monotonicity, quantile_means, quantile_turnover
+from valuesift.core.evaluate.famamacbeth import fm_slopes
+from valuesift.core.evaluate.ic import ic_by_date, ic_summary, rolling_ic
+from valuesift.core.evaluate.quantiles import assign_quantiles, monotonicity, quantile_means, quantile_turnover
 
 __all__ = [
     "ic_by_date",

@@ -7,9 +7,9 @@ import math
 import numpy as np
 import pandas as pd
 
-from core._typing import HacLagRule
-from core.evaluate.famamacbeth import _slope_from_centred
-from core.stats import _masked_spearman, _pearson_parts, hac_lags, mean_inference
+from valuesift.core._typing import HacLagRule
+from valuesift.core.evaluate.famamacbeth import _slope_from_centred
+from valuesift.core.stats import _masked_spearman, _pearson_parts, hac_lags, mean_inference
 
 __all__ = ["ic_by_date", "ic_summary", "rolling_ic", "ROLLING_WINDOWS"]
 

@@ -7,11 +7,11 @@ from typing import TYPE_CHECKING
 import numpy as np
 import pandas as pd
 
-from core.errors import ConfigError
-from core.stats import zscore_rows
+from valuesift.core.errors import ConfigError
+from valuesift.core.stats import zscore_rows
 
 if TYPE_CHECKING:  # pragma: no cover
-    from core.study import StudyResult
+    from valuesift.core.study import StudyResult
 
 __all__ = ["screen_table", "security_history", "quantile_label", "SINGLE_NAME_CAUTION", "STALE_MONTHS",
            "STALE_EPS_MONTHS"]

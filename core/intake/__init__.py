@@ -12,11 +12,11 @@ Public API::
 
 from __future__ import annotations
 
-from core.intake.build import build_panel, load_files
-from core.intake.files import ParsedFile, read_table
-from core.intake.kinds import guess_kind
-from core.intake.options import PanelOptions, ReadOptions
-from core.intake.report import FileReport, IntakeReport
+from valuesift.core.intake.build import build_panel, load_files
+from valuesift.core.intake.files import ParsedFile, read_table
+from valuesift.core.intake.kinds import guess_kind
+from valuesift.core.intake.options import PanelOptions, ReadOptions
+from valuesift.core.intake.report import FileReport, IntakeReport
 
 __all__ = [
     "ReadOptions",

@@ -9,15 +9,15 @@ from typing import Callable, Sequence
 import numpy as np
 import pandas as pd
 
-from core.errors import IntakeError, Reason
-from core.intake import numbers as nb
-from core.intake.dates import parse_dates
-from core.intake.kinds import VALUE_WORDS
-from core.intake.numbers import detect_decimal, parse_numbers
-from core.intake.options import ReadOptions
-from core.intake.readers import Grid
-from core.intake.sniff import norm_name
-from core.intake.tally import Tally
+from valuesift.core.errors import IntakeError, Reason
+from valuesift.core.intake import numbers as nb
+from valuesift.core.intake.dates import parse_dates
+from valuesift.core.intake.kinds import VALUE_WORDS
+from valuesift.core.intake.numbers import detect_decimal, parse_numbers
+from valuesift.core.intake.options import ReadOptions
+from valuesift.core.intake.readers import Grid
+from valuesift.core.intake.sniff import norm_name
+from valuesift.core.intake.tally import Tally
 
 __all__ = ["clean_ids", "Ctx", "CODE_REASON", "NONPOS", "NEGAMT", "NODATE", "NOSEC", "DUP", "POSITIVE_KINDS",
            "find_column", "sample", "number_profile", "number_profiles", "date_profile", "decide_decimal",

@@ -7,7 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from core.panel import month_end_index
+from valuesift.core.panel import month_end_index
 
 __all__ = ["AlignResult", "month_calendar", "align_to_months", "LOW_FREQUENCIES"]
 

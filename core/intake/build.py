@@ -8,14 +8,14 @@ from typing import Mapping, Sequence
 import numpy as np
 import pandas as pd
 
-from core.errors import IntakeError, Reason
-from core.intake.align import align_to_months, month_calendar
-from core.intake.files import ParsedFile, read_table
-from core.intake.flags import security_table
-from core.intake.options import PanelOptions, ReadOptions
-from core.intake.report import IntakeReport
-from core.intake.splits import apply_split, detect_splits, shows_same_jump
-from core.panel import Panel, UserSignal, month_end_index
+from valuesift.core.errors import IntakeError, Reason
+from valuesift.core.intake.align import align_to_months, month_calendar
+from valuesift.core.intake.files import ParsedFile, read_table
+from valuesift.core.intake.flags import security_table
+from valuesift.core.intake.options import PanelOptions, ReadOptions
+from valuesift.core.intake.report import IntakeReport
+from valuesift.core.intake.splits import apply_split, detect_splits, shows_same_jump
+from valuesift.core.panel import Panel, UserSignal, month_end_index
 
 __all__ = ["build_panel", "load_files"]
 

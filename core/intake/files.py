@@ -8,12 +8,12 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from core._typing import FileKind
-from core.errors import IntakeError, Reason
-from core.intake.options import ReadOptions
-from core.intake.readers import read_grid
-from core.intake.report import FileReport
-from core.intake.tidy import tidy_grid
+from valuesift.core._typing import FileKind
+from valuesift.core.errors import IntakeError, Reason
+from valuesift.core.intake.options import ReadOptions
+from valuesift.core.intake.readers import read_grid
+from valuesift.core.intake.report import FileReport
+from valuesift.core.intake.tidy import tidy_grid
 
 __all__ = ["ParsedFile", "read_table"]
 

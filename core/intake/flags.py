@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from core.intake.options import PanelOptions
-from core.intake.report import FileReport
+from valuesift.core.intake.options import PanelOptions
+from valuesift.core.intake.report import FileReport
 
 __all__ = ["security_table", "longest_flat_run"]
 

@@ -5,8 +5,8 @@ from __future__ import annotations
 import re
 from typing import Sequence
 
-from core._typing import FileKind
-from core.intake.sniff import norm_name
+from valuesift.core._typing import FileKind
+from valuesift.core.intake.sniff import norm_name
 
 __all__ = ["guess_kind", "infer_earnings_form", "VALUE_WORDS"]
 

@@ -6,7 +6,7 @@ import re
 from dataclasses import dataclass
 from typing import get_args
 
-from core._typing import (
+from valuesift.core._typing import (
     DateOrder,
     DecimalStyle,
     DuplicateRule,
@@ -15,7 +15,7 @@ from core._typing import (
     IdCleanup,
     Layout,
 )
-from core.errors import ConfigError
+from valuesift.core.errors import ConfigError
 
 __all__ = ["ReadOptions", "PanelOptions"]
 

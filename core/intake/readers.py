@@ -16,9 +16,9 @@ from typing import Any, Sequence
 import numpy as np
 import pandas as pd
 
-from core.errors import IntakeError, Reason
-from core.intake.options import ReadOptions
-from core.intake.sniff import decode, find_header, sniff_delimiter, split_sample
+from valuesift.core.errors import IntakeError, Reason
+from valuesift.core.intake.options import ReadOptions
+from valuesift.core.intake.sniff import decode, find_header, sniff_delimiter, split_sample
 
 __all__ = ["Grid", "read_grid", "detect_format", "XLSX_EXPANSION_LIMIT", "FAST_PATH_MIN_CHARS", "MAX_COLUMNS"]
 

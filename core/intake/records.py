@@ -7,11 +7,11 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from core.errors import IntakeError, Reason
-from core.intake import numbers as nb
-from core.intake._common import DUP, NOSEC, Ctx, clean_ids, decide_decimal, find_column, number_profile, tally_values, value_column
-from core.intake.numbers import parse_numbers
-from core.intake.sniff import SECURITY_WORDS, norm_name
+from valuesift.core.errors import IntakeError, Reason
+from valuesift.core.intake import numbers as nb
+from valuesift.core.intake._common import DUP, NOSEC, Ctx, clean_ids, decide_decimal, find_column, number_profile, tally_values, value_column
+from valuesift.core.intake.numbers import parse_numbers
+from valuesift.core.intake.sniff import SECURITY_WORDS, norm_name
 
 __all__ = ["tidy_records"]
 

@@ -8,7 +8,7 @@ from typing import Sequence
 
 import pandas as pd
 
-from core.errors import IntakeError, Reason
+from valuesift.core.errors import IntakeError, Reason
 
 __all__ = [
     "decode",

@@ -7,7 +7,7 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from core.errors import Reason
+from valuesift.core.errors import Reason
 
 __all__ = ["Tally", "CATEGORY", "MAX_EXAMPLES"]
 

@@ -13,21 +13,21 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from core._typing import FileKind
-from core.errors import IntakeError, Reason
-from core.intake import numbers as nb
-from core.intake._common import (
+from valuesift.core._typing import FileKind
+from valuesift.core.errors import IntakeError, Reason
+from valuesift.core.intake import numbers as nb
+from valuesift.core.intake._common import (
     DUP, NEGAMT, NODATE, NONPOS, NOSEC, POSITIVE_KINDS, Ctx, clean_ids, date_profile, decide_decimal,
     find_column, frequency, number_profiles, tally_values, value_column,
 )
-from core.intake.dates import parse_dates
-from core.intake.kinds import guess_kind, infer_earnings_form
-from core.intake.numbers import parse_numbers
-from core.intake.options import ReadOptions
-from core.intake.readers import Grid
-from core.intake.records import tidy_records
-from core.intake.report import FileReport
-from core.intake.sniff import DATE_WORDS, SECURITY_WORDS, looks_like_index, norm_name
+from valuesift.core.intake.dates import parse_dates
+from valuesift.core.intake.kinds import guess_kind, infer_earnings_form
+from valuesift.core.intake.numbers import parse_numbers
+from valuesift.core.intake.options import ReadOptions
+from valuesift.core.intake.readers import Grid
+from valuesift.core.intake.records import tidy_records
+from valuesift.core.intake.report import FileReport
+from valuesift.core.intake.sniff import DATE_WORDS, SECURITY_WORDS, looks_like_index, norm_name
 
 __all__ = ["tidy_grid", "clean_ids"]
 

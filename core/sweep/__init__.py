@@ -13,11 +13,11 @@ inside the functions that use a cluster.
 
 from __future__ import annotations
 
-from core.sweep.grid import DIMENSIONS, GridPoint, SweepGrid, config_id, parse_grid, read_grid
-from core.sweep.partitioned import PartitionedResult, run_partitioned_study
-from core.sweep.run import SweepResult, evaluate_point, panel_fingerprint, run_sweep
-from core.sweep.store import load_sweep, save_sweep
-from core.sweep.table import adjust_pvalues, comparison_table, two_sided_p
+from valuesift.core.sweep.grid import DIMENSIONS, GridPoint, SweepGrid, config_id, parse_grid, read_grid
+from valuesift.core.sweep.partitioned import PartitionedResult, run_partitioned_study
+from valuesift.core.sweep.run import SweepResult, evaluate_point, panel_fingerprint, run_sweep
+from valuesift.core.sweep.store import load_sweep, save_sweep
+from valuesift.core.sweep.table import adjust_pvalues, comparison_table, two_sided_p
 
 __all__ = [
     "DIMENSIONS", "GridPoint", "SweepGrid", "config_id", "parse_grid", "read_grid",

@@ -36,8 +36,8 @@ from dataclasses import dataclass, fields
 from pathlib import Path
 from typing import Any, Callable
 
-from core.errors import ConfigError
-from core.study import StudyConfig
+from valuesift.core.errors import ConfigError
+from valuesift.core.study import StudyConfig
 
 __all__ = ["GridPoint", "SweepGrid", "DIMENSIONS", "parse_grid", "read_grid", "config_id", "MAX_POINTS"]
 

@@ -33,13 +33,13 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from core._study_steps import _grid
-from core.errors import ConfigError, InsufficientDataError
-from core.evaluate.ic import ic_by_date, ic_summary
-from core.evaluate.quantiles import _fast_means, _quantile_index, assign_quantiles
-from core.panel import Panel, UserSignal
-from core.returns import excess_returns, forward_returns, level_forward_returns, price_track
-from core.signals import (
+from valuesift.core._study_steps import _grid
+from valuesift.core.errors import ConfigError, InsufficientDataError
+from valuesift.core.evaluate.ic import ic_by_date, ic_summary
+from valuesift.core.evaluate.quantiles import _fast_means, _quantile_index, assign_quantiles
+from valuesift.core.panel import Panel, UserSignal
+from valuesift.core.returns import excess_returns, forward_returns, level_forward_returns, price_track
+from valuesift.core.signals import (
     base_universe,
     clean_values,
     composite_zmean,
@@ -48,8 +48,8 @@ from core.signals import (
     sector_zscore,
     standardise,
 )
-from core.stats import average_ranks, hac_lags, mean_inference
-from core.study import StudyConfig
+from valuesift.core.stats import average_ranks, hac_lags, mean_inference
+from valuesift.core.study import StudyConfig
 
 __all__ = ["PartitionedResult", "run_partitioned_study"]
 

@@ -21,10 +21,10 @@ from typing import Any, Callable
 import numpy as np
 import pandas as pd
 
-from core.errors import ValueSiftError
-from core.panel import Panel
-from core.sweep.grid import GridPoint, SweepGrid
-from core.sweep.table import comparison_table
+from valuesift.core.errors import ValueSiftError
+from valuesift.core.panel import Panel
+from valuesift.core.sweep.grid import GridPoint, SweepGrid
+from valuesift.core.sweep.table import comparison_table
 
 __all__ = ["SweepResult", "run_sweep", "evaluate_point", "panel_fingerprint", "sweep_statement"]
 
@@ -106,7 +106,7 @@ def evaluate_point(panel: Panel, settings: dict[str, Any]) -> dict[str, Any]:
     ``{"status": "failed", "error": message}``; an error never escapes, so one
     bad point cannot sink the sweep.
     """
-    from core.study import StudyConfig, run_study, summary_dict
+    from valuesift.core.study import StudyConfig, run_study, summary_dict
 
     try:
         cfg = StudyConfig.from_dict(dict(settings))

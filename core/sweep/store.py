@@ -19,8 +19,8 @@ from typing import Any
 
 import pandas as pd
 
-from core.errors import ConfigError
-from core.sweep.run import SweepResult
+from valuesift.core.errors import ConfigError
+from valuesift.core.sweep.run import SweepResult
 
 __all__ = ["save_sweep", "load_sweep", "TABLE_CSV", "TABLE_PARQUET", "META_JSON"]
 

@@ -6,8 +6,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.panel import Panel
-from core.study import StudyConfig, run_study
+from valuesift.core.panel import Panel
+from valuesift.core.study import StudyConfig, run_study
 
 
 def make_panel(seed: int = 7, n_sec: int = 40, n_months: int = 72) -> Panel:
@@ -47,7 +47,7 @@ def small_result(small_panel: Panel):  # type: ignore[no-untyped-def]
 @pytest.fixture(scope="session")
 def demo_dir(tmp_path_factory: pytest.TempPathFactory):  # type: ignore[no-untyped-def]
     """The invented demo universe written once per test session."""
-    from core.demo import write_demo
+    from valuesift.core.demo import write_demo
 
     out = tmp_path_factory.mktemp("demo")
     write_demo(out)

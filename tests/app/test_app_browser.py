@@ -1,6 +1,6 @@
 """End-to-end in real headless Chromium: upload the demo files, run and change a study, screen, export, company.
 
-The server is the real command line (``python -m app.cli serve``) on a free
+The server is the real command line (``python -m valuesift.app.cli serve``) on a free
 127.0.0.1 port with a temporary workspace; it is stopped when the module's
 tests end.  Screenshots of each page go to ``test-artifacts/`` (git-ignored).
 """

@@ -7,7 +7,7 @@ from typing import Any
 
 import pytest
 
-from app.figures import cache
+from valuesift.app.figures import cache
 
 
 @pytest.fixture(autouse=True)

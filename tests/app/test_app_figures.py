@@ -9,12 +9,12 @@ import plotly.graph_objects as go
 import pytest
 from scipy import stats
 
-from app.figures import backtest as fb
-from app.figures import company as fc
-from app.figures import study as fs
-from app.figures.data import coverage_figure
-from app.figures.theme import CHEAP, DEAR, TEMPLATE_NAME, diverging
-from app.figures._common import message_figure
+from valuesift.app.figures import backtest as fb
+from valuesift.app.figures import company as fc
+from valuesift.app.figures import study as fs
+from valuesift.app.figures.data import coverage_figure
+from valuesift.app.figures.theme import CHEAP, DEAR, TEMPLATE_NAME, diverging
+from valuesift.app.figures._common import message_figure
 
 T_STAT = re.compile(r"\bt\s*[=~]\s*-?\d|t=-?\d")
 

@@ -6,7 +6,7 @@ import re
 
 from hypothesis import given, strategies as st
 
-from app.ids import company_path, decode_id, encode_id
+from valuesift.app.ids import company_path, decode_id, encode_id
 
 
 def test_plain_codes_stay_readable() -> None:

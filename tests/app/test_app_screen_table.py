@@ -9,7 +9,7 @@ import openpyxl
 import pandas as pd
 import pytest
 
-from app.screen_table import (COLUMNS, apply_filter, apply_sort, display_frame, neutralise, page, to_csv_bytes,
+from valuesift.app.screen_table import (COLUMNS, apply_filter, apply_sort, display_frame, neutralise, page, to_csv_bytes,
                               to_xlsx_bytes)
 
 

@@ -7,9 +7,9 @@ from pathlib import Path
 import dash
 import pytest
 
-from app.caution import CAUTION
-from app.server import TOKEN_COOKIE, _is_loopback, create_app, serve
-from core.errors import ConfigError
+from valuesift.app.caution import CAUTION
+from valuesift.app.server import TOKEN_COOKIE, _is_loopback, create_app, serve
+from valuesift.core.errors import ConfigError
 
 
 @pytest.fixture()
@@ -21,7 +21,7 @@ def test_pages_and_navigation(plain_app: dash.Dash) -> None:
     names = {p["name"]: p for p in dash.page_registry.values()}
     assert {"Data", "Study", "Screen", "Company", "Export"} <= set(names)
     assert names["Company"]["path_template"] == "/company/<code>"
-    from app.shell import nav_links
+    from valuesift.app.shell import nav_links
 
     assert [link.children for link in nav_links()] == ["Data", "Study", "Screen", "Sweep", "Export"]
 
@@ -82,9 +82,9 @@ def test_two_apps_in_one_process_each_get_the_page_callbacks(tmp_path: Path) -> 
 def test_company_page_renders_identifiers_as_text(plain_app: dash.Dash) -> None:
     import sys
 
-    from app.ids import encode_id
+    from valuesift.app.ids import encode_id
 
-    page = sys.modules["app.pages.company"]
+    page = sys.modules["valuesift.app.pages.company"]
     nasty = "<img src=x onerror=alert(1)>"
     layout = page.layout(code=encode_id(nasty))
     title = next(c for c in layout.children if getattr(c, "id", None) == "company-title")

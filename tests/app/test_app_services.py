@@ -10,12 +10,12 @@ import pytest
 
 from tests.job_support import wait_for_job
 
-import app.services as services
-from app import jobs_ui
-from app.server import create_app
-from app.services import normalise_selection
-from app.settings import config_from_settings
-from core.errors import InsufficientDataError
+import valuesift.app.services as services
+from valuesift.app import jobs_ui
+from valuesift.app.server import create_app
+from valuesift.app.services import normalise_selection
+from valuesift.app.settings import config_from_settings
+from valuesift.core.errors import InsufficientDataError
 
 
 def _wait(st, key: str, limit: float = 120.0):  # type: ignore[no-untyped-def]
@@ -53,7 +53,7 @@ def test_horizon_change_reuses_the_result(demo_app, monkeypatch: pytest.MonkeyPa
     monkeypatch.setattr(services, "run_study", boom)
     job = st.start_study(sel, config_from_settings({}))
     assert job.status == "done" and job.key == key
-    from app.figures.study import ic_over_time_figure
+    from valuesift.app.figures.study import ic_over_time_figure
 
     for h in (1, 3, 12, 36):                           # every horizon is in the one result
         assert ic_over_time_figure(st.result(key), h).data

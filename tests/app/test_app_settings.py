@@ -5,11 +5,11 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 
-from app.components.common import panel_choices
-from app.settings import DEFAULT_SETTINGS, config_from_settings
-from core.errors import ConfigError
-from core.panel import UserSignal
-from core.study import StudyConfig
+from valuesift.app.components.common import panel_choices
+from valuesift.app.settings import DEFAULT_SETTINGS, config_from_settings
+from valuesift.core.errors import ConfigError
+from valuesift.core.panel import UserSignal
+from valuesift.core.study import StudyConfig
 
 
 def test_defaults_are_the_engine_defaults_where_they_overlap() -> None:

@@ -9,8 +9,8 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from app.workspace import Workspace, options_from_dict, options_to_dict, report_from_dict, report_to_dict
-from core.intake import ReadOptions, read_table
+from valuesift.app.workspace import Workspace, options_from_dict, options_to_dict, report_from_dict, report_to_dict
+from valuesift.core.intake import ReadOptions, read_table
 
 PRICES = b"Date,QZA01,QZB02,Index Level\n31/01/2020,10,20,1000\n29/02/2020,11,n.a.,1010\n31/03/2020,12,22,990\n"
 

@@ -25,7 +25,7 @@ from typing import Any
 
 import pandas as pd
 
-from core.panel import Panel
+from valuesift.core.panel import Panel
 
 __all__ = ["measure_dashboard"]
 
@@ -51,11 +51,11 @@ def measure_dashboard(panel: Panel, repeats: int = 5) -> dict[str, Any]:
     """Server-side seconds of a cold study, a warm horizon change and the first screen page."""
     import flask
 
-    from app.screen_table import display_frame, page
-    from app.services import AppState
-    from app.workspace import Workspace
-    from core.intake import ReadOptions
-    from core.study import StudyConfig
+    from valuesift.app.screen_table import display_frame, page
+    from valuesift.app.services import AppState
+    from valuesift.app.workspace import Workspace
+    from valuesift.core.intake import ReadOptions
+    from valuesift.core.study import StudyConfig
 
     out: dict[str, Any] = {}
     with tempfile.TemporaryDirectory(prefix="valuesift-bench-app-") as tmp:
@@ -79,7 +79,7 @@ def measure_dashboard(panel: Panel, repeats: int = 5) -> dict[str, Any]:
         # What the Study page's figure callbacks do (app.figures.cache): the figures of the
         # chosen horizon, memoised per study; the first view warms the other horizons in the
         # background, so a later horizon change is a look-up.
-        from app.figures import cache as fc
+        from valuesift.app.figures import cache as fc
 
         hs = list(cfg.horizons)
         firsts, warm = [], []

@@ -53,7 +53,7 @@ def main(argv: list[str] | None = None) -> None:
     ap.add_argument("--t", type=int, default=7560)
     a = ap.parse_args(argv)
 
-    from core.intake import ReadOptions, build_panel, read_table
+    from valuesift.core.intake import ReadOptions, build_panel, read_table
 
     files = daily_files(a.n, a.t)
     big = 8 * 1024 ** 3  # the default 200 MB upload limit is for the dashboard; these files are larger

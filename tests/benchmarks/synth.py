@@ -24,7 +24,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from core.panel import Panel
+from valuesift.core.panel import Panel
 
 __all__ = ["Size", "SIZES", "GROWTH_SIZES", "monthly_panel", "daily_files", "DailyFiles", "cache_root"]
 

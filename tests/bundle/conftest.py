@@ -15,9 +15,9 @@ HORIZONS = (1, 3, 12)        # a smaller set than the default keeps the tests qu
 
 def load_demo(folder: Path) -> Any:
     """The demo files read by intake (index column left out, the suspected split confirmed), as the CLI tests do."""
-    from core.demo import write_demo
-    from core.demo.write import INDEX_COLUMN
-    from core.intake import PanelOptions, ReadOptions, build_panel, read_table
+    from valuesift.core.demo import write_demo
+    from valuesift.core.demo.write import INDEX_COLUMN
+    from valuesift.core.intake import PanelOptions, ReadOptions, build_panel, read_table
 
     write_demo(folder)
     files = []
@@ -39,7 +39,7 @@ def demo_panel(tmp_path_factory: pytest.TempPathFactory) -> Any:
 
 @pytest.fixture(scope="session")
 def demo_result(demo_panel: Any) -> Any:
-    from core.study import StudyConfig, run_study
+    from valuesift.core.study import StudyConfig, run_study
 
     return run_study(demo_panel, StudyConfig(horizons=HORIZONS))
 
@@ -47,7 +47,7 @@ def demo_result(demo_panel: Any) -> Any:
 @pytest.fixture(scope="session")
 def built(demo_result: Any, demo_panel: Any, tmp_path_factory: pytest.TempPathFactory) -> Any:
     """The demo bundle, built once (with images when a browser is installed): (BundlePaths, progress calls)."""
-    from app.bundle import write_bundle
+    from valuesift.app.bundle import write_bundle
 
     stages: list[tuple[str, float]] = []
     out = tmp_path_factory.mktemp("bundle-1") / "bundle"

@@ -9,7 +9,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from app.cli import main
+from valuesift.app.cli import main
 
 from tests.cli.test_cli import DEMO_ARGS as _DEMO_FILES
 

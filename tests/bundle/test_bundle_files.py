@@ -14,10 +14,10 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from app.bundle import CHART_KEYS, TABLE_KEYS, bundle_name, find_browser
-from app.bundle.charts import plotly_js_path
-from app.bundle.tables import result_tables
-from core.study import ic_by_date_frame, summary_dict
+from valuesift.app.bundle import CHART_KEYS, TABLE_KEYS, bundle_name, find_browser
+from valuesift.app.bundle.charts import plotly_js_path
+from valuesift.app.bundle.tables import result_tables
+from valuesift.core.study import ic_by_date_frame, summary_dict
 
 needs_browser = pytest.mark.skipif(find_browser() is None, reason="no Chrome/Chromium: images are not rendered "
                                                                   "(the no-browser path is tested separately)")
@@ -68,7 +68,7 @@ def test_manifest_hashes_every_other_file_and_records_the_study(built: Any, zipp
     for rel, f in listed.items():
         body = zipped[f"{root}/{rel}"]
         assert f["sha256"] == _sha(body) and f["bytes"] == len(body), rel
-    import core
+    from valuesift import core
 
     assert m["tool_version"] == core.__version__
     assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\dZ", m["created_utc"])
@@ -182,7 +182,7 @@ def test_bundle_size_stays_under_20_mb(built: Any) -> None:
 
 
 def test_text_cells_are_neutralised_and_numbers_stay_numbers(tmp_path: Any) -> None:
-    from app.bundle.tables import write_csv, xlsx_bytes
+    from valuesift.app.bundle.tables import write_csv, xlsx_bytes
 
     # OWASP "CSV Injection": prefix ' to cells beginning with =, +, -, @, tab or carriage return.
     df = pd.DataFrame({"security": ["=HYPERLINK(1)", "+SUM(A1)", "-2+3", "@cmd", "\tx", "\rx", "plain"],

@@ -14,10 +14,10 @@ from typing import Any
 import numpy as np
 import pytest
 
-from app.bundle import INCLUDE_CHOICES, write_bundle
-from app.bundle.text import CHART_READINGS, headline_sentences, verdict
-from app.caution import CAUTION
-from core.errors import ConfigError
+from valuesift.app.bundle import INCLUDE_CHOICES, write_bundle
+from valuesift.app.bundle.text import CHART_READINGS, headline_sentences, verdict
+from valuesift.app.caution import CAUTION
+from valuesift.core.errors import ConfigError
 
 PDFTOTEXT = shutil.which("pdftotext")
 PDFTOPPM = shutil.which("pdftoppm")
@@ -163,9 +163,9 @@ def test_same_inputs_give_identical_bundle_apart_from_creation_time(built: Any, 
 
 def test_report_pdf_is_byte_identical_for_identical_content(built: Any, demo_result: Any, demo_panel: Any,
                                                             created: Any, tmp_path: Path) -> None:
-    from app.bundle.content import report_input
-    from app.bundle.pdf import build_pdf
-    from app.bundle.build import merge_inputs
+    from valuesift.app.bundle.content import report_input
+    from valuesift.app.bundle.pdf import build_pdf
+    from valuesift.app.bundle.build import merge_inputs
 
     paths, _ = built
     png = {p.stem: p.read_bytes() for p in sorted((paths.folder / "charts").glob("*.png"))}

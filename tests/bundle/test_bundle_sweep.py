@@ -15,7 +15,7 @@ from tests.bundle.conftest import CREATED
 
 @pytest.fixture(scope="module")
 def small_sweep(demo_panel: Any) -> Any:
-    from core.sweep import parse_grid, run_sweep
+    from valuesift.core.sweep import parse_grid, run_sweep
 
     grid = parse_grid({"sweep": {"name": "bundle-check"},
                        "study": {"horizons": [1, 3]},
@@ -25,7 +25,7 @@ def small_sweep(demo_panel: Any) -> Any:
 
 
 def test_bundle_includes_the_sweep(demo_result: Any, demo_panel: Any, small_sweep: Any, tmp_path: Path) -> None:
-    from app.bundle import write_bundle
+    from valuesift.app.bundle import write_bundle
 
     paths = write_bundle(demo_result, demo_panel, None, tmp_path / "b", study_name="with sweep",
                          created=CREATED, include=["chart:ic_by_horizon", "table:ic_by_date"],
@@ -46,7 +46,7 @@ def test_bundle_includes_the_sweep(demo_result: Any, demo_panel: Any, small_swee
 
 
 def test_sweep_reading_comes_from_the_numbers(small_sweep: Any) -> None:
-    from app.bundle.text import sweep_reading
+    from valuesift.app.bundle.text import sweep_reading
 
     lines = sweep_reading(small_sweep)
     assert len(lines) == 2

@@ -1,6 +1,6 @@
 """End-to-end in real headless Chromium: the Export page builds the bundle of the study on screen and downloads it.
 
-The server is the real command line (``python -m app.cli serve --demo``) on a free
+The server is the real command line (``python -m valuesift.app.cli serve --demo``) on a free
 127.0.0.1 port with a temporary workspace, started the way ``tests/app/test_app_browser.py``
 starts it; it is stopped when the module's tests end.
 """
@@ -68,7 +68,7 @@ def test_export_downloads_the_bundle_of_the_study_on_screen(server: str, tmp_pat
         manifest = json.loads(z.read(f"{root}/manifest.json"))
         assert z.read(f"{root}/report.pdf").startswith(b"%PDF-")
     assert manifest["study_name"] == "Spring committee" and manifest["note"] == "Draft for discussion."
-    from app.settings import config_from_settings
+    from valuesift.app.settings import config_from_settings
 
     # The dashboard's default settings, i.e. the study that was on the Study page.
     assert manifest["configuration"] == config_from_settings({}).to_dict()

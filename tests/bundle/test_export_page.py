@@ -8,11 +8,11 @@ from pathlib import Path
 import dash
 import pytest
 
-from app.bundle import NO_BROWSER_HINT
+from valuesift.app.bundle import NO_BROWSER_HINT
 
 
 def test_export_page_shows_the_no_browser_hint(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
-    from app.server import create_app
+    from valuesift.app.server import create_app
 
     create_app(tmp_path / "ws")
     page = next(p for p in dash.page_registry.values() if p["name"] == "Export")
@@ -26,7 +26,7 @@ def test_export_page_shows_the_no_browser_hint(tmp_path: Path, monkeypatch: pyte
 
 
 def test_export_page_offers_the_workspace_sweeps(tmp_path: Path) -> None:
-    from app.server import create_app
+    from valuesift.app.server import create_app
 
     app = create_app(tmp_path / "ws")
     done = tmp_path / "ws" / "sweeps" / "spring-grid"

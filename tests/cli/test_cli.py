@@ -11,7 +11,7 @@ import pandas as pd
 import pytest
 import statsmodels.api as sm
 
-from app.cli import main
+from valuesift.app.cli import main
 
 ROOT = Path(__file__).resolve().parents[2]
 SAMPLE = ROOT / "sample_data"
@@ -91,7 +91,7 @@ def test_ic_by_date_table_matches_summary_and_statsmodels_hac(demo_study: Path) 
 
 
 def test_study_recovers_planted_relation(demo_study: Path) -> None:
-    from core.demo import DEMO_TRUTH, ic_standard_error
+    from valuesift.core.demo import DEMO_TRUTH, ic_standard_error
 
     summary = json.loads((demo_study / "summary.json").read_text(encoding="utf-8"))
     se = ic_standard_error(119, summary["1"]["n_dates"])

@@ -31,7 +31,7 @@ def test_ci_runs_exactly_the_readme_test_command() -> None:
 
 
 def test_caution_in_readme_and_cli() -> None:
-    from app.cli import CAUTION
+    from valuesift.app.cli import CAUTION
 
     readme = (ROOT / "README.md").read_text(encoding="utf-8").lower()
     for phrase in ("not investment advice", "may not persist", "compliance rules"):
@@ -56,8 +56,19 @@ def test_every_package_folder_is_installed() -> None:
 
     listed = set(tomllib.loads((ROOT / "pyproject.toml").read_text("utf-8"))["tool"]["setuptools"]["packages"])
     found = {
-        ".".join(p.parent.relative_to(ROOT).parts)
+        "valuesift." + ".".join(p.parent.relative_to(ROOT).parts)
         for top in ("core", "app")
         for p in (ROOT / top).rglob("__init__.py")
     }
-    assert found | {"app.assets"} == listed
+    assert found | {"valuesift.app.assets"} == listed
+
+
+def test_nothing_generic_at_the_top_of_the_environment() -> None:
+    """The installed import names are valuesift.core and valuesift.app, never bare core or app."""
+    import importlib.util
+
+    assert importlib.util.find_spec("valuesift.core") is not None
+    assert importlib.util.find_spec("valuesift.app") is not None
+    for generic in ("core", "app"):
+        spec = importlib.util.find_spec(generic)
+        assert spec is None or "valuesift" not in str(spec.origin or spec.submodule_search_locations), generic

@@ -22,10 +22,10 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-import core.demo.simulate as simulate_module
-import core.demo.truth as truth_module
-import core.demo.write as write_module
-from core.demo import (
+import valuesift.core.demo.simulate as simulate_module
+import valuesift.core.demo.truth as truth_module
+import valuesift.core.demo.write as write_module
+from valuesift.core.demo import (
     DemoMarket,
     DEFAULT_SEED,
     DEMO_TRUTH,
@@ -36,7 +36,7 @@ from core.demo import (
     spearman_from_pearson,
     write_demo,
 )
-from core.errors import ConfigError
+from valuesift.core.errors import ConfigError
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 SAMPLE = ROOT / "sample_data"

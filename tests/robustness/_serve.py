@@ -33,7 +33,7 @@ def free_port() -> int:
 
 
 class Server:
-    """``python -m app.cli serve`` in a subprocess on 127.0.0.1 (a context manager; always stopped)."""
+    """``python -m valuesift.app.cli serve`` in a subprocess on 127.0.0.1 (a context manager; always stopped)."""
 
     def __init__(self, workspace: Path, *args: str, port: int | None = None, start_timeout: float = 120.0) -> None:
         self.workspace = Path(workspace)
@@ -47,7 +47,7 @@ class Server:
     def start(self) -> "Server":
         self.workspace.mkdir(parents=True, exist_ok=True)
         log = open(self.log_path, "wb")
-        self.proc = subprocess.Popen([sys.executable, "-m", "app.cli", "serve", "--port", str(self.port),
+        self.proc = subprocess.Popen([sys.executable, "-m", "valuesift.app.cli", "serve", "--port", str(self.port),
                                       "--workspace", str(self.workspace), *self.args],
                                      cwd=ROOT, stdout=log, stderr=subprocess.STDOUT)
         end = time.monotonic() + self.start_timeout

@@ -16,9 +16,9 @@ import pytest
 from tests.job_support import wait_for_job
 from scipy import stats
 
-from app import jobs_ui
-from app.cli import main
-from app.server import create_app
+from valuesift.app import jobs_ui
+from valuesift.app.cli import main
+from valuesift.app.server import create_app
 from tests.robustness._data import price_eps_files
 
 

@@ -15,8 +15,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from core.errors import IntakeError
-from core.intake import PanelOptions, ReadOptions, build_panel, read_table
+from valuesift.core.errors import IntakeError
+from valuesift.core.intake import PanelOptions, ReadOptions, build_panel, read_table
 from tests.robustness.conftest import HOSTILE
 
 _spec = importlib.util.spec_from_file_location("hostile_make_corpus_fuzz", HOSTILE / "make_corpus.py")

@@ -15,8 +15,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.errors import IntakeError
-from core.intake import PanelOptions, ReadOptions, build_panel, read_table
+from valuesift.core.errors import IntakeError
+from valuesift.core.intake import PanelOptions, ReadOptions, build_panel, read_table
 from tests.robustness.conftest import HOSTILE
 
 CASES = json.loads((HOSTILE / "cases.json").read_text(encoding="utf-8"))

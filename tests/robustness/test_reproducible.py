@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from app.cli import main
+from valuesift.app.cli import main
 from tests.robustness._data import price_eps_files
 from tests.robustness._serve import ROOT
 
@@ -30,7 +30,7 @@ def test_two_processes_and_two_runs_give_identical_bytes(tmp_path: Path) -> None
     outs = []
     for k in range(2):     # two separate processes (fresh interpreters, own hash seeds)
         out = tmp_path / f"proc{k}"
-        r = subprocess.run([sys.executable, "-m", "app.cli", *args, "--out", str(out)], cwd=ROOT,
+        r = subprocess.run([sys.executable, "-m", "valuesift.app.cli", *args, "--out", str(out)], cwd=ROOT,
                            capture_output=True, text=True, timeout=600, env=_env(k))
         assert r.returncode == 0, r.stderr
         outs.append(_outputs(out))

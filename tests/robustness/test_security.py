@@ -19,11 +19,11 @@ import openpyxl
 import pandas as pd
 import pytest
 
-import app.server as server_mod
-from app import screen_table
-from app.cli import build_parser, main
-from app.ids import encode_id
-from app.server import TOKEN_COOKIE, create_app
+import valuesift.app.server as server_mod
+from valuesift.app import screen_table
+from valuesift.app.cli import build_parser, main
+from valuesift.app.ids import encode_id
+from valuesift.app.server import TOKEN_COOKIE, create_app
 
 HOSTILE_IDS = ['=HYPERLINK("http://127.0.0.1/x","go")', "<script>alert(1)</script>", "+QZB02", "-QZC03",
                "@SUM(A1)", "\tQZD04", "\rQZE05", "<b>QZF06</b>", "[link](javascript:x)", "QZG07"]
@@ -142,7 +142,7 @@ def test_identifiers_are_text_in_the_screen_table_and_company_page(tmp_path: Pat
     rows, _ = screen_table.page(df, 0, 50)
     assert [r["security"] for r in rows] == HOSTILE_IDS                  # unchanged text, shown by the table as text
     app = create_app(tmp_path / "ws")
-    from app.pages import screen
+    from valuesift.app.pages import screen
 
     with app.server.test_request_context("/"):
         cols = screen.layout().children
@@ -150,7 +150,7 @@ def test_identifiers_are_text_in_the_screen_table_and_company_page(tmp_path: Pat
         assert table is not None
         for c in table.columns:
             assert c.get("presentation", "input") != "markdown"
-        from app.pages import company
+        from valuesift.app.pages import company
 
         for raw in HOSTILE_IDS:
             page = company.layout(code=encode_id(raw))

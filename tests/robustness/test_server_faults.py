@@ -1,4 +1,4 @@
-"""Nothing lost: the real server (``python -m app.cli serve`` on 127.0.0.1) under rejected uploads and SIGKILL.
+"""Nothing lost: the real server (``python -m valuesift.app.cli serve`` on 127.0.0.1) under rejected uploads and SIGKILL.
 
 The checks follow common practice for crash safety: a write goes to a
 temporary file, is fsynced and renamed over the target (POSIX rename is

@@ -35,7 +35,7 @@ def test_two_browsers_do_not_see_each_other(tmp_path: Path) -> None:
         assert "QZ0" not in panel and "No file is in use" in panel
         before = workspace_hashes(ws)
         # the delete button's callback passes B's session as the owner: the workspace refuses A's dataset
-        from app.workspace import Workspace
+        from valuesift.app.workspace import Workspace
 
         with pytest.raises(KeyError):
             Workspace(ws).delete(sel_a["ids"][0], owner=b.http.cookies.get("valuesift_session"))
@@ -50,9 +50,9 @@ def test_a_sessions_latest_result_survives_cache_eviction(tmp_path: Path) -> Non
     """Many sessions' studies evict results from the small memory and file caches; each session's latest stays."""
     import flask
 
-    from app.server import create_app
-    from app.services import LRU
-    from app.settings import config_from_settings
+    from valuesift.app.server import create_app
+    from valuesift.app.services import LRU
+    from valuesift.app.settings import config_from_settings
 
     app = create_app(tmp_path / "ws")
     st = app.server.extensions["valuesift"]

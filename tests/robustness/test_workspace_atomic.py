@@ -18,8 +18,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from app.workspace import Workspace
-from core.intake import ReadOptions
+from valuesift.app.workspace import Workspace
+from valuesift.core.intake import ReadOptions
 from tests.robustness._data import big_price_csv, price_eps_files
 from tests.robustness._serve import ROOT, check_workspace, workspace_hashes
 
@@ -27,8 +27,8 @@ KILLS = {"helper_sigkills": 0}
 
 _HELPER = """
 import sys
-from app.workspace import Workspace
-from core.intake import ReadOptions
+from valuesift.app.workspace import Workspace
+from valuesift.core.intake import ReadOptions
 ws = Workspace(sys.argv[1])
 raw = open(sys.argv[2], "rb").read()
 print("writing", flush=True)

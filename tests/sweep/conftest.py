@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.panel import Panel
+from valuesift.core.panel import Panel
 
 
 def make_panel(seed: int = 11, n_sec: int = 36, n_months: int = 60) -> Panel:

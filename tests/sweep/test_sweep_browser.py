@@ -15,7 +15,7 @@ WAIT = 90_000   # ms; a generous upper bound for a slow machine, not a speed che
 
 @pytest.fixture(scope="module")
 def server(tmp_path_factory: pytest.TempPathFactory, panel: Any) -> Iterator[str]:
-    from core.sweep import parse_grid, run_sweep, save_sweep
+    from valuesift.core.sweep import parse_grid, run_sweep, save_sweep
 
     need_browser()
     ws = tmp_path_factory.mktemp("sweep-ws")

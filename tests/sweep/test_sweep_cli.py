@@ -8,7 +8,7 @@ from typing import Any
 import pandas as pd
 import pytest
 
-from app.cli import main
+from valuesift.app.cli import main
 
 pytest.importorskip("distributed", reason="the cluster extra (dask, distributed) is not installed")
 
@@ -28,7 +28,7 @@ horizons = [1, 3]
 
 @pytest.fixture(scope="module")
 def demo(tmp_path_factory: pytest.TempPathFactory) -> Path:
-    from core.demo import write_demo
+    from valuesift.core.demo import write_demo
 
     out = tmp_path_factory.mktemp("demo")
     write_demo(out)

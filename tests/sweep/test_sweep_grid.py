@@ -6,10 +6,10 @@ from pathlib import Path
 
 import pytest
 
-from core.errors import ConfigError
-from core.study import StudyConfig
-from core.sweep import config_id, parse_grid, read_grid
-from core.sweep import grid as grid_mod
+from valuesift.core.errors import ConfigError
+from valuesift.core.study import StudyConfig
+from valuesift.core.sweep import config_id, parse_grid, read_grid
+from valuesift.core.sweep import grid as grid_mod
 
 ROOT = Path(__file__).resolve().parents[2]
 

@@ -6,7 +6,7 @@ import numpy as np
 from scipy import stats
 from statsmodels.stats.multitest import multipletests
 
-from core.sweep import adjust_pvalues, comparison_table, two_sided_p
+from valuesift.core.sweep import adjust_pvalues, comparison_table, two_sided_p
 
 
 def test_hand_worked_benjamini_hochberg_example() -> None:

@@ -8,7 +8,7 @@ from urllib.parse import parse_qs, urlsplit
 
 import pytest
 
-from core.sweep import parse_grid, run_sweep, save_sweep
+from valuesift.core.sweep import parse_grid, run_sweep, save_sweep
 
 GRID = {"study": {"min_breadth": 5, "n_quantiles": 4},
         "vary": {"signal": ["earnings_yield", "dividend_yield"], "universe": ["all", ["Kilns", "Quays"]],
@@ -17,7 +17,7 @@ GRID = {"study": {"min_breadth": 5, "n_quantiles": 4},
 
 @pytest.fixture()
 def app_with_sweep(tmp_path: Path, panel: Any) -> Any:
-    from app.server import create_app
+    from valuesift.app.server import create_app
 
     app = create_app(tmp_path / "ws")
     res = run_sweep(panel, parse_grid(GRID, "page-grid"))
@@ -35,10 +35,10 @@ def _walk(c: Any) -> Any:
 def test_sweep_page_lists_the_workspace_sweeps_and_shows_the_table(app_with_sweep: Any) -> None:
     import dash
 
-    from app.pages import sweep as page
+    from valuesift.app.pages import sweep as page
 
     app, res = app_with_sweep
-    assert dash.page_registry["app.pages.sweep"]["path"] == "/sweep"
+    assert dash.page_registry["valuesift.app.pages.sweep"]["path"] == "/sweep"
     with app.server.test_request_context("/"):
         lay = page.layout()
         ids = {getattr(c, "id", None) for c in _walk(lay)}
@@ -59,9 +59,9 @@ def test_sweep_page_lists_the_workspace_sweeps_and_shows_the_table(app_with_swee
 
 
 def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) -> None:
-    from app.pages import study as study_page
-    from app.pages import sweep as page
-    from app.settings import config_from_settings
+    from valuesift.app.pages import study as study_page
+    from valuesift.app.pages import sweep as page
+    from valuesift.app.settings import config_from_settings
 
     app, res = app_with_sweep
     with app.server.test_request_context("/"):
@@ -75,7 +75,7 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
         assert urlsplit(href).path == "/study" and q == {"sweep": "first", "point": target["point_id"]}
         settings = page.settings_from_query(app.server.extensions["valuesift"].workspace.root, q)
         # the Study page's settings give back the sweep point's configuration
-        from core.study import StudyConfig
+        from valuesift.core.study import StudyConfig
 
         want = StudyConfig.from_dict(res.configs[target["point_id"]])
         got = config_from_settings(settings)
@@ -96,8 +96,8 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
 
 
 def test_settings_the_study_page_cannot_show_are_named() -> None:
-    from app.pages.sweep import study_settings
-    from core.study import StudyConfig
+    from valuesift.app.pages.sweep import study_settings
+    from valuesift.core.study import StudyConfig
 
     s, missing = study_settings(StudyConfig(min_breadth=7, winsor_percentiles=(1.0, 95.0), horizons=(3, 1)).to_dict())
     assert s["horizons"] == [1, 3] and s["winsor_lower"] == 1.0

@@ -7,9 +7,9 @@ from typing import Any
 import numpy as np
 import pytest
 
-from core.errors import ConfigError, InsufficientDataError
-from core.study import StudyConfig, run_study
-from core.sweep import run_partitioned_study
+from valuesift.core.errors import ConfigError, InsufficientDataError
+from valuesift.core.study import StudyConfig, run_study
+from valuesift.core.sweep import run_partitioned_study
 
 CONFIGS = {
     "plain": StudyConfig(horizons=(1, 3, 12), min_breadth=5, n_quantiles=4),

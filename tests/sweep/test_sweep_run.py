@@ -10,9 +10,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.study import StudyConfig, run_study, summary_dict
-from core.sweep import load_sweep, parse_grid, run_sweep, save_sweep
-from core.sweep import run as run_mod
+from valuesift.core.study import StudyConfig, run_study, summary_dict
+from valuesift.core.sweep import load_sweep, parse_grid, run_sweep, save_sweep
+from valuesift.core.sweep import run as run_mod
 
 GRID = {"study": {"min_breadth": 5, "n_quantiles": 4},
         "vary": {"signal": ["earnings_yield", "composite"], "universe": ["all", "Nowhere", ["Kilns", "Quays"]],
@@ -41,7 +41,7 @@ class _Spy:
 
 def _by_hand(panel: Any, cfg: StudyConfig) -> dict[int, dict[str, float]] | str:
     """The same point run directly with run_study in this process (the reference)."""
-    from core.errors import ValueSiftError
+    from valuesift.core.errors import ValueSiftError
 
     try:
         res = run_study(panel, cfg)
@@ -123,14 +123,14 @@ def test_save_and_load_round_trip(panel: Any, grid: Any, tmp_path: Path) -> None
     csv = pd.read_csv(tmp_path / "out" / "comparison.csv")
     np.testing.assert_allclose(csv["ic_t_bh"].to_numpy(), res.table["ic_t_bh"].to_numpy(), rtol=1e-12,
                                equal_nan=True)
-    from core.errors import ConfigError
+    from valuesift.core.errors import ConfigError
 
     with pytest.raises(ConfigError, match="not a finished sweep folder"):
         load_sweep(tmp_path)
 
 
 def test_an_unexpected_error_in_a_point_is_recorded(panel: Any, monkeypatch: pytest.MonkeyPatch) -> None:
-    import core.study as study_mod
+    import valuesift.core.study as study_mod
 
     def boom(*_a: Any, **_k: Any) -> Any:
         raise ZeroDivisionError("planted")

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from core.panel import Panel, UserSignal
+from valuesift.core.panel import Panel, UserSignal
 
 
 def make_panel(

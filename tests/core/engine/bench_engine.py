@@ -15,7 +15,7 @@ sys.path.insert(0, str(Path(__file__).parent))
 
 from _panels import make_panel  # noqa: E402
 
-from core.study import StudyConfig, run_study  # noqa: E402
+from valuesift.core.study import StudyConfig, run_study  # noqa: E402
 
 
 def main() -> None:

@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from core.evaluate.ic import ic_by_date
-from core.stats import average_ranks, row_pearson, row_spearman
+from valuesift.core.evaluate.ic import ic_by_date
+from valuesift.core.stats import average_ranks, row_pearson, row_spearman
 
 
 def test_spearman_no_ties_worked_example() -> None:

@@ -6,9 +6,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.demo import DEMO_TRUTH, expected_spearman_ic, ic_standard_error, simulate_demo
-from core.panel import Panel
-from core.study import StudyConfig, run_study
+from valuesift.core.demo import DEMO_TRUTH, expected_spearman_ic, ic_standard_error, simulate_demo
+from valuesift.core.panel import Panel
+from valuesift.core.study import StudyConfig, run_study
 
 
 @pytest.fixture(scope="module")
@@ -33,7 +33,7 @@ def demo_panel() -> Panel:
 
 @pytest.mark.parametrize("outlier_rule", ["none", "winsorise"])
 def test_mean_one_month_rank_ic_matches_planted_truth(demo_panel: Panel, outlier_rule: str) -> None:
-    # Truth from core.demo.DEMO_TRUTH (Pearson rho planted in the simulation) turned into the expected
+    # Truth from valuesift.core.demo.DEMO_TRUTH (Pearson rho planted in the simulation) turned into the expected
     # sample Spearman IC (Moran 1948, as documented in core.demo.truth); tolerance 4 standard errors.
     res = run_study(demo_panel, StudyConfig(horizons=(1, 3), outlier_rule=outlier_rule, min_breadth=10))  # type: ignore[arg-type]
     s = res.ic_summary.loc[1]

@@ -8,16 +8,16 @@ import importlib
 import pytest
 
 MODULES = [
-    "core.stats",
-    "core.signals",
-    "core.returns",
-    "core.backtest",
-    "core.study",
-    "core.evaluate.ic",
-    "core.evaluate.quantiles",
-    "core.evaluate.famamacbeth",
-    "core.evaluate.screen",
-    "core.evaluate.summary",
+    "valuesift.core.stats",
+    "valuesift.core.signals",
+    "valuesift.core.returns",
+    "valuesift.core.backtest",
+    "valuesift.core.study",
+    "valuesift.core.evaluate.ic",
+    "valuesift.core.evaluate.quantiles",
+    "valuesift.core.evaluate.famamacbeth",
+    "valuesift.core.evaluate.screen",
+    "valuesift.core.evaluate.summary",
 ]
 
 

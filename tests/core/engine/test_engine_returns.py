@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from core.returns import forward_returns, level_forward_returns, monthly_returns, price_track
-from core.stats import annualise
+from valuesift.core.returns import forward_returns, level_forward_returns, monthly_returns, price_track
+from valuesift.core.stats import annualise
 
 
 def _track(prices: list[float], divs: list[float]):  # type: ignore[no-untyped-def]

@@ -8,8 +8,8 @@ import pytest
 from scipy import stats
 from scipy.stats import mstats
 
-from core.panel import Panel
-from core.signals import (
+from valuesift.core.panel import Panel
+from valuesift.core.signals import (
     dividend_yield,
     earnings_yield,
     lagged_eps,
@@ -17,7 +17,7 @@ from core.signals import (
     sector_zscore,
     trailing_dividends,
 )
-from core.stats import MAD_SCALE, clip_robust_rows, winsorise_rows, zscore_rows
+from valuesift.core.stats import MAD_SCALE, clip_robust_rows, winsorise_rows, zscore_rows
 
 
 def test_winsorise_matches_scipy_mstats_reference() -> None:

@@ -9,9 +9,9 @@ import pandas as pd
 import pytest
 from _panels import make_panel
 
-from core.errors import ConfigError, InsufficientDataError
-from core.evaluate.screen import SINGLE_NAME_CAUTION, screen_table, security_history
-from core.study import StudyConfig, StudyResult, ic_by_date_frame, run_study, summary_dict
+from valuesift.core.errors import ConfigError, InsufficientDataError
+from valuesift.core.evaluate.screen import SINGLE_NAME_CAUTION, screen_table, security_history
+from valuesift.core.study import StudyConfig, StudyResult, ic_by_date_frame, run_study, summary_dict
 
 
 @pytest.fixture(scope="module")
@@ -331,7 +331,7 @@ def test_headline_ic_t_is_newey_west_from_statsmodels(result: StudyResult) -> No
     # statsmodels OLS on a constant with cov_type="HAC" (Bartlett, use_correction False) is the outside reference.
     import statsmodels.api as sm
 
-    from core.stats import hac_lags
+    from valuesift.core.stats import hac_lags
 
     for h in (1, 3, 12):
         x = result.rank_ic[h].dropna().to_numpy()
@@ -347,7 +347,7 @@ def test_headline_ic_t_is_newey_west_from_statsmodels(result: StudyResult) -> No
 
 
 def test_backtest_stats_are_consistent_with_returns(result: StudyResult) -> None:
-    from core.stats import max_drawdown, sharpe_ratio
+    from valuesift.core.stats import max_drawdown, sharpe_ratio
 
     bt = result.backtest
     r = bt.returns["cheapest"].dropna().to_numpy()

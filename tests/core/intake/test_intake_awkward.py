@@ -14,8 +14,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.errors import IntakeError
-from core.intake import PanelOptions, ReadOptions, build_panel, read_table
+from valuesift.core.errors import IntakeError
+from valuesift.core.intake import PanelOptions, ReadOptions, build_panel, read_table
 
 HERE = pathlib.Path(__file__).resolve().parents[2] / "data" / "awkward"
 CASES = json.loads((HERE / "cases.json").read_text(encoding="utf-8"))

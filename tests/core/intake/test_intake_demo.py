@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.intake import PanelOptions, ReadOptions, build_panel, read_table
+from valuesift.core.intake import PanelOptions, ReadOptions, build_panel, read_table
 
 DEMO = pathlib.Path(__file__).resolve().parents[3] / "sample_data"
 MISSING = {"#N/A", "n.a.", "--", "NA", "n.m."}

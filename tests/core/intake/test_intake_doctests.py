@@ -12,7 +12,7 @@ MODULES = ["numbers", "dates", "kinds", "_common", "files", "align", "splits", "
 
 @pytest.mark.parametrize("mod", MODULES)
 def test_docstring_examples(mod: str) -> None:
-    module = importlib.import_module(f"core.intake.{mod}")
+    module = importlib.import_module(f"valuesift.core.intake.{mod}")
     result = doctest.testmod(module, optionflags=doctest.NORMALIZE_WHITESPACE)
-    assert result.attempted > 0, f"core.intake.{mod} has no examples"
+    assert result.attempted > 0, f"valuesift.core.intake.{mod} has no examples"
     assert result.failed == 0

@@ -10,11 +10,11 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.errors import ConfigError, IntakeError, Reason
-from core.intake import PanelOptions, ReadOptions, build_panel, load_files, read_table
-from core.intake.align import align_to_months, month_calendar
-from core.intake.flags import longest_flat_run
-from core.intake.splits import apply_split, detect_splits, shows_same_jump
+from valuesift.core.errors import ConfigError, IntakeError, Reason
+from valuesift.core.intake import PanelOptions, ReadOptions, build_panel, load_files, read_table
+from valuesift.core.intake.align import align_to_months, month_calendar
+from valuesift.core.intake.flags import longest_flat_run
+from valuesift.core.intake.splits import apply_split, detect_splits, shows_same_jump
 
 ME = pd.date_range("2019-01-31", periods=8, freq="ME")
 
@@ -232,7 +232,7 @@ def test_build_price_file_without_valid_prices() -> None:
 
 
 def test_unexpected_failures_are_wrapped(monkeypatch: pytest.MonkeyPatch) -> None:
-    import core.intake.build as build
+    import valuesift.core.intake.build as build
 
     prices = _prices({"TOR14": [10, 11, 12, 13, 14, 15, 16, 17]})
 

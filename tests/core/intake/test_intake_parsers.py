@@ -6,13 +6,13 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.errors import IntakeError, Reason
-from core.intake import guess_kind
-from core.intake import numbers as nb
-from core.intake.dates import parse_dates
-from core.intake.kinds import infer_earnings_form
-from core.intake.numbers import detect_decimal, parse_numbers
-from core.intake.sniff import decode, find_header, looks_like_index, sniff_delimiter, split_sample
+from valuesift.core.errors import IntakeError, Reason
+from valuesift.core.intake import guess_kind
+from valuesift.core.intake import numbers as nb
+from valuesift.core.intake.dates import parse_dates
+from valuesift.core.intake.kinds import infer_earnings_form
+from valuesift.core.intake.numbers import detect_decimal, parse_numbers
+from valuesift.core.intake.sniff import decode, find_header, looks_like_index, sniff_delimiter, split_sample
 
 
 @pytest.mark.parametrize(

@@ -11,8 +11,8 @@ import pandas as pd
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from core.errors import IntakeError
-from core.intake import ReadOptions, read_table
+from valuesift.core.errors import IntakeError
+from valuesift.core.intake import ReadOptions, read_table
 
 SETTINGS = settings(max_examples=30, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow])
 

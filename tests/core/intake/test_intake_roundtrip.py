@@ -15,9 +15,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-import core.intake.readers as readers
-from core.errors import IntakeError, Reason
-from core.intake import ReadOptions, read_table
+import valuesift.core.intake.readers as readers
+from valuesift.core.errors import IntakeError, Reason
+from valuesift.core.intake import ReadOptions, read_table
 
 
 def make_frame(seed: int, n_dates: int = 14, n_secs: int = 6, blank_share: float = 0.15) -> pd.DataFrame:

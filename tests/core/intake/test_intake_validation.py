@@ -6,9 +6,9 @@ import io
 
 import pytest
 
-import core.intake.files as files_mod
-from core.errors import ConfigError, IntakeError, Reason
-from core.intake import ReadOptions, read_table
+import valuesift.core.intake.files as files_mod
+from valuesift.core.errors import ConfigError, IntakeError, Reason
+from valuesift.core.intake import ReadOptions, read_table
 
 
 @pytest.mark.parametrize(
