@@ -129,7 +129,7 @@ def load_study_panel(args: argparse.Namespace) -> tuple[Any, list[dict[str, Any]
 
 
 def config_from_args(args: argparse.Namespace, panel: Any) -> Any:
-    from valuesift.core.study import StudyConfig
+    from valuesift.core.config import StudyConfig
 
     signal = args.signal_kind
     if signal is None:
@@ -177,7 +177,8 @@ def _progress_printer(quiet: bool) -> Any:
 
 
 def run_study_command(args: argparse.Namespace) -> int:
-    from valuesift.core.study import ic_by_date_frame, run_study, summary_dict
+    from valuesift.core.reporting.summary import ic_by_date_frame, summary_dict
+    from valuesift.core.study import run_study
 
     show = _progress_printer(args.quiet)
     show("reading files", 0.0)

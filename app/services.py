@@ -24,7 +24,9 @@ from valuesift.app.workspace import Workspace, options_to_dict
 from valuesift.core.errors import ValueSiftError
 from valuesift.core.intake import PanelOptions, build_panel
 from valuesift.core.panel import Panel
-from valuesift.core.study import StudyConfig, StudyResult, run_study
+from valuesift.core.config import StudyConfig
+from valuesift.core.result import StudyResult
+from valuesift.core.study import run_study
 
 __all__ = ["job_done", "finished_result", "AppState", "StudyJob", "Selection", "state", "normalise_selection", "LRU", "current_owner",
            "SESSION_COOKIE", "selection_key"]

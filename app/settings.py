@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from valuesift.core.study import StudyConfig
+from valuesift.core.config import StudyConfig
 
 __all__ = ["DEFAULT_SETTINGS", "HORIZON_CHOICES", "config_from_settings", "clean_settings"]
 

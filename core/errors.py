@@ -106,7 +106,29 @@ class IntakeError(ValueSiftError):
 
 
 class ConfigError(ValueSiftError):
-    """A study setting is invalid (names the setting, the value and the allowed range)."""
+    """A setting is invalid or does not fit the data.
+
+    Attributes
+    ----------
+    setting : str or None
+        Name of the (first) setting at fault, when there is one; the dashboard uses it
+        to point at the control to change.
+    failures : tuple of dict
+        Every failed check, each with ``setting``, ``value``, ``rule`` and ``hint``
+        (validation collects them all before raising).
+    """
+
+    def __init__(
+        self,
+        message: str,
+        *,
+        hint: str | None = None,
+        setting: str | None = None,
+        failures: tuple[dict[str, object], ...] = (),
+    ) -> None:
+        self.failures = tuple(failures)
+        self.setting = setting if setting is not None else (str(failures[0]["setting"]) if failures else None)
+        super().__init__(message, hint=hint)
 
 
 class InsufficientDataError(ValueSiftError):

@@ -11,8 +11,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from valuesift.core._typing import DividendTreatment
-from valuesift.core.stats import row_mean
+from valuesift.core.choices import DividendTreatment
+from valuesift.core.arrays import row_mean
 
 __all__ = [
     "PriceTrack",

@@ -27,7 +27,8 @@ from valuesift.app.bundle.text import sweep_reading
 from valuesift.app.bundle.pdf import build_pdf
 from valuesift.app.caution import CAUTION
 from valuesift.core.errors import ConfigError
-from valuesift.core.study import StudyResult, summary_dict
+from valuesift.core.result import StudyResult
+from valuesift.core.reporting.summary import summary_dict
 
 __all__ = ["BundlePaths", "write_bundle", "bundle_name", "default_horizon", "INCLUDE_CHOICES", "merge_inputs"]
 

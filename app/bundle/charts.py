@@ -26,7 +26,7 @@ from valuesift.app.figures import backtest as fb
 from valuesift.app.figures._common import wrap
 from valuesift.app.figures import data as fd
 from valuesift.app.figures import study as fs
-from valuesift.core.study import StudyResult
+from valuesift.core.result import StudyResult
 
 __all__ = ["ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
            "plotly_js_path", "find_browser", "NO_BROWSER_HINT", "RenderOutcome", "RenderJob", "start_render", "print_jpeg"]

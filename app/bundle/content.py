@@ -15,7 +15,7 @@ from valuesift.app.bundle.text import CHART_READINGS, headline_sentences, share_
 from valuesift.app.caution import CAUTION
 from valuesift.app.figures._common import fmt_num, fmt_pct, span
 from valuesift.app.figures.study import return_label, signal_label
-from valuesift.core.study import StudyResult
+from valuesift.core.result import StudyResult
 
 __all__ = ["report_input", "summary_rows", "screen_frames"]
 

@@ -19,7 +19,8 @@ import numpy as np
 import pandas as pd
 
 from valuesift.app.screen_table import neutralise
-from valuesift.core.study import StudyResult, ic_by_date_frame
+from valuesift.core.result import StudyResult
+from valuesift.core.reporting.summary import ic_by_date_frame
 
 __all__ = ["TABLES", "TABLE_KEYS", "result_tables", "write_csv", "xlsx_bytes", "FIXED_ZIP_TIME"]
 
@@ -124,7 +125,7 @@ def _screen(result: StudyResult) -> pd.DataFrame:
 
 
 def _summary(result: StudyResult) -> pd.DataFrame:
-    from valuesift.core.study import summary_dict
+    from valuesift.core.reporting.summary import summary_dict
 
     d = summary_dict(result)
     rows = [{"horizon": int(h), **block} for h, block in d["horizons"].items()]

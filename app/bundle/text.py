@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 
 from valuesift.app.figures._common import fmt_num, fmt_pct, month, span
-from valuesift.core.study import StudyResult
+from valuesift.core.result import StudyResult
 
 __all__ = [
     "verdict",

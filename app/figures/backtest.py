@@ -8,7 +8,7 @@ import plotly.graph_objects as go
 
 from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, message_figure, span
 from valuesift.app.figures.theme import CHEAP, SERIES
-from valuesift.core.study import StudyResult
+from valuesift.core.result import StudyResult
 
 __all__ = ["PORTFOLIO_LABELS", "growth_figure", "drawdown_figure", "cohort_figure", "stats_text"]
 

@@ -11,8 +11,8 @@ import plotly.graph_objects as go
 from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_t, message_figure, month, span
 from valuesift.app.figures.study import return_label, signal_label
 from valuesift.app.figures.theme import CHEAP, DEAR, MUTED, diverging
-from valuesift.core.evaluate.screen import security_history
-from valuesift.core.study import StudyResult
+from valuesift.core.reporting.screen import security_history
+from valuesift.core.result import StudyResult
 
 __all__ = ["signal_history_figure", "later_returns_figure"]
 

@@ -14,7 +14,7 @@ import plotly.graph_objects as go
 
 from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, fmt_t, message_figure, month, span
 from valuesift.app.figures.theme import CHEAP, MUTED, SERIES, diverging
-from valuesift.core.study import StudyResult
+from valuesift.core.result import StudyResult
 
 __all__ = [
     "signal_label",

@@ -13,7 +13,7 @@ from valuesift.app.figures._common import message_figure
 from valuesift.app.ids import decode_id
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state
-from valuesift.core.evaluate.screen import SINGLE_NAME_CAUTION
+from valuesift.core.reporting.screen import SINGLE_NAME_CAUTION
 
 dash.register_page(__name__, path_template="/company/<code>", name="Company", nav=False, order=9,
                    title="ValueSift - Company")

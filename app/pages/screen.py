@@ -16,7 +16,7 @@ from valuesift.app.jobs_ui import alert, job_components, register_job_callbacks
 from valuesift.app.screen_table import COLUMNS, apply_filter, apply_sort, display_frame, page, to_csv_bytes, to_xlsx_bytes
 from valuesift.app.services import LRU, finished_result, job_done, state
 from valuesift.core.errors import ValueSiftError
-from valuesift.core.evaluate.screen import screen_table
+from valuesift.core.reporting.screen import screen_table
 
 dash.register_page(__name__, path="/screen", name="Screen", order=2, title="ValueSift - Screen")
 

@@ -89,7 +89,7 @@ def study_settings(config: dict[str, Any]) -> tuple[dict[str, Any], list[str]]:
     settings that differ from the defaults but have no control on the Study page.
     """
     from valuesift.app.settings import DEFAULT_SETTINGS
-    from valuesift.core.study import StudyConfig
+    from valuesift.core.config import StudyConfig
 
     s = dict(DEFAULT_SETTINGS)
     for k in s:

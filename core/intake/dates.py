@@ -11,7 +11,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from valuesift.core._typing import DateOrder
+from valuesift.core.choices import DateOrder
 
 __all__ = ["DateResult", "parse_dates", "date_share"]
 

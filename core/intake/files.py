@@ -8,7 +8,7 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from valuesift.core._typing import FileKind
+from valuesift.core.choices import FileKind
 from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake.options import ReadOptions
 from valuesift.core.intake.readers import read_grid

@@ -5,7 +5,7 @@ from __future__ import annotations
 import re
 from typing import Sequence
 
-from valuesift.core._typing import FileKind
+from valuesift.core.choices import FileKind
 from valuesift.core.intake.sniff import norm_name
 
 __all__ = ["guess_kind", "infer_earnings_form", "VALUE_WORDS"]

@@ -6,15 +6,7 @@ import re
 from dataclasses import dataclass
 from typing import get_args
 
-from valuesift.core._typing import (
-    DateOrder,
-    DecimalStyle,
-    DuplicateRule,
-    EarningsForm,
-    FileKind,
-    IdCleanup,
-    Layout,
-)
+from valuesift.core.choices import DateOrder, DecimalStyle, DuplicateRule, EarningsForm, FileKind, IdCleanup, Layout
 from valuesift.core.errors import ConfigError
 
 __all__ = ["ReadOptions", "PanelOptions"]

@@ -13,7 +13,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from valuesift.core._typing import FileKind
+from valuesift.core.choices import FileKind
 from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake import numbers as nb
 from valuesift.core.intake._common import (

@@ -17,7 +17,8 @@ from valuesift.core.sweep.grid import DIMENSIONS, GridPoint, SweepGrid, config_i
 from valuesift.core.sweep.partitioned import PartitionedResult, run_partitioned_study
 from valuesift.core.sweep.run import SweepResult, evaluate_point, panel_fingerprint, run_sweep
 from valuesift.core.sweep.store import load_sweep, save_sweep
-from valuesift.core.sweep.table import adjust_pvalues, comparison_table, two_sided_p
+from valuesift.core.multiple_testing.adjust import adjust_pvalues, two_sided_p
+from valuesift.core.sweep.table import comparison_table
 
 __all__ = [
     "DIMENSIONS", "GridPoint", "SweepGrid", "config_id", "parse_grid", "read_grid",

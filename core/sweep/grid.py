@@ -37,7 +37,7 @@ from pathlib import Path
 from typing import Any, Callable
 
 from valuesift.core.errors import ConfigError
-from valuesift.core.study import StudyConfig
+from valuesift.core.config import StudyConfig
 
 __all__ = ["GridPoint", "SweepGrid", "DIMENSIONS", "parse_grid", "read_grid", "config_id", "MAX_POINTS"]
 

@@ -33,23 +33,19 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from valuesift.core._study_steps import _grid
+from valuesift.core.study.steps import to_month_grid
 from valuesift.core.errors import ConfigError, InsufficientDataError
-from valuesift.core.evaluate.ic import ic_by_date, ic_summary
-from valuesift.core.evaluate.quantiles import _fast_means, _quantile_index, assign_quantiles
+from valuesift.core.correlation.ic import ic_by_date, ic_summary
+from valuesift.core.quantiles.means import means_by_index, quantile_index
+from valuesift.core.quantiles.assign import assign_quantiles
 from valuesift.core.panel import Panel, UserSignal
 from valuesift.core.returns import excess_returns, forward_returns, level_forward_returns, price_track
-from valuesift.core.signals import (
-    base_universe,
-    clean_values,
-    composite_zmean,
-    raw_signal,
-    sector_codes,
-    sector_zscore,
-    standardise,
-)
-from valuesift.core.stats import average_ranks, hac_lags, mean_inference
-from valuesift.core.study import StudyConfig
+from valuesift.core.signals.universe import base_universe
+from valuesift.core.signals.clean import clean_values, composite_zmean, sector_codes, sector_zscore, standardise
+from valuesift.core.signals.build import raw_signal
+from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.inference.hac import hac_lags, mean_inference
+from valuesift.core.config import StudyConfig
 
 __all__ = ["PartitionedResult", "run_partitioned_study"]
 
@@ -154,14 +150,14 @@ def _stage_b(pieces: list[dict[str, Any]], settings: dict[str, Any], codes: np.n
     zeval = z.copy()
     zranks = average_ranks(zeval)
     q = assign_quantiles(zeval, cfg.n_quantiles, tiebreak=tiebreak)
-    qidx = _quantile_index(q, cfg.n_quantiles)
+    qidx = quantile_index(q, cfg.n_quantiles)
     out: dict[str, Any] = {"universe": universe, "z": zeval, "q": q, "fwd": {}, "ic": {}, "qret": {}}
     for h, r in d["fwd"].items():
         r = np.where(universe, r, np.nan)
         f = excess_returns(r, cfg.excess_over, None if bench_fwd is None else bench_fwd[h])
         out["fwd"][h] = f
         out["ic"][h] = ic_by_date(zeval, f, cfg.min_breadth, zranks)
-        out["qret"][h] = _fast_means(qidx, f)[0]
+        out["qret"][h] = means_by_index(qidx, f)[0]
     return out
 
 
@@ -215,7 +211,7 @@ def run_partitioned_study(
     if not isinstance(config, StudyConfig):
         raise ConfigError("run_partitioned_study needs a StudyConfig.", hint="Build one with StudyConfig(...).")
     notes: list[str] = []
-    panel = _grid(panel.with_(report=None), notes)
+    panel = to_month_grid(panel.with_(report=None), notes)
     dates = pd.DatetimeIndex(panel.prices.index, name="date")
     secs = pd.Index(panel.prices.columns, name="security")
     t_len, n_sec = panel.shape

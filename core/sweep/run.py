@@ -106,7 +106,9 @@ def evaluate_point(panel: Panel, settings: dict[str, Any]) -> dict[str, Any]:
     ``{"status": "failed", "error": message}``; an error never escapes, so one
     bad point cannot sink the sweep.
     """
-    from valuesift.core.study import StudyConfig, run_study, summary_dict
+    from valuesift.core.config import StudyConfig
+    from valuesift.core.study import run_study
+    from valuesift.core.reporting.summary import summary_dict
 
     try:
         cfg = StudyConfig.from_dict(dict(settings))

@@ -7,7 +7,8 @@ import pandas as pd
 import pytest
 
 from valuesift.core.panel import Panel
-from valuesift.core.study import StudyConfig, run_study
+from valuesift.core.config import StudyConfig
+from valuesift.core.study import run_study
 
 
 def make_panel(seed: int = 7, n_sec: int = 40, n_months: int = 72) -> Panel:

@@ -72,8 +72,8 @@ def test_results_survive_a_restart_through_the_filesystem_cache(demo_app, monkey
 @pytest.mark.parametrize("settings, words", [
     ({"min_history_months": 240}, "Not enough data"),
     ({"universe": "sectors", "universe_sectors": ["No Such Sector"]}, "Not enough data"),
-    ({"universe": "sectors", "universe_sectors": []}, "universe_sectors"),
-    ({"horizons": []}, "horizons"),
+    ({"universe": "sectors", "universe_sectors": []}, "Sectors kept"),
+    ({"horizons": []}, "Horizons (months)"),
 ])
 def test_degenerate_studies_give_the_error_text(demo_app, settings, words) -> None:  # type: ignore[no-untyped-def]
     app, _, sel, _ = demo_app
@@ -86,6 +86,7 @@ def test_degenerate_studies_give_the_error_text(demo_app, settings, words) -> No
             msg = _rest[3]
         assert job["status"] == "failed"
         assert words in msg.children and "Traceback" not in msg.children
+        assert "universe_sectors" not in msg.children and "n_quantiles" not in msg.children  # words, not codes
         assert msg.className.endswith("error")
 
 

@@ -26,11 +26,11 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from valuesift.core._study_steps import _per_horizon
-from valuesift.core.evaluate.ic import ic_by_date
+from valuesift.core.study.steps import _per_horizon
+from valuesift.core.correlation.ic import ic_by_date
 from valuesift.core.panel import Panel
 from valuesift.core.returns import forward_returns, price_track
-from valuesift.core.stats import average_ranks
+from valuesift.core.correlation.ranks import average_ranks
 
 __all__ = ["dividend_dict", "notebook_forward_ic", "engine_forward_ic", "compare", "AGREEMENT_TOL"]
 

@@ -24,7 +24,8 @@ if str(ROOT) not in sys.path:
 
 def main() -> int:
     from valuesift.app.bundle import find_browser, write_bundle
-    from valuesift.core.study import StudyConfig, run_study
+    from valuesift.core.config import StudyConfig
+    from valuesift.core.study import run_study
 
     from tests.bundle.conftest import load_demo  # the same demo panel as the bundle tests
 

@@ -55,7 +55,7 @@ def measure_dashboard(panel: Panel, repeats: int = 5) -> dict[str, Any]:
     from valuesift.app.services import AppState
     from valuesift.app.workspace import Workspace
     from valuesift.core.intake import ReadOptions
-    from valuesift.core.study import StudyConfig
+    from valuesift.core.config import StudyConfig
 
     out: dict[str, Any] = {}
     with tempfile.TemporaryDirectory(prefix="valuesift-bench-app-") as tmp:

@@ -46,7 +46,8 @@ ROOT = HERE.parents[1]
 if str(ROOT) not in sys.path:  # also runnable as a plain script
     sys.path.insert(0, str(ROOT))
 
-from valuesift.core.study import StudyConfig, run_study  # noqa: E402
+from valuesift.core.config import StudyConfig
+from valuesift.core.study import run_study
 from tests.benchmarks.baseline import compare, dividend_dict, engine_forward_ic, notebook_forward_ic  # noqa: E402
 from tests.benchmarks.synth import GROWTH_SIZES, SIZES, daily_files, monthly_panel  # noqa: E402
 

@@ -39,7 +39,8 @@ def demo_panel(tmp_path_factory: pytest.TempPathFactory) -> Any:
 
 @pytest.fixture(scope="session")
 def demo_result(demo_panel: Any) -> Any:
-    from valuesift.core.study import StudyConfig, run_study
+    from valuesift.core.config import StudyConfig
+    from valuesift.core.study import run_study
 
     return run_study(demo_panel, StudyConfig(horizons=HORIZONS))
 

@@ -17,7 +17,7 @@ import pytest
 from valuesift.app.bundle import CHART_KEYS, TABLE_KEYS, bundle_name, find_browser
 from valuesift.app.bundle.charts import plotly_js_path
 from valuesift.app.bundle.tables import result_tables
-from valuesift.core.study import ic_by_date_frame, summary_dict
+from valuesift.core.reporting.summary import ic_by_date_frame, summary_dict
 
 needs_browser = pytest.mark.skipif(find_browser() is None, reason="no Chrome/Chromium: images are not rendered "
                                                                   "(the no-browser path is tested separately)")

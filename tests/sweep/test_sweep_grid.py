@@ -7,7 +7,7 @@ from pathlib import Path
 import pytest
 
 from valuesift.core.errors import ConfigError
-from valuesift.core.study import StudyConfig
+from valuesift.core.config import StudyConfig
 from valuesift.core.sweep import config_id, parse_grid, read_grid
 from valuesift.core.sweep import grid as grid_mod
 

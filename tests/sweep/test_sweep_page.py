@@ -75,7 +75,7 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
         assert urlsplit(href).path == "/study" and q == {"sweep": "first", "point": target["point_id"]}
         settings = page.settings_from_query(app.server.extensions["valuesift"].workspace.root, q)
         # the Study page's settings give back the sweep point's configuration
-        from valuesift.core.study import StudyConfig
+        from valuesift.core.config import StudyConfig
 
         want = StudyConfig.from_dict(res.configs[target["point_id"]])
         got = config_from_settings(settings)
@@ -97,7 +97,7 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
 
 def test_settings_the_study_page_cannot_show_are_named() -> None:
     from valuesift.app.pages.sweep import study_settings
-    from valuesift.core.study import StudyConfig
+    from valuesift.core.config import StudyConfig
 
     s, missing = study_settings(StudyConfig(min_breadth=7, winsor_percentiles=(1.0, 95.0), horizons=(3, 1)).to_dict())
     assert s["horizons"] == [1, 3] and s["winsor_lower"] == 1.0

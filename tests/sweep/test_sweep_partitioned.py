@@ -8,7 +8,8 @@ import numpy as np
 import pytest
 
 from valuesift.core.errors import ConfigError, InsufficientDataError
-from valuesift.core.study import StudyConfig, run_study
+from valuesift.core.config import StudyConfig
+from valuesift.core.study import run_study
 from valuesift.core.sweep import run_partitioned_study
 
 CONFIGS = {

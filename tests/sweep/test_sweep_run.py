@@ -10,7 +10,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from valuesift.core.study import StudyConfig, run_study, summary_dict
+from valuesift.core.config import StudyConfig
+from valuesift.core.study import run_study
+from valuesift.core.reporting.summary import summary_dict
 from valuesift.core.sweep import load_sweep, parse_grid, run_sweep, save_sweep
 from valuesift.core.sweep import run as run_mod
 

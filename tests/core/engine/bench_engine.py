@@ -15,7 +15,8 @@ sys.path.insert(0, str(Path(__file__).parent))
 
 from _panels import make_panel  # noqa: E402
 
-from valuesift.core.study import StudyConfig, run_study  # noqa: E402
+from valuesift.core.config import StudyConfig
+from valuesift.core.study import run_study
 
 
 def main() -> None:

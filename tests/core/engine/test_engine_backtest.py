@@ -6,10 +6,10 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from valuesift.core.backtest import run_backtest
-from valuesift.core.evaluate.famamacbeth import fm_slopes
-from valuesift.core.evaluate.ic import ic_by_date
-from valuesift.core.stats import hit_rate, max_drawdown, sharpe_ratio
+from valuesift.core.portfolio.backtest import run_backtest
+from valuesift.core.regression.famamacbeth import fm_slopes
+from valuesift.core.correlation.ic import ic_by_date
+from valuesift.core.portfolio.performance import hit_rate, max_drawdown, sharpe_ratio
 
 
 def test_max_drawdown_reference() -> None:

@@ -19,7 +19,8 @@ _ROOT = str(Path(__file__).resolve().parents[3])
 if _ROOT not in sys.path:  # the benchmark package lives in tests/benchmarks (not installed)
     sys.path.insert(0, _ROOT)
 
-from valuesift.core.study import StudyConfig, run_study  # noqa: E402
+from valuesift.core.config import StudyConfig
+from valuesift.core.study import run_study
 from tests.benchmarks.baseline import (  # noqa: E402
     AGREEMENT_TOL,
     compare,

@@ -6,8 +6,9 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from valuesift.core.evaluate.ic import ic_by_date
-from valuesift.core.stats import average_ranks, row_pearson, row_spearman
+from valuesift.core.correlation.ic import ic_by_date
+from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.correlation.rowwise import row_pearson, row_spearman
 
 
 def test_spearman_no_ties_worked_example() -> None:

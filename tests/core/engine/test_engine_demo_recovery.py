@@ -8,7 +8,8 @@ import pytest
 
 from valuesift.core.demo import DEMO_TRUTH, expected_spearman_ic, ic_standard_error, simulate_demo
 from valuesift.core.panel import Panel
-from valuesift.core.study import StudyConfig, run_study
+from valuesift.core.config import StudyConfig
+from valuesift.core.study import run_study
 
 
 @pytest.fixture(scope="module")

@@ -8,9 +8,9 @@ import pytest
 import statsmodels.api as sm
 from linearmodels.panel import FamaMacBeth
 
-from valuesift.core.evaluate.famamacbeth import fm_slopes
-from valuesift.core.evaluate.ic import ic_by_date
-from valuesift.core.stats import mean_inference
+from valuesift.core.regression.famamacbeth import fm_slopes
+from valuesift.core.correlation.ic import ic_by_date
+from valuesift.core.inference.hac import mean_inference
 
 # REFERENCE_CHECKS 7 (Fama & MacBeth 1973, JPE 81(3)): four dates x six stocks.
 EY = np.array([

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 import statsmodels.api as sm
 
-from valuesift.core.stats import auto_lags, hac_lags, mean_inference, newey_west_se
+from valuesift.core.inference.hac import auto_lags, hac_lags, mean_inference, newey_west_se
 
 X5 = np.array([0.05, 0.02, -0.01, 0.08, 0.03, 0.06, -0.02, 0.04, 0.07, 0.01, 0.05, 0.03])
 M6 = np.array([0.02, -0.01, 0.03, 0.01, -0.02, 0.04, 0.00, 0.01, -0.03, 0.02, 0.05, -0.01, 0.02, 0.01])

@@ -9,7 +9,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from valuesift.core.panel import Panel, UserSignal
-from valuesift.core.study import StudyConfig, run_study
+from valuesift.core.config import StudyConfig
+from valuesift.core.study import run_study
 
 BASE = make_panel(n_dates=30, n_sec=16, seed=21, ic=0.2, with_mcap=True, with_user=True)
 

@@ -5,7 +5,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from valuesift.core.evaluate.quantiles import assign_quantiles, monotonicity, quantile_means, quantile_turnover
+from valuesift.core.quantiles.assign import assign_quantiles
+from valuesift.core.quantiles.spread import monotonicity
+from valuesift.core.quantiles.means import quantile_means
+from valuesift.core.quantiles.turnover import quantile_turnover
 
 EY = np.array([[.10, .02, .07, .04, .12, .01, .09, .05, .08, .03]])
 R = np.array([[.030, -.010, .015, .000, .040, -.020, .020, .005, .010, -.005]])

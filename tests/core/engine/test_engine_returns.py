@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from valuesift.core.returns import forward_returns, level_forward_returns, monthly_returns, price_track
-from valuesift.core.stats import annualise
+from valuesift.core.portfolio.performance import annualise
 
 
 def _track(prices: list[float], divs: list[float]):  # type: ignore[no-untyped-def]

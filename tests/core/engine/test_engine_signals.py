@@ -9,15 +9,9 @@ from scipy import stats
 from scipy.stats import mstats
 
 from valuesift.core.panel import Panel
-from valuesift.core.signals import (
-    dividend_yield,
-    earnings_yield,
-    lagged_eps,
-    pe_ratio,
-    sector_zscore,
-    trailing_dividends,
-)
-from valuesift.core.stats import MAD_SCALE, clip_robust_rows, winsorise_rows, zscore_rows
+from valuesift.core.signals.build import dividend_yield, earnings_yield, lagged_eps, pe_ratio, trailing_dividends
+from valuesift.core.signals.clean import sector_zscore
+from valuesift.core.signals.clean import MAD_SCALE, clip_robust_rows, winsorise_rows, zscore_rows
 
 
 def test_winsorise_matches_scipy_mstats_reference() -> None:

@@ -10,8 +10,11 @@ import pytest
 from _panels import make_panel
 
 from valuesift.core.errors import ConfigError, InsufficientDataError
-from valuesift.core.evaluate.screen import SINGLE_NAME_CAUTION, screen_table, security_history
-from valuesift.core.study import StudyConfig, StudyResult, ic_by_date_frame, run_study, summary_dict
+from valuesift.core.reporting.screen import SINGLE_NAME_CAUTION, screen_table, security_history
+from valuesift.core.config import StudyConfig
+from valuesift.core.result import StudyResult
+from valuesift.core.reporting.summary import ic_by_date_frame, summary_dict
+from valuesift.core.study import run_study
 
 
 @pytest.fixture(scope="module")
@@ -69,8 +72,10 @@ def result(panel) -> StudyResult:  # type: ignore[no-untyped-def]
     ],
 )
 def test_config_validation(kwargs: dict, match: str) -> None:
-    with pytest.raises(ConfigError, match=match):
+    with pytest.raises(ConfigError) as err:
         StudyConfig(**kwargs)
+    assert err.value.setting == match
+    assert match in {f["setting"] for f in err.value.failures}
 
 
 def test_config_normalises_and_is_frozen() -> None:
@@ -331,7 +336,7 @@ def test_headline_ic_t_is_newey_west_from_statsmodels(result: StudyResult) -> No
     # statsmodels OLS on a constant with cov_type="HAC" (Bartlett, use_correction False) is the outside reference.
     import statsmodels.api as sm
 
-    from valuesift.core.stats import hac_lags
+    from valuesift.core.inference.hac import hac_lags
 
     for h in (1, 3, 12):
         x = result.rank_ic[h].dropna().to_numpy()
@@ -347,7 +352,7 @@ def test_headline_ic_t_is_newey_west_from_statsmodels(result: StudyResult) -> No
 
 
 def test_backtest_stats_are_consistent_with_returns(result: StudyResult) -> None:
-    from valuesift.core.stats import max_drawdown, sharpe_ratio
+    from valuesift.core.portfolio.performance import max_drawdown, sharpe_ratio
 
     bt = result.backtest
     r = bt.returns["cheapest"].dropna().to_numpy()

@@ -7,7 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from valuesift.core.stats import hit_rate, max_drawdown, sharpe_ratio
+from valuesift.core.portfolio.performance import hit_rate, max_drawdown, sharpe_ratio
 
 __all__ = ["BacktestResult", "run_backtest"]
 

@@ -1,4 +1,9 @@
-"""Information coefficients per date and their time-series summary."""
+"""Information coefficients: rank and Pearson IC per date, their time summary, rolling means.
+
+References
+----------
+Spearman, C. (1904). Am. J. Psychol. 15(1); Grinold, R. (1989). J. Portfolio Mgmt 15(3).
+"""
 
 from __future__ import annotations
 
@@ -7,11 +12,13 @@ import math
 import numpy as np
 import pandas as pd
 
-from valuesift.core._typing import HacLagRule
-from valuesift.core.evaluate.famamacbeth import _slope_from_centred
-from valuesift.core.stats import _masked_spearman, _pearson_parts, hac_lags, mean_inference
+from valuesift.core.choices import HacLagRule
+from valuesift.core.correlation.rowwise import masked_spearman, pearson_parts
+from valuesift.core.inference.hac import hac_lags, mean_inference
+from valuesift.core.regression.famamacbeth import slope_from_centred
 
-__all__ = ["ic_by_date", "ic_summary", "rolling_ic", "ROLLING_WINDOWS"]
+__all__ = ["ic_by_date", "ic_and_slope", "ic_summary", "rolling_ic", "ROLLING_WINDOWS"]
+
 
 #: Windows (in dates) of the rolling mean IC.
 ROLLING_WINDOWS: tuple[int, ...] = (12, 36)
@@ -50,13 +57,13 @@ def ic_by_date(
     """
     both = np.isfinite(z) & np.isfinite(fwd)  # one mask and count shared by both correlations
     n = both.sum(axis=1)
-    rho = _masked_spearman(z, fwd, both, n, z_ranks)
-    r = _pearson_parts(z, fwd, both, n)[0]
+    rho = masked_spearman(z, fwd, both, n, z_ranks)
+    r = pearson_parts(z, fwd, both, n)[0]
     low = n < min_breadth
     return np.where(low, np.nan, rho), np.where(low, np.nan, r), n.astype(int)
 
 
-def _ic_and_slope(
+def ic_and_slope(
     z: np.ndarray, fwd: np.ndarray, min_breadth: int, z_ranks: np.ndarray | None
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """:func:`ic_by_date` plus the Fama-MacBeth slope without controls, sharing the centred arrays.
@@ -66,9 +73,9 @@ def _ic_and_slope(
     """
     both = np.isfinite(z) & np.isfinite(fwd)
     n = both.sum(axis=1)
-    rho = _masked_spearman(z, fwd, both, n, z_ranks)
-    r, dz, dy, zm = _pearson_parts(z, fwd, both, n)
-    slope = _slope_from_centred(dz, dy, zm, n)
+    rho = masked_spearman(z, fwd, both, n, z_ranks)
+    r, dz, dy, zm = pearson_parts(z, fwd, both, n)
+    slope = slope_from_centred(dz, dy, zm, n)
     low = n < min_breadth
     return np.where(low, np.nan, rho), np.where(low, np.nan, r), n.astype(int), slope
 

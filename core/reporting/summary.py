@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 
 if TYPE_CHECKING:  # pragma: no cover
-    from valuesift.core.study import StudyResult
+    from valuesift.core.result import StudyResult
 
 __all__ = ["summary_dict", "ic_by_date_frame"]
 

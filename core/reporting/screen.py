@@ -8,10 +8,10 @@ import numpy as np
 import pandas as pd
 
 from valuesift.core.errors import ConfigError
-from valuesift.core.stats import zscore_rows
+from valuesift.core.signals.clean import zscore_rows
 
 if TYPE_CHECKING:  # pragma: no cover
-    from valuesift.core.study import StudyResult
+    from valuesift.core.result import StudyResult
 
 __all__ = ["screen_table", "security_history", "quantile_label", "SINGLE_NAME_CAUTION", "STALE_MONTHS",
            "STALE_EPS_MONTHS"]

@@ -20,6 +20,8 @@ __all__ = [
     "UniverseRule",
     "HacLagRule",
     "ComparisonRule",
+    "NonPositiveRule",
+    "SeMethod",
 ]
 
 Layout = Literal["auto", "wide", "long"]
@@ -39,3 +41,5 @@ SmallSectorRule = Literal["pool", "drop", "raw"]
 UniverseRule = Literal["all", "sectors", "holdings"]
 HacLagRule = Literal["overlap", "overlap_or_auto"]
 ComparisonRule = Literal["universe", "benchmark"]
+NonPositiveRule = Literal["set_aside", "reciprocal"]
+SeMethod = Literal["hansen_hodrick", "newey_west", "newey_west_fallback", "iid"]

@@ -1,4 +1,4 @@
-"""The steps of :func:`core.study.run_study` (private; the public entry point is ``core.study``).
+"""The steps of :func:`valuesift.core.study.run_study` (the public entry point is ``valuesift.core.study``).
 
 Each step works on (dates x securities) numpy arrays; pandas labels are put
 back at the end.  Nothing here reads files or mutates the panel.
@@ -13,38 +13,25 @@ from typing import TYPE_CHECKING, Any, Callable, TypeVar
 import numpy as np
 import pandas as pd
 
-from valuesift.core.backtest import run_backtest
+from valuesift.core.arrays import row_mean
+from valuesift.core.correlation.ic import ic_and_slope, ic_by_date, ic_summary, rolling_ic
+from valuesift.core.correlation.ranks import average_ranks
 from valuesift.core.errors import ConfigError, InsufficientDataError
-from valuesift.core.evaluate.famamacbeth import fm_slopes
-from valuesift.core.evaluate.ic import _ic_and_slope, ic_by_date, ic_summary, rolling_ic
-from valuesift.core.evaluate.quantiles import (
-    _fast_means,
-    _quantile_index,
-    _quantile_masks,
-    assign_quantiles,
-    monotonicity,
-    quantile_turnover,
-)
 from valuesift.core.panel import Panel, month_end_index
+from valuesift.core.portfolio.backtest import run_backtest
+from valuesift.core.portfolio.performance import annualise
+from valuesift.core.quantiles.assign import assign_quantiles
+from valuesift.core.quantiles.means import means_by_index, quantile_index, quantile_member_counts
+from valuesift.core.quantiles.spread import spread_summary
+from valuesift.core.quantiles.turnover import quantile_turnover
+from valuesift.core.regression.famamacbeth import fm_slopes, fm_summary
 from valuesift.core.returns import excess_returns, forward_returns, level_forward_returns, monthly_returns, price_track
-from valuesift.core.signals import (
-    NO_SECTOR,
-    RawSignal,
-    base_universe,
-    clean_values,
-    composite_zmean,
-    lagged_eps,
-    months_since_valid,
-    pe_ratio,
-    raw_signal,
-    sector_codes,
-    sector_zscore,
-    standardise,
-)
-from valuesift.core.stats import annualise, average_ranks, hac_lags, mean_inference, row_mean
+from valuesift.core.signals.build import RawSignal, lagged_eps, months_since_valid, pe_ratio, raw_signal
+from valuesift.core.signals.clean import NO_SECTOR, clean_values, composite_zmean, sector_codes, sector_zscore, standardise
+from valuesift.core.signals.universe import base_universe
 
 if TYPE_CHECKING:  # pragma: no cover
-    from valuesift.core.study import StudyConfig
+    from valuesift.core.config import StudyConfig
 
 __all__ = ["compute_study"]
 
@@ -76,7 +63,7 @@ def _per_horizon(fn: Callable[[int], _T], horizons: tuple[int, ...], cells: int)
         return list(pool.map(fn, horizons))
 
 
-def _grid(panel: Panel, notes: list[str]) -> Panel:
+def to_month_grid(panel: Panel, notes: list[str]) -> Panel:
     """The panel on a complete, sorted month-end grid (a new panel; the input is untouched)."""
     p = panel.prices
     if not isinstance(p, pd.DataFrame) or p.shape[0] == 0 or p.shape[1] == 0:
@@ -143,7 +130,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
 
     notes: list[str] = []
     tick("preparing data", 0.0)
-    panel = _grid(panel, notes)
+    panel = to_month_grid(panel, notes)
     dates = pd.DatetimeIndex(panel.prices.index, name="date")
     secs = pd.Index(panel.prices.columns, name="security")
     t_len, n_sec = panel.shape
@@ -220,7 +207,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
 
     def ic_one(h: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray | None]:
         if fm_plain:
-            return _ic_and_slope(zeval, fwd[h], cfg.min_breadth, zranks)
+            return ic_and_slope(zeval, fwd[h], cfg.min_breadth, zranks)
         return (*ic_by_date(zeval, fwd[h], cfg.min_breadth, zranks), None)
 
     ics = _per_horizon(ic_one, cfg.horizons, cells)
@@ -250,26 +237,18 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     qret: dict[int, pd.DataFrame] = {}
     spread = np.full((t_len, len(hcols)), np.nan)
     qmean = np.full((len(hcols), n_q), np.nan)
-    srows = []
-    qmasks = _quantile_masks(q, n_q)  # shared by every horizon and the monthly returns
-    qidx = _quantile_index(q, n_q)
-    qms = _per_horizon(lambda h: _fast_means(qidx, fwd[h])[0], cfg.horizons, cells)
+    qidx = quantile_index(q, n_q)  # shared by every horizon and the monthly returns
+    qms = _per_horizon(lambda h: means_by_index(qidx, fwd[h])[0], cfg.horizons, cells)
     for j, h in enumerate(cfg.horizons):
         means = qms[j]
         qret[h] = pd.DataFrame(means, index=dates, columns=qcols)
         spread[:, j] = means[:, -1] - means[:, 0]
         qmean[j] = row_mean(means.T)
-        s = spread[:, j][np.isfinite(spread[:, j])]
-        inf = mean_inference(s, hac_lags(h, int(s.size), cfg.hac_lag_rule))
-        srows.append({"horizon": h, "mean": inf["mean"], "se_hac": inf["se_hac"], "t_hac": inf["t_hac"],
-                      "hac_lags": int(inf["hac_lags"]), "ci_low": inf["ci_low"], "ci_high": inf["ci_high"],
-                      "n_dates": int(inf["n_dates"]), "se_naive": inf["se_naive"],
-                      "mean_annualised": float(annualise(qmean[j, -1], h) - annualise(qmean[j, 0], h)),
-                      "monotonicity": monotonicity(qmean[j])})
-    counts = np.stack([qk.sum(axis=1) for qk in qmasks], axis=1)
+    ssum = spread_summary(spread, qmean, cfg.horizons, cfg.hac_lag_rule)
+    counts = quantile_member_counts(qidx)
 
     monthly = monthly_returns(track, cfg.delisting_return)
-    m_q, _ = _fast_means(qidx, monthly)
+    m_q, _ = means_by_index(qidx, monthly)
     qgrowth = pd.DataFrame(np.cumprod(1.0 + np.nan_to_num(m_q[:-1], nan=0.0), axis=0),
                            index=pd.DatetimeIndex(dates[1:], name="date"), columns=qcols)
 
@@ -281,16 +260,12 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
             controls.append(np.where(np.isfinite(mc) & (mc > 0), np.log(np.where(mc > 0, mc, 1.0)), np.nan))
     groups = codes if cfg.fm_sector_dummies else None
     fm = np.full((t_len, len(hcols)), np.nan)
-    frows = []
     fms = [ic[3] for ic in ics]
     if not fm_plain:
         fms = _per_horizon(lambda h: fm_slopes(zeval, fwd[h], controls, groups)[0], cfg.horizons, cells)
-    for j, h in enumerate(cfg.horizons):
+    for j in range(len(cfg.horizons)):
         fm[:, j] = fms[j]
-        s = fm[:, j][np.isfinite(fm[:, j])]
-        inf = mean_inference(s, hac_lags(h, int(s.size), cfg.hac_lag_rule))
-        frows.append({"horizon": h, "mean_slope": inf["mean"], "se_hac": inf["se_hac"], "t_hac": inf["t_hac"],
-                      "hac_lags": int(inf["hac_lags"]), "se_naive": inf["se_naive"], "n_dates": int(inf["n_dates"])})
+    fsum = fm_summary(fm, cfg.horizons, cfg.hac_lag_rule)
 
     tick("backtest", 0.8)
     q_bt = assign_quantiles(zeval, n_q, codes, tiebreak) if cfg.backtest_within_sectors else q
@@ -332,11 +307,11 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
         "quantile_mean_annualised": pd.DataFrame(
             np.stack([annualise(qmean[j], h) for j, h in enumerate(cfg.horizons)]), index=hcols, columns=qcols),
         "spread": pd.DataFrame(spread, index=dates, columns=hcols),
-        "spread_summary": pd.DataFrame(srows).set_index("horizon"),
+        "spread_summary": ssum,
         "quantile_growth": qgrowth,
         "turnover": pd.DataFrame(quantile_turnover(q, n_q), index=dates, columns=qcols),
         "fm_slopes": pd.DataFrame(fm, index=dates, columns=hcols),
-        "fm_summary": pd.DataFrame(frows).set_index("horizon"),
+        "fm_summary": fsum,
         "backtest": bt,
         "eps_used": _frame(eps_used, dates, secs),
         "price_age": _frame(months_since_valid(valid), dates, secs),

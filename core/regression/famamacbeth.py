@@ -3,8 +3,12 @@
 from __future__ import annotations
 
 import numpy as np
+import pandas as pd
 
-__all__ = ["fm_slopes"]
+from valuesift.core.choices import HacLagRule
+from valuesift.core.inference.hac import hac_lags, mean_inference
+
+__all__ = ["fm_slopes", "slope_from_centred", "fm_summary"]
 
 _IDENT = 1e-14  # szz must exceed this share of sum(z^2) for the slope to be identified
 
@@ -111,7 +115,7 @@ def _slope(szz: np.ndarray, szy: np.ndarray, zm: np.ndarray, enough: np.ndarray)
         return np.where(ok, szy / np.where(ok, szz, 1.0), np.nan)
 
 
-def _slope_from_centred(zd: np.ndarray, yd: np.ndarray, zm: np.ndarray, n: np.ndarray) -> np.ndarray:
+def slope_from_centred(zd: np.ndarray, yd: np.ndarray, zm: np.ndarray, n: np.ndarray) -> np.ndarray:
     """:func:`fm_slopes` without controls or groups, from already demeaned ``zd``, ``yd``.
 
     ``zm`` is ``z`` with zeros outside the common mask and ``n`` the names per
@@ -122,3 +126,31 @@ def _slope_from_centred(zd: np.ndarray, yd: np.ndarray, zm: np.ndarray, n: np.nd
     szz = (zd * zd).sum(axis=1)
     szy = (zd * yd).sum(axis=1)
     return _slope(szz, szy, zm, n > present + 1)
+
+
+def fm_summary(slopes: np.ndarray, horizons: tuple[int, ...], rule: HacLagRule) -> pd.DataFrame:
+    """Time-mean of the per-date Fama-MacBeth slopes per horizon with its HAC standard error.
+
+    Parameters
+    ----------
+    slopes : ndarray (D x H)
+        Per-date slope on the signal z-score (NaN where not identified).
+    horizons : tuple of int
+    rule : {"overlap", "overlap_or_auto"}
+
+    Returns
+    -------
+    DataFrame (H x statistics)
+        ``mean_slope, se_hac, t_hac, hac_lags, se_naive, n_dates``.
+
+    References
+    ----------
+    Fama, E. & MacBeth, J. (1973). JPE 81(3), 607-636.
+    """
+    rows = []
+    for j, h in enumerate(horizons):
+        s = slopes[:, j][np.isfinite(slopes[:, j])]
+        inf = mean_inference(s, hac_lags(h, int(s.size), rule))
+        rows.append({"horizon": h, "mean_slope": inf["mean"], "se_hac": inf["se_hac"], "t_hac": inf["t_hac"],
+                     "hac_lags": int(inf["hac_lags"]), "se_naive": inf["se_naive"], "n_dates": int(inf["n_dates"])})
+    return pd.DataFrame(rows).set_index("horizon")

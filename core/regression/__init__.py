@@ -1,0 +1,1 @@
+"""Cross-sectional regressions: Fama-MacBeth slopes and their time summary."""

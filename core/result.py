@@ -1,0 +1,134 @@
+"""The result of one study: every number a chart, table or sentence of the study shows.
+
+Dashboard, command line and bundle read these fields; none of them recomputes a statistic.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import pandas as pd
+
+from valuesift.core.config import StudyConfig
+from valuesift.core.portfolio.backtest import BacktestResult
+
+__all__ = ["StudyResult"]
+
+
+@dataclass(frozen=True)
+class StudyResult:
+    """Every number a chart or table of a study needs (frozen; never recomputed by consumers).
+
+    Axes: ``D`` = the panel's month-end dates (``DatetimeIndex`` named ``date``),
+    ``S`` = security identifiers, ``H`` = horizons in months (``int``),
+    ``Q`` = quantile numbers 1..n_quantiles (1 = lowest signal = dearest,
+    n = highest signal = cheapest).  Returns are decimal fractions (0.01 = 1 %),
+    per horizon and *not* annualised unless a name says ``annualised``.
+
+    Attributes
+    ----------
+    config : StudyConfig
+    signal_name : str
+        The evaluated signal (``config.signal``).
+    signal_raw : DataFrame (D x S)
+        The signal in its own units at each date after the reporting lag
+        (earnings yield as a decimal, a user signal as supplied, the composite
+        as a mean z-score); NaN where undefined.  Not restricted to the universe.
+    pe : DataFrame (D x S)
+        P/E for display: price / lagged EPS; NaN where not meaningful (EPS <= 0).
+    universe : DataFrame (D x S, bool)
+        Membership decided from data valid at each date.
+    zscore : DataFrame (D x S)
+        Cleaned universe-wide cross-sectional z-score, oriented higher = cheaper.
+    sector_zscore : DataFrame (D x S) or None
+        Within-sector z-score (None without sectors).
+    signal_z : DataFrame (D x S)
+        What is evaluated: ``sector_zscore`` if ``config.sector_neutral`` else ``zscore``.
+    forward_returns : dict[int, DataFrame (D x S)]
+        h-month forward total return from each date (excess if configured).
+    delisted : DataFrame (D x H, int)
+        Universe names whose last valid price falls inside the horizon.
+    rank_ic, pearson_ic : DataFrame (D x H)
+        Spearman and Pearson IC per date; NaN when undefined or below breadth.
+    breadth : DataFrame (D x H, int)
+        Names with both a signal and a forward return.
+    ic_summary : DataFrame (H x statistics)
+        ``mean_ic, sd_ic, ic_ir, hit_share, se_hac, t_hac, hac_lags, ci_low,
+        ci_high, n_dates, se_naive, t_naive, mean_pearson_ic, mean_breadth``.
+    rolling_ic : DataFrame (D x MultiIndex (horizon, window))
+        Rolling mean rank IC over windows of 12 and 36 dates.
+    quantile : DataFrame (D x S, float)
+        Quantile number of each universe name; NaN if none.
+    quantile_counts : DataFrame (D x Q, int)
+    quantile_returns : dict[int, DataFrame (D x Q)]
+        Equal-weight mean h-month forward return per quantile and date.
+    quantile_mean : DataFrame (H x Q)
+        Time-mean of ``quantile_returns``; ``quantile_mean_annualised`` likewise
+        converted with ``(1 + r)^(12/h) - 1``.
+    quantile_mean_annualised : DataFrame (H x Q)
+    spread : DataFrame (D x H)
+        Top-minus-bottom quantile forward return.
+    spread_summary : DataFrame (H x statistics)
+        ``mean`` (time-mean of ``spread``, per horizon), ``se_hac, t_hac,
+        hac_lags, ci_low, ci_high, n_dates, se_naive``, ``mean_annualised``
+        (annualised top-quantile mean minus annualised bottom-quantile mean)
+        and ``monotonicity`` (Spearman of quantile order vs mean return).
+    quantile_growth : DataFrame (D x Q)
+        Growth of 1.0 in each quantile, rebalanced monthly with equal weights,
+        from one-month total returns (not excess), dated at the month's end.
+    turnover : DataFrame (D x Q)
+        One-way equal-weight turnover of each quantile from the previous date.
+    fm_slopes : DataFrame (D x H)
+        Per-date Fama-MacBeth slope on the signal z-score.
+    fm_summary : DataFrame (H x statistics)
+        ``mean_slope, se_hac, t_hac, hac_lags, se_naive, n_dates``.
+    backtest : BacktestResult
+    eps_used : DataFrame (D x S)
+        EPS in use at each date after the reporting lag (NaN without earnings).
+    price_age, eps_age : DataFrame (D x S)
+        Months since the last valid price / the last EPS stamp (after the lag).
+    security_info : DataFrame (S rows)
+        ``sector`` (str) and ``holding_weight`` (float, NaN if not held).
+    screen : DataFrame (S rows)
+        Screen table on the latest date (see :func:`core.evaluate.screen.screen_table`).
+    date_notes : DataFrame
+        Columns ``date, horizon, stage, reason, count``: every date left out of
+        a part of the analysis, with why (horizon 0 = not horizon-specific).
+    notes : tuple of str
+        Plain-language notes (rules applied, data gaps, cautions).
+    """
+
+    config: StudyConfig
+    signal_name: str
+    signal_raw: pd.DataFrame
+    pe: pd.DataFrame
+    universe: pd.DataFrame
+    zscore: pd.DataFrame
+    sector_zscore: pd.DataFrame | None
+    signal_z: pd.DataFrame
+    forward_returns: dict[int, pd.DataFrame]
+    delisted: pd.DataFrame
+    rank_ic: pd.DataFrame
+    pearson_ic: pd.DataFrame
+    breadth: pd.DataFrame
+    ic_summary: pd.DataFrame
+    rolling_ic: pd.DataFrame
+    quantile: pd.DataFrame
+    quantile_counts: pd.DataFrame
+    quantile_returns: dict[int, pd.DataFrame]
+    quantile_mean: pd.DataFrame
+    quantile_mean_annualised: pd.DataFrame
+    spread: pd.DataFrame
+    spread_summary: pd.DataFrame
+    quantile_growth: pd.DataFrame
+    turnover: pd.DataFrame
+    fm_slopes: pd.DataFrame
+    fm_summary: pd.DataFrame
+    backtest: "BacktestResult"
+    eps_used: pd.DataFrame
+    price_age: pd.DataFrame
+    eps_age: pd.DataFrame
+    security_info: pd.DataFrame
+    screen: pd.DataFrame
+    date_notes: pd.DataFrame
+    notes: tuple[str, ...] = field(default_factory=tuple)
