@@ -192,11 +192,18 @@ def run_study_command(args: argparse.Namespace) -> int:
     summary["study_name"] = args.name
     summary["inputs"] = inputs
     ic_by_date_frame(result).to_csv(tables / "ic_by_date.csv", index=False, lineterminator="\n")
+    from valuesift.app.bundle.tables import result_tables, write_csv  # every table, with or without the bundle
+
+    for key, frame in result_tables(result, panel).items():
+        if key != "ic_by_date":
+            write_csv(frame, tables / f"{key}.csv")
     (out / "summary.json").write_text(json.dumps(summary, indent=2, sort_keys=True, allow_nan=False) + "\n",
                                       encoding="utf-8")
     show("done", 1.0)
     _print_headline(summary)
-    print(f"Wrote {out / 'summary.json'} and {tables / 'ic_by_date.csv'}")
+    print(f"Wrote {out / 'summary.json'} and the tables in {tables}")
+    for w in summary.get("warnings", []):
+        print(f"Warning: {w['message']}", file=sys.stderr)
     if not getattr(args, "no_bundle", False):
         from valuesift.app.bundle import write_bundle
 

@@ -72,6 +72,9 @@ class Panel:
     signals: tuple[UserSignal, ...] = ()
     report: "IntakeReport | None" = None
     sources: tuple[dict[str, Any], ...] = field(default_factory=tuple)
+    #: True when every EPS row is dated by the day the figure became public (an announcement-date
+    #: column was read): the study then uses each figure from that month-end on, with no fixed lag.
+    eps_dated_by_availability: bool = False
 
     # -- shape -----------------------------------------------------------------
     @property

@@ -6,6 +6,7 @@ Dashboard, command line and bundle read these fields; none of them recomputes a 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
 
 import pandas as pd
 
@@ -96,6 +97,12 @@ class StudyResult:
         a part of the analysis, with why (horizon 0 = not horizon-specific).
     notes : tuple of str
         Plain-language notes (rules applied, data gaps, cautions).
+    ic_by_delay : DataFrame
+        ``delay_months, horizon, mean_ic, ic_t, n_dates``: the IC when the signal dated
+        ``t`` is used 0-3 months later (:mod:`valuesift.core.diagnostics.delay`).
+    warnings : tuple of dict
+        Each with ``code``, ``message`` and the numbers behind it
+        (:mod:`valuesift.core.diagnostics.warnings`).
     """
 
     config: StudyConfig
@@ -132,3 +139,5 @@ class StudyResult:
     screen: pd.DataFrame
     date_notes: pd.DataFrame
     notes: tuple[str, ...] = field(default_factory=tuple)
+    ic_by_delay: pd.DataFrame = field(default_factory=pd.DataFrame)
+    warnings: tuple[dict[str, Any], ...] = field(default_factory=tuple)

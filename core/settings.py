@@ -30,6 +30,7 @@ __all__ = [
     "check_value",
     "describe_value",
     "failure_message",
+    "SIGNAL_WORDS",
 ]
 
 SettingKind = Literal["int", "float", "bool", "choice", "int_list", "name", "name_list", "percentile_pair"]
@@ -152,10 +153,10 @@ SETTINGS: tuple[Setting, ...] = (
             "Months by which each earnings figure is delayed before use; 3 is usual for figures dated at the "
             "fiscal period end, 0 for figures dated when they became public.",
             lo=0, hi=24, flag="--reporting-lag", control="number", grid="reporting_lag", group="signal"),
-    Setting("eps_max_age_months", "int", 15, "Longest use of one earnings figure (months)",
+    Setting("eps_max_age_months", "int", 15, "Earnings figure kept (months)",
             "The last reported earnings figure stays in use this many months; after that the name has no signal.",
             lo=1, hi=60, flag="--eps-max-age", group="signal"),
-    Setting("nonpositive_lower_is_cheaper", "choice", "set_aside", "Values of 0 or below (lower-is-cheaper signals)",
+    Setting("nonpositive_lower_is_cheaper", "choice", "set_aside", "Values of 0 or below",
             "For a signal where lower means cheaper (such as P/E), values of 0 or below are not meaningful: set them "
             "aside, or study the reciprocal (P/E becomes E/P, which keeps loss-makers in order).",
             choices=(("set_aside", "set aside as not meaningful"), ("reciprocal", "study the reciprocal")),
@@ -173,7 +174,7 @@ SETTINGS: tuple[Setting, ...] = (
             lo=0.0, hi=20.0, lo_open=True, flag="--robust-z", group="signal"),
     Setting("zscore_method", "choice", "mean_std", "Z-score",
             "How the signal is standardised across names on each date.",
-            choices=(("mean_std", "mean and standard deviation"), ("median_mad", "median and median absolute deviation")),
+            choices=(("mean_std", "mean and standard deviation"), ("median_mad", "median and absolute deviation")),
             flag="--zscore", control="dropdown", grid="zscore", group="signal"),
     Setting("sector_neutral", "bool", False, "Sector-neutral",
             "Rank names within their sector and judge them against sector-relative returns.",
@@ -193,7 +194,7 @@ SETTINGS: tuple[Setting, ...] = (
     Setting("universe_sectors", "name_list", (), "Sectors kept",
             "With the chosen-sectors universe: the sectors studied (at least one).",
             flag="--sector", control="checklist", grid="universe", group="universe"),
-    Setting("min_history_months", "int", 0, "Minimum price history (months)",
+    Setting("min_history_months", "int", 0, "Price history needed (months)",
             "A name enters the universe only after this many months of valid prices.",
             lo=0, hi=240, flag="--min-history", control="number", grid="min_history", group="universe"),
     Setting("min_breadth", "int", 10, "Minimum names per date",
@@ -222,8 +223,7 @@ SETTINGS: tuple[Setting, ...] = (
     Setting("hac_lag_rule", "choice", "overlap_or_auto", "Lags of the standard errors",
             "Autocovariance lags of the standard errors: the horizon's overlap only, or at least the automatic "
             "Newey-West number.",
-            choices=(("overlap", "horizon overlap"), ("overlap_or_auto", "overlap or the automatic number, "
-                                                                        "whichever is larger")),
+            choices=(("overlap", "horizon overlap"), ("overlap_or_auto", "overlap or automatic, the larger")),
             flag="--hac-lags", group="evaluation"),
     Setting("fm_sector_dummies", "bool", False, "Sector dummies in Fama-MacBeth",
             "Add a dummy per sector to each date's cross-sectional regression.",
@@ -235,7 +235,7 @@ SETTINGS: tuple[Setting, ...] = (
     Setting("holding_months", "int", 1, "Backtest holding (months)",
             "Each month a new cohort is formed and held this many months (overlapping cohorts).",
             lo=1, hi=60, flag="--holding", control="number", grid="holding", group="backtest"),
-    Setting("backtest_within_sectors", "bool", False, "Backtest quantiles within sectors",
+    Setting("backtest_within_sectors", "bool", False, "Backtest within sectors",
             "Form the backtest's quantiles inside each sector.",
             choices=_YES_NO, flag="--backtest-within-sectors", group="backtest"),
     Setting("transaction_cost_bps", "float", 0.0, "Trading cost (basis points)",
@@ -295,8 +295,18 @@ def check_value(setting: Setting, value: object) -> Failure | None:
     return Failure(s.name, value, s.rule(), f"Choose {s.rule()}.")
 
 
+#: How a person reads the built-in signal codes (user signals keep the name the user gave).
+SIGNAL_WORDS: dict[str, str] = {"earnings_yield": "earnings yield", "dividend_yield": "dividend yield",
+                                "composite": "composite"}
+
+
 def describe_value(setting: Setting, value: object) -> str:
     """A setting's value as a person reads it (choices in words, lists joined, on/off)."""
+    if setting.name in ("signal", "composite_of"):
+        if isinstance(value, str):
+            return SIGNAL_WORDS.get(value, value)
+        if isinstance(value, (tuple, list)):
+            return ", ".join(SIGNAL_WORDS.get(str(v), str(v)) for v in value)
     if setting.kind == "bool":
         return "on" if value else "off"
     if setting.kind == "choice":

@@ -9,6 +9,7 @@ import numpy as np
 import pandas as pd
 
 from valuesift import core
+from valuesift.core.settings import SETTINGS, describe_value
 from valuesift.app.bundle.charts import CHARTS
 from valuesift.app.bundle.pdf import ReportInput
 from valuesift.app.bundle.text import CHART_READINGS, headline_sentences, share_word, signal_definition, universe_words
@@ -108,11 +109,8 @@ def _facts(result: StudyResult, panel: Any, horizon: int, created: datetime, stu
 
 
 def _config_rows(result: StudyResult) -> list[tuple[str, str]]:
-    out = []
-    for k, v in result.config.to_dict().items():
-        text = ", ".join(str(x) for x in v) if isinstance(v, list) else str(v)
-        out.append((k, text if text else "(none)"))
-    return out
+    """Every setting in words: its label and its value as a person reads it (from the settings table)."""
+    return [(st.label, describe_value(st, getattr(result.config, st.name))) for st in SETTINGS]
 
 
 def _quality(panel: Any, result: StudyResult) -> tuple[pd.DataFrame, list[str], pd.DataFrame]:

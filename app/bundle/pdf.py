@@ -205,15 +205,14 @@ def build_pdf(data: ReportInput, path: Path) -> int:
     story.append(_p(f"Study {data.study_name!s}: the committee report", st["subtitle"]))
     facts = [[_p(k, st["cellb"]), _p(v, st["cell"])] for k, v in data.facts]
     conf = [[_p(k, st["cell"]), _p(v, st["cell"])] for k, v in data.configuration]
-    half = (len(conf) + 1) // 2
-    left = _table(facts, [26 * mm, usable_w - 152 * mm - 26 * mm], header=False, zebra=False)
-    c1 = _table(conf[:half], [40 * mm, 28 * mm], header=False)
-    c2 = _table(conf[half:], [40 * mm, 28 * mm], header=False)
-    conf_block = [[_p("Every configuration choice", st["h2"]), ""], [c1, c2]]
-    right = Table(conf_block, colWidths=[70 * mm, 70 * mm])
-    right.setStyle(TableStyle([("SPAN", (0, 0), (1, 0)), ("VALIGN", (0, 0), (-1, -1), "TOP"),
+    third = (len(conf) + 2) // 3  # three columns of settings keep the cover on one page
+    left = _table(facts, [22 * mm, usable_w - 170 * mm - 22 * mm], header=False, zebra=False)
+    cols = [_table(conf[k * third:(k + 1) * third], [29 * mm, 25 * mm], header=False) for k in range(3)]
+    conf_block = [[_p("Every setting", st["h2"]), "", ""], cols]
+    right = Table(conf_block, colWidths=[55 * mm, 55 * mm, 55 * mm])
+    right.setStyle(TableStyle([("SPAN", (0, 0), (2, 0)), ("VALIGN", (0, 0), (-1, -1), "TOP"),
                                ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
-    top = Table([[left, right]], colWidths=[usable_w - 146 * mm, 146 * mm])
+    top = Table([[left, right]], colWidths=[usable_w - 166 * mm, 166 * mm])
     top.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"), ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
     story.append(top)
     story.append(_p("Input files", st["h2"]))

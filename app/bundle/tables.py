@@ -44,6 +44,7 @@ TABLES: dict[str, str] = {
     "cohorts": "each cohort of the cheapest quantile against the comparison over its holding period",
     "screen": "the screen on the as-of date: every security with its figures and flags, cheapest first",
     "summary": "the headline figures per horizon (the numbers of summary.json)",
+    "ic_by_delay": "mean rank IC and its t when the signal is used 0 to 3 months after its date (look-ahead check)",
     "data_quality": "per input file: rows, securities, dates and how every cell was accounted for",
 }
 TABLE_KEYS: tuple[str, ...] = tuple(TABLES)
@@ -129,7 +130,8 @@ def _summary(result: StudyResult) -> pd.DataFrame:
 
     d = summary_dict(result)
     rows = [{"horizon": int(h), **block} for h, block in d["horizons"].items()]
-    return pd.DataFrame(rows).astype({c: float for c in rows[0] if c not in ("horizon", "ic_lags", "n_dates")})
+    text = {"horizon", "ic_lags", "n_dates", "too_short"} | {c for c, v in rows[0].items() if isinstance(v, str)}
+    return pd.DataFrame(rows).astype({c: float for c in rows[0] if c not in text})
 
 
 def _data_quality(panel: Any) -> pd.DataFrame:
@@ -165,6 +167,7 @@ def result_tables(result: StudyResult, panel: Any = None) -> dict[str, pd.DataFr
         "cohorts": _cohorts(result),
         "screen": _screen(result),
         "summary": _summary(result),
+        "ic_by_delay": result.ic_by_delay.copy(),
         "data_quality": _data_quality(panel),
     }
 

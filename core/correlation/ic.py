@@ -14,7 +14,7 @@ import pandas as pd
 
 from valuesift.core.choices import HacLagRule
 from valuesift.core.correlation.rowwise import masked_spearman, pearson_parts
-from valuesift.core.inference.hac import hac_lags, mean_inference
+from valuesift.core.inference.nonoverlap import headline_block
 from valuesift.core.regression.famamacbeth import slope_from_centred
 
 __all__ = ["ic_by_date", "ic_and_slope", "ic_summary", "rolling_ic", "ROLLING_WINDOWS"]
@@ -94,9 +94,13 @@ def ic_summary(
     ``ic_ir = mean / sd``, ``hit_share`` = share of ICs > 0 (the expected sign:
     the signal is oriented so higher = cheaper), ``se_hac`` = Newey-West SE of
     the mean with ``L`` lags from :func:`core.stats.hac_lags`, ``t_hac``, and
-    the 95 % interval ``mean +/- 1.96 se_hac``.  ``t_naive`` assumes
-    independent dates and is wrong for overlapping horizons (shown only for
-    comparison).
+    the 95 % interval ``mean +/- 1.96 se_hac``.  ``se_hac``/``t_hac`` are the
+    headline of :func:`valuesift.core.inference.hac.headline_inference`
+    (Hansen-Hodrick for h > 1, its method in ``se_method``); ``t_bartlett`` is the
+    Newey-West figure; ``t_nonoverlap_*`` the non-overlapping check;
+    ``independent_periods = n_dates / h``; ``too_short`` below ten of them;
+    ``evidence`` the verdict code.  ``t_naive`` assumes independent dates and is
+    wrong for overlapping horizons (shown only for comparison).
 
     References
     ----------
@@ -104,14 +108,13 @@ def ic_summary(
     """
     rows = []
     for h in rank_ic.columns:
-        x = rank_ic[h].to_numpy(dtype=float)
-        x = x[np.isfinite(x)]
-        lags = hac_lags(int(h), int(x.size), rule)
-        inf = mean_inference(x, lags)
+        full = rank_ic[h].to_numpy(dtype=float)
+        x = full[np.isfinite(full)]
+        inf = headline_block(full, int(h), rule)
         p = pearson_ic[h].to_numpy(dtype=float)
         p = p[np.isfinite(p)]
         b = breadth[h].to_numpy(dtype=float)
-        used = np.isfinite(rank_ic[h].to_numpy(dtype=float))
+        used = np.isfinite(full)
         sd = inf["sd"]
         rows.append(
             {
@@ -120,9 +123,9 @@ def ic_summary(
                 "sd_ic": sd,
                 "ic_ir": inf["mean"] / sd if np.isfinite(sd) and sd > 0 else math.nan,
                 "hit_share": float(np.mean(x > 0)) if x.size else math.nan,
-                "se_hac": inf["se_hac"],
-                "t_hac": inf["t_hac"],
-                "hac_lags": int(lags),
+                "se_hac": inf["se"],
+                "t_hac": inf["t"],
+                "hac_lags": int(inf["lags"]),
                 "ci_low": inf["ci_low"],
                 "ci_high": inf["ci_high"],
                 "n_dates": int(x.size),
@@ -130,6 +133,14 @@ def ic_summary(
                 "t_naive": inf["t_naive"],
                 "mean_pearson_ic": float(p.mean()) if p.size else math.nan,
                 "mean_breadth": float(b[used].mean()) if used.any() else math.nan,
+                "se_method": inf["method"],
+                "t_bartlett": inf["t_bartlett"],
+                "t_nonoverlap_mean": inf["t_nonoverlap_mean"],
+                "t_nonoverlap_min": inf["t_nonoverlap_min"],
+                "t_nonoverlap_max": inf["t_nonoverlap_max"],
+                "independent_periods": inf["independent_periods"],
+                "too_short": inf["too_short"],
+                "evidence": inf["evidence"],
             }
         )
     return pd.DataFrame(rows).set_index("horizon")

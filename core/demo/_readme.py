@@ -64,7 +64,7 @@ that these files equal a fresh run byte for byte. Month-ends {d[0].isoformat()} 
 | file | layout |
 |---|---|
 | `prices.csv` | wide: `Date` (dd/mm/yyyy), `Maren All-Share`, then one column per security code; month-end closing prices, 2 decimals |
-| `earnings.csv` | long, `;`-delimited, decimal comma: `period_end;code;eps_ttm` (ISO dates), trailing-twelve-month EPS |
+| `earnings.csv` | long, `;`-delimited, decimal comma: `known_on;code;eps_ttm` (ISO dates: the month-end at which each trailing-twelve-month EPS was public), trailing-twelve-month EPS |
 | `dividends.csv` | `code,ex_date,amount` with ex_date as mm/dd/yyyy; cash per share |
 | `sectors.csv` | `code,sector` |
 | `holdings.csv` | `code,weight`: an invented fund of {len(m.holdings)} names, weights in percent with a % sign, summing to 100% |

@@ -210,7 +210,7 @@ def _earnings_text(m: DemoMarket) -> str:
         for j in range(N)
         if m.listed[t, j]
     ]
-    return _csv_text(["period_end", "code", "eps_ttm"], rows, delimiter=";")
+    return _csv_text(["known_on", "code", "eps_ttm"], rows, delimiter=";")
 
 
 # -- dividends.csv -------------------------------------------------------------------------

@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import math
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
 
+from valuesift.core.inference.sharpe import sharpe_ratio_t
 from valuesift.core.portfolio.performance import hit_rate, max_drawdown, sharpe_ratio
 
 __all__ = ["BacktestResult", "run_backtest"]
@@ -44,6 +46,13 @@ class BacktestResult:
         Column used as the comparison ("universe" or "benchmark").
     holding_months : int
     risk_free_monthly : float
+    hit_rate_against : dict of portfolio -> str
+        What each portfolio's ``hit_rate`` counts months above: ``"zero"`` for the
+        self-financing long-short, the comparison (``"universe"`` or ``"benchmark"``)
+        for the others, ``"none"`` for the comparison itself.
+    cohort_windows : float
+        Cohorts divided by the holding period: the number of non-overlapping windows
+        the cohorts' "share that beat" rests on.
     """
 
     returns: pd.DataFrame
@@ -59,6 +68,8 @@ class BacktestResult:
     comparison: str
     holding_months: int
     risk_free_monthly: float
+    hit_rate_against: dict[str, str] = field(default_factory=dict)
+    cohort_windows: float = float("nan")
 
 
 def _equal_weights(member: np.ndarray) -> np.ndarray:
@@ -115,6 +126,13 @@ def _cohort_returns(w: np.ndarray, m: np.ndarray, h: int) -> np.ndarray:
     return out
 
 
+def _against(col: str, comp_col: str, comp: np.ndarray) -> np.ndarray | None:
+    """What a portfolio's hit rate is measured against: zero for the self-financing long-short."""
+    if col == "long_short":
+        return np.zeros_like(comp)
+    return None if col == comp_col else comp
+
+
 def _stats(col: np.ndarray, comp: np.ndarray | None, rf: float) -> dict[str, float]:
     r = col[np.isfinite(col)]
     n = int(r.size)
@@ -133,6 +151,8 @@ def _stats(col: np.ndarray, comp: np.ndarray | None, rf: float) -> dict[str, flo
         "max_drawdown": max_drawdown(r),
         "hit_rate": hit_rate(col, comp) if comp is not None else float("nan"),
         "n_months": float(n),
+        # Lo (2002), iid case, on the monthly ratio: t = SR_m / sqrt((1 + SR_m^2 / 2) / T)
+        "sharpe_t": sharpe_ratio_t(sharpe_ratio(r, rf) / math.sqrt(12.0), n),
     }
 
 
@@ -174,7 +194,9 @@ def run_backtest(
     ``sd(r) sqrt(12)`` (ddof 1); Sharpe ``sqrt(12) mean(r - rf) / sd(r - rf)``
     with ``rf = (1 + rf_annual)^(1/12) - 1`` (rf = 0 for the self-financing
     long-short); maximum drawdown with the starting wealth 1.0 as a peak;
-    hit rate = share of months strictly above the comparison (ties are misses).
+    hit rate = share of months strictly above the comparison (ties are misses),
+    and above zero for the long-short (a self-financing portfolio earns nothing by
+    standing still); ``sharpe_t`` is Lo (2002), iid case, on the monthly ratio.
 
     References
     ----------
@@ -222,7 +244,7 @@ def run_backtest(
     comp = ret[comp_col].to_numpy(dtype=float)
     stats = pd.DataFrame(
         {
-            c: _stats(ret[c].to_numpy(dtype=float), None if c == comp_col else comp, 0.0 if c == "long_short" else rf)
+            c: _stats(ret[c].to_numpy(dtype=float), _against(c, comp_col, comp), 0.0 if c == "long_short" else rf)
             for c in ret.columns
         }
     ).T
@@ -256,6 +278,9 @@ def run_backtest(
         stats=stats,
         cohorts=coh,
         cohort_share_beat=share,
+        hit_rate_against={c: ("zero" if c == "long_short" else ("none" if c == comp_col else comp_col))
+                          for c in ret.columns},
+        cohort_windows=float(len(coh)) / float(h) if h > 0 else float("nan"),
         comparison=comp_col,
         holding_months=h,
         risk_free_monthly=rf,

@@ -51,11 +51,18 @@ def assign_quantiles(
     Notes
     -----
     With ``n`` names on a date and ordinal rank ``r`` (1 = lowest signal; ties
-    ordered by ``tiebreak``), ``q = floor((r - 1) n_q / n) + 1``: quantiles
-    differ in size by at most one name, even when many names tie (e.g. the
-    zero dividend yield of non-payers).  A date (or group) with fewer names
-    than quantiles gets no quantiles.  Membership uses only the signal, never
-    the forward return.
+    ordered by ``tiebreak``, so quantiles stay equal-sized even when many names
+    tie, e.g. the zero dividend yield of non-payers), the name's position is
+    ``u = (r - 1/2) / n`` and its quantile ``q = floor(u n_q) + 1``, computed in
+    integers as ``floor((2r - 1) n_q / (2n)) + 1``.  The rule mirrors: for
+    ``-z`` (without ties) every name's ``u`` becomes ``1 - u``, so quantile
+    ``k`` becomes ``n_q + 1 - k`` and the spread changes sign only; remainders
+    fall symmetrically (119 names in 5 quantiles: 24, 24, 23, 24, 24).  The one
+    name whose ``u n_q`` can be a whole number (the median name, with an even
+    number of quantiles and an odd number of names) sits exactly on the middle
+    boundary and is left out, because neither side is the right one.  A date (or
+    group) with fewer names than quantiles gets none.  Membership uses only the
+    signal, never the forward return.
 
     Examples
     --------
@@ -71,11 +78,13 @@ def assign_quantiles(
     for c in np.unique(codes):
         cols = codes == c
         sub = np.where(cols[None, :] & np.isfinite(z), z, np.nan)
-        r = _ordinal_ranks(sub, tb)
-        n = np.isfinite(sub).sum(axis=1)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            q = np.floor((r - 1.0) * n_q / np.maximum(n, 1)[:, None]) + 1.0
-        q = np.clip(q, 1, n_q)
-        ok = (n >= n_q)[:, None] & np.isfinite(sub)
-        out = np.where(ok, q, out)
+        fin = np.isfinite(sub)
+        n = fin.sum(axis=1).astype(np.int64)
+        r = np.where(fin, _ordinal_ranks(sub, tb), 0.0).astype(np.int64)
+        num = (2 * r - 1) * int(n_q)
+        den = np.maximum(2 * n, 1)[:, None]
+        q = (num // den + 1).astype(float)
+        on_boundary = (num % den) == 0
+        ok = (n >= n_q)[:, None] & fin & ~on_boundary
+        out = np.where(ok, np.clip(q, 1, n_q), out)
     return out

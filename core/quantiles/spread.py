@@ -7,7 +7,7 @@ import pandas as pd
 from scipy import stats as _st
 
 from valuesift.core.choices import HacLagRule
-from valuesift.core.inference.hac import hac_lags, mean_inference
+from valuesift.core.inference.nonoverlap import headline_block
 from valuesift.core.portfolio.performance import annualise
 
 __all__ = ["monotonicity", "spread_summary"]
@@ -53,12 +53,14 @@ def spread_summary(
     """
     rows = []
     for j, h in enumerate(horizons):
-        s = spread[:, j][np.isfinite(spread[:, j])]
-        inf = mean_inference(s, hac_lags(h, int(s.size), rule))
+        inf = headline_block(spread[:, j], h, rule)
         qm = quantile_mean[j]
-        rows.append({"horizon": h, "mean": inf["mean"], "se_hac": inf["se_hac"], "t_hac": inf["t_hac"],
-                     "hac_lags": int(inf["hac_lags"]), "ci_low": inf["ci_low"], "ci_high": inf["ci_high"],
+        rows.append({"horizon": h, "mean": inf["mean"], "se_hac": inf["se"], "t_hac": inf["t"],
+                     "hac_lags": int(inf["lags"]), "ci_low": inf["ci_low"], "ci_high": inf["ci_high"],
                      "n_dates": int(inf["n_dates"]), "se_naive": inf["se_naive"],
                      "mean_annualised": float(annualise(qm[-1], h) - annualise(qm[0], h)),
-                     "monotonicity": monotonicity(qm)})
+                     "monotonicity": monotonicity(qm), "se_method": inf["method"], "t_bartlett": inf["t_bartlett"],
+                     "t_nonoverlap_mean": inf["t_nonoverlap_mean"], "t_nonoverlap_min": inf["t_nonoverlap_min"],
+                     "t_nonoverlap_max": inf["t_nonoverlap_max"], "independent_periods": inf["independent_periods"],
+                     "too_short": inf["too_short"], "evidence": inf["evidence"]})
     return pd.DataFrame(rows).set_index("horizon")

@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 
 from valuesift.core.choices import HacLagRule
-from valuesift.core.inference.hac import hac_lags, mean_inference
+from valuesift.core.inference.nonoverlap import headline_block
 
 __all__ = ["fm_slopes", "slope_from_centred", "fm_summary"]
 
@@ -149,8 +149,10 @@ def fm_summary(slopes: np.ndarray, horizons: tuple[int, ...], rule: HacLagRule) 
     """
     rows = []
     for j, h in enumerate(horizons):
-        s = slopes[:, j][np.isfinite(slopes[:, j])]
-        inf = mean_inference(s, hac_lags(h, int(s.size), rule))
-        rows.append({"horizon": h, "mean_slope": inf["mean"], "se_hac": inf["se_hac"], "t_hac": inf["t_hac"],
-                     "hac_lags": int(inf["hac_lags"]), "se_naive": inf["se_naive"], "n_dates": int(inf["n_dates"])})
+        inf = headline_block(slopes[:, j], h, rule)
+        rows.append({"horizon": h, "mean_slope": inf["mean"], "se_hac": inf["se"], "t_hac": inf["t"],
+                     "hac_lags": int(inf["lags"]), "se_naive": inf["se_naive"], "n_dates": int(inf["n_dates"]),
+                     "se_method": inf["method"], "t_bartlett": inf["t_bartlett"],
+                     "independent_periods": inf["independent_periods"], "too_short": inf["too_short"],
+                     "evidence": inf["evidence"]})
     return pd.DataFrame(rows).set_index("horizon")

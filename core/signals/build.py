@@ -15,7 +15,7 @@ from valuesift.core.panel import Panel
 
 __all__ = [
     "RawSignal", "lagged_eps", "months_since_valid", "earnings_yield", "pe_ratio", "trailing_dividends",
-    "dividend_yield", "raw_signal",
+    "dividend_yield", "raw_signal", "orient_lower_is_cheaper",
 ]
 
 
@@ -151,3 +151,66 @@ def raw_signal(panel: Panel, name: str, lag_months: int, max_age_months: int) ->
         f"Study setting 'signal' (or 'composite_of') names {name!r}, which this panel does not have.",
         hint="Allowed: " + ", ".join(repr(k) for k in known) + ".",
     )
+
+
+def orient_lower_is_cheaper(
+    rs: RawSignal, rule: str, universe: np.ndarray, *, require_positive: bool = True
+) -> tuple[RawSignal, int]:
+    """Make a lower-is-cheaper signal safe to rank: values of 0 or below are set aside or the reciprocal is used.
+
+    Parameters
+    ----------
+    rs : RawSignal
+        ``sign == -1`` marks a lower-is-cheaper signal (a ratio such as P/E); others pass unchanged.
+    rule : {"set_aside", "reciprocal"}
+        ``set_aside``: values <= 0 become NaN (not meaningful: a negative P/E is not "very cheap").
+        ``reciprocal``: study ``1 / x`` with higher = cheaper (P/E becomes E/P; loss-makers keep
+        their order and rank dearest; a value of exactly 0 has no reciprocal and is set aside).
+    universe : ndarray (D x S, bool)
+        Values outside the universe are not counted.
+    require_positive : bool, default True
+        Raise when no value is above 0 (a block of a partitioned study passes False:
+        the whole-panel check is the engine's).
+
+    Returns
+    -------
+    (RawSignal, int)
+        The signal to study and the number of universe values set aside.
+
+    Raises
+    ------
+    ConfigError
+        When the signal has no value above 0 in the universe (nothing meaningful to rank).
+
+    Notes
+    -----
+    Reference case 14 of the project's check list: P/E [10, 20, -5] sorted ascending puts the
+    loss-maker first, the classic ranking trap; its reciprocal [0.1, 0.05, -0.2] does not.
+
+    Examples
+    --------
+    >>> pe = RawSignal("pe", np.array([[10.0, 20.0, -5.0]]), -1.0)
+    >>> u = np.ones((1, 3), dtype=bool)
+    >>> rs, n = orient_lower_is_cheaper(pe, "set_aside", u)
+    >>> rs.values.tolist(), rs.sign, n
+    ([[10.0, 20.0, nan]], -1.0, 1)
+    >>> rs, n = orient_lower_is_cheaper(pe, "reciprocal", u)
+    >>> rs.values.tolist(), rs.sign, n
+    ([[0.1, 0.05, -0.2]], 1.0, 0)
+    """
+    if rs.sign > 0:
+        return rs, 0
+    x = rs.values
+    fin = np.isfinite(x) & universe
+    if require_positive and not (fin & (x > 0)).any():
+        raise ConfigError(
+            f"The signal {rs.name!r} is lower-is-cheaper but has no value above 0 in the universe: nothing on it "
+            "can be ranked as cheap.",
+            hint="Check the file (a sign error?), or mark the signal higher-is-cheaper if that is what it is.",
+            setting="signal")
+    if rule == "reciprocal":
+        with np.errstate(divide="ignore", invalid="ignore"):
+            inv = np.where(np.isfinite(x) & (x != 0), 1.0 / np.where(x != 0, x, 1.0), np.nan)
+        return RawSignal(rs.name, inv, 1.0), int((fin & (x == 0)).sum())
+    aside = fin & (x <= 0)
+    return RawSignal(rs.name, np.where(np.isfinite(x) & (x > 0), x, np.nan), rs.sign), int(aside.sum())

@@ -13,7 +13,7 @@ from valuesift.core.choices import OutlierRule, SmallSectorRule, ZScoreMethod
 
 __all__ = [
     "MAD_SCALE", "NO_SECTOR", "winsorise_rows", "clip_robust_rows", "zscore_rows", "clean_values", "standardise",
-    "sector_codes", "sector_zscore", "composite_zmean",
+    "sector_codes", "sector_zscore", "composite_zmean", "sector_relative",
 ]
 
 
@@ -215,3 +215,25 @@ def composite_zmean(parts: list[np.ndarray]) -> np.ndarray:
     tot = np.where(fin, stack, 0.0).sum(axis=0)
     with np.errstate(invalid="ignore", divide="ignore"):
         return np.where(n > 0, tot / np.maximum(n, 1), np.nan)
+
+
+def sector_relative(r: np.ndarray, codes: np.ndarray) -> np.ndarray:
+    """Return minus the equal-weight mean return of the name's sector on the same date.
+
+    Notes
+    -----
+    ``r*_{t,i} = r_{t,i} - mean_{j in sector(i), r_{t,j} finite} r_{t,j}``; NaN stays NaN.
+    A sector-neutral study is judged against these, so a sector's common move is not
+    credited to the signal.
+    """
+    out = np.full(r.shape, np.nan)
+    fin = np.isfinite(r)
+    for c in np.unique(codes):
+        cols = np.flatnonzero(codes == c)
+        sub = r[:, cols]
+        f = fin[:, cols]
+        n = f.sum(axis=1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            m = np.where(n > 0, np.where(f, sub, 0.0).sum(axis=1) / np.maximum(n, 1), np.nan)
+        out[:, cols] = np.where(f, sub - m[:, None], np.nan)
+    return out

@@ -12,22 +12,56 @@ from typing import TYPE_CHECKING, Any, Callable, TypeVar
 
 import numpy as np
 import pandas as pd
-
 from valuesift.core.arrays import row_mean
-from valuesift.core.correlation.ic import ic_and_slope, ic_by_date, ic_summary, rolling_ic
+from valuesift.core.correlation.ic import (
+    ic_and_slope,
+    ic_by_date,
+    ic_summary,
+    rolling_ic,
+)
 from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.diagnostics.delay import DELAYS, delayed_signal, ic_by_delay
+from valuesift.core.diagnostics.warnings import input_warnings, lookahead_warnings
 from valuesift.core.errors import ConfigError, InsufficientDataError
+from valuesift.core.inference.hac import headline_inference
+from valuesift.core.inference.nonoverlap import TOO_SHORT_PERIODS
 from valuesift.core.panel import Panel, month_end_index
 from valuesift.core.portfolio.backtest import run_backtest
 from valuesift.core.portfolio.performance import annualise
 from valuesift.core.quantiles.assign import assign_quantiles
-from valuesift.core.quantiles.means import means_by_index, quantile_index, quantile_member_counts
+from valuesift.core.quantiles.means import (
+    means_by_index,
+    quantile_index,
+    quantile_member_counts,
+)
 from valuesift.core.quantiles.spread import spread_summary
 from valuesift.core.quantiles.turnover import quantile_turnover
 from valuesift.core.regression.famamacbeth import fm_slopes, fm_summary
-from valuesift.core.returns import excess_returns, forward_returns, level_forward_returns, monthly_returns, price_track
-from valuesift.core.signals.build import RawSignal, lagged_eps, months_since_valid, pe_ratio, raw_signal
-from valuesift.core.signals.clean import NO_SECTOR, clean_values, composite_zmean, sector_codes, sector_zscore, standardise
+from valuesift.core.returns import (
+    excess_returns,
+    forward_returns,
+    level_forward_returns,
+    monthly_returns,
+    price_track,
+)
+from valuesift.core.signals.build import (
+    RawSignal,
+    earnings_yield,
+    lagged_eps,
+    months_since_valid,
+    orient_lower_is_cheaper,
+    pe_ratio,
+    raw_signal,
+)
+from valuesift.core.signals.clean import (
+    NO_SECTOR,
+    clean_values,
+    composite_zmean,
+    sector_codes,
+    sector_relative,
+    sector_zscore,
+    standardise,
+)
 from valuesift.core.signals.universe import base_universe
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -101,15 +135,55 @@ def to_month_grid(panel: Panel, notes: list[str]) -> Panel:
                        signals=sigs)
 
 
-def _signal(panel: Panel, cfg: "StudyConfig", u0: np.ndarray) -> RawSignal:
+def _lag(panel: Panel, cfg: "StudyConfig") -> int:
+    """The reporting lag applied to EPS: none when the rows are dated by their announcement."""
+    return 0 if panel.eps_dated_by_availability else cfg.reporting_lag_months
+
+
+def _signal(panel: Panel, cfg: "StudyConfig", u0: np.ndarray) -> tuple[RawSignal, int]:
+    """The studied signal (oriented) and how many values of 0 or below were set aside."""
+    lag = _lag(panel, cfg)
     if cfg.signal != "composite":
-        return raw_signal(panel, cfg.signal, cfg.reporting_lag_months, cfg.eps_max_age_months)
+        rs, n_aside = orient_lower_is_cheaper(raw_signal(panel, cfg.signal, lag, cfg.eps_max_age_months),
+                                              cfg.nonpositive_lower_is_cheaper, u0)
+        return rs, n_aside
     parts = []
+    total = 0
     for name in cfg.composite_of:
-        rs = raw_signal(panel, name, cfg.reporting_lag_months, cfg.eps_max_age_months)
+        rs, n_aside = orient_lower_is_cheaper(raw_signal(panel, name, lag, cfg.eps_max_age_months),
+                                              cfg.nonpositive_lower_is_cheaper, u0)
+        total += n_aside
         cl = clean_values(rs.values, u0, cfg.outlier_rule, cfg.winsor_percentiles, cfg.robust_z_limit)
         parts.append(standardise(cl, rs.sign, cfg.zscore_method))
-    return RawSignal("composite", composite_zmean(parts), 1.0)
+    return RawSignal("composite", composite_zmean(parts), 1.0), total
+
+
+def _earnings_file(panel: Panel) -> Any:
+    """The intake report of the earnings file, if the panel has one."""
+    if panel.report is None:
+        return None
+    for f in panel.report.files:
+        if f.kind == "earnings":
+            return f
+    return None
+
+
+def _stamp_dates(panel: Panel) -> pd.DatetimeIndex | None:
+    """The month-ends on which the earnings file has at least one figure."""
+    if panel.eps is None:
+        return None
+    has = panel.eps.notna().any(axis=1).to_numpy()
+    return pd.DatetimeIndex(panel.eps.index[has])
+
+
+def _holdings_date(panel: Panel) -> pd.Timestamp | None:
+    """The date of the holdings file when it carries one (else None: taken as of the last date)."""
+    if panel.report is None:
+        return None
+    for f in panel.report.files:
+        if f.kind == "holdings" and f.last_date is not None:
+            return pd.Timestamp(f.last_date)
+    return None
 
 
 def _note(rows: list[dict[str, Any]], dates: pd.DatetimeIndex, mask: np.ndarray, counts: np.ndarray,
@@ -157,7 +231,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
                                     f"universe filter ({cfg.universe!r}, minimum history {cfg.min_history_months} "
                                     "months)", "none", hint="Widen the universe filter or lower min_history_months.")
     tick("signals", 0.1)
-    sig = _signal(panel, cfg, u0)
+    sig, n_set_aside = _signal(panel, cfg, u0)
     universe = u0 & np.isfinite(sig.values)
     if not universe.any():
         raise InsufficientDataError(f"the signal {cfg.signal!r}", "at least one universe name with a signal value",
@@ -195,6 +269,12 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     delisted = {}
     for h, (f_h, d_h) in zip(cfg.horizons, _per_horizon(fwd_one, cfg.horizons, cells)):
         fwd[h], delisted[h] = f_h, d_h
+    if cfg.sector_neutral and panel.sectors is not None:
+        # A sector-neutral signal is judged against sector-relative returns, so sector bets cannot leak in.
+        for h in cfg.horizons:
+            fwd[h] = sector_relative(fwd[h], codes)
+        notes.append("Sector-neutral study: every horizon is judged against sector-relative forward returns (a "
+                     "name's return minus the equal-weight mean return of its sector on that date).")
 
     tick("information coefficients", 0.4)
     hcols = pd.Index(list(cfg.horizons), name="horizon")
@@ -220,6 +300,17 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     pearson_ic = pd.DataFrame(pic, index=dates, columns=hcols)
     breadth = pd.DataFrame(brd, index=dates, columns=hcols)
     summ = ic_summary(rank_ic, pearson_ic, breadth, cfg.hac_lag_rule)
+    tick("look-ahead checks", 0.5)
+    ric_by_h = {h: ric[:, j] for j, h in enumerate(cfg.horizons)}
+    delay_tab = ic_by_delay(zeval, fwd, universe, cfg.min_breadth, cfg.hac_lag_rule, ric_by_h)
+    h0 = min(cfg.horizons)
+    drop_t: dict[int, float] = {}
+    for d in DELAYS[1:]:
+        ric_d = ic_by_date(delayed_signal(zeval, universe, d), fwd[h0], cfg.min_breadth)[0]
+        drop_t[d] = float(headline_inference(ric_by_h[h0] - ric_d, h0, cfg.hac_lag_rule)["t"])
+    with np.errstate(invalid="ignore"):
+        max_date_ic = float(np.nanmax(ric)) if np.isfinite(ric).any() else float("nan")
+    warns = lookahead_warnings(delay_tab, drop_t, max_date_ic, h0)
     if not np.isfinite(ric).any():
         notes.append("No date reached the minimum breadth with a signal and a forward return: no IC is available.")
 
@@ -277,12 +368,30 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     eps_used = np.full(price.shape, np.nan)
     eps_age = np.full(price.shape, np.nan)
     if panel.eps is not None:
-        eps_used = lagged_eps(panel, cfg.reporting_lag_months, cfg.eps_max_age_months)
-        stamped = panel.eps.shift(cfg.reporting_lag_months).to_numpy(dtype=float)
+        eps_used = lagged_eps(panel, _lag(panel, cfg), cfg.eps_max_age_months)
+        stamped = panel.eps.shift(_lag(panel, cfg)).to_numpy(dtype=float)
         eps_age = months_since_valid(np.isfinite(stamped))
     sec_lab = [sector_names[c] for c in codes] if panel.sectors is not None else [NO_SECTOR] * n_sec
     hold = panel.holdings.reindex(secs).to_numpy(dtype=float) if panel.holdings is not None else np.full(n_sec, np.nan)
-    notes.append(f"HAC standard errors use the {cfg.hac_lag_rule!r} lag rule (see the methodology).")
+    notes.append("Standard errors: Hansen-Hodrick (every overlap lag weighted fully) for horizons above one "
+                 "month, Newey-West for one month; the Bartlett figure is kept beside it (see the methodology).")
+    uses_eps = cfg.signal == "earnings_yield" or (cfg.signal == "composite" and "earnings_yield" in cfg.composite_of)
+    efile = _earnings_file(panel)
+    ey_u = None
+    if uses_eps and panel.eps is not None:
+        ey_u = np.where(universe, earnings_yield(price, eps_used), np.nan)
+    valid_rows = np.where(valid.any(axis=0), np.argmax(valid, axis=0), np.nan)
+    last_rows = np.where(valid.any(axis=0), t_len - 1 - np.argmax(valid[::-1], axis=0), np.nan)
+    warns += input_warnings(
+        signal=cfg.signal, uses_earnings=uses_eps, reporting_lag=cfg.reporting_lag_months,
+        eps_dated_by_availability=panel.eps_dated_by_availability,
+        earnings_date_column=efile.date_column if efile is not None else None,
+        earnings_dates=_stamp_dates(panel), earnings_yield_universe=ey_u,
+        independent_periods={int(h): float(summ.at[h, "independent_periods"]) for h in cfg.horizons},
+        too_short_limit=TOO_SHORT_PERIODS, universe_rule=cfg.universe,
+        holdings_date=_holdings_date(panel), first_date=dates[0], last_date=dates[-1],
+        first_valid=valid_rows.astype(float), last_valid=last_rows.astype(float), n_dates=t_len,
+        set_aside=n_set_aside)
     date_notes = pd.DataFrame(rows, columns=["date", "horizon", "stage", "reason", "count"])
     fr = {h: _frame(fwd[h], dates, secs) for h in cfg.horizons}
     return {
@@ -319,4 +428,6 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
         "security_info": pd.DataFrame({"sector": sec_lab, "holding_weight": hold}, index=secs),
         "date_notes": date_notes,
         "notes": tuple(notes),
+        "ic_by_delay": delay_tab,
+        "warnings": tuple(warns),
     }

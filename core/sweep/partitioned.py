@@ -32,20 +32,32 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
-
-from valuesift.core.study.steps import to_month_grid
-from valuesift.core.errors import ConfigError, InsufficientDataError
-from valuesift.core.correlation.ic import ic_by_date, ic_summary
-from valuesift.core.quantiles.means import means_by_index, quantile_index
-from valuesift.core.quantiles.assign import assign_quantiles
-from valuesift.core.panel import Panel, UserSignal
-from valuesift.core.returns import excess_returns, forward_returns, level_forward_returns, price_track
-from valuesift.core.signals.universe import base_universe
-from valuesift.core.signals.clean import clean_values, composite_zmean, sector_codes, sector_zscore, standardise
-from valuesift.core.signals.build import raw_signal
-from valuesift.core.correlation.ranks import average_ranks
-from valuesift.core.inference.hac import hac_lags, mean_inference
+from valuesift.core.arrays import row_mean
 from valuesift.core.config import StudyConfig
+from valuesift.core.correlation.ic import ic_by_date, ic_summary
+from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.errors import ConfigError, InsufficientDataError
+from valuesift.core.panel import Panel, UserSignal
+from valuesift.core.quantiles.assign import assign_quantiles
+from valuesift.core.quantiles.means import means_by_index, quantile_index
+from valuesift.core.quantiles.spread import spread_summary
+from valuesift.core.returns import (
+    excess_returns,
+    forward_returns,
+    level_forward_returns,
+    price_track,
+)
+from valuesift.core.signals.build import orient_lower_is_cheaper, raw_signal
+from valuesift.core.signals.clean import (
+    clean_values,
+    composite_zmean,
+    sector_codes,
+    sector_relative,
+    sector_zscore,
+    standardise,
+)
+from valuesift.core.signals.universe import base_universe
+from valuesift.core.study.steps import to_month_grid
 
 __all__ = ["PartitionedResult", "run_partitioned_study"]
 
@@ -106,7 +118,10 @@ def _stage_a(sub: Panel, settings: dict[str, Any], row_cuts: list[tuple[int, int
     u0 = base_universe(valid, secs, sectors=sub.sectors, holdings=sub.holdings, rule=cfg.universe,
                        keep_sectors=cfg.universe_sectors, min_history=cfg.min_history_months)
     names = cfg.composite_of if cfg.signal == "composite" else (cfg.signal,)
-    comps = [raw_signal(sub, n, cfg.reporting_lag_months, cfg.eps_max_age_months) for n in names]
+    lag = 0 if sub.eps_dated_by_availability else cfg.reporting_lag_months
+    comps = [orient_lower_is_cheaper(raw_signal(sub, n, lag, cfg.eps_max_age_months),
+                                     cfg.nonpositive_lower_is_cheaper, u0, require_positive=False)[0]
+             for n in names]
     div = sub.dividend_matrix().to_numpy(dtype=float) if sub.dividends is not None else np.zeros_like(price)
     track = price_track(price, valid, div)
     fwd = {h: forward_returns(track, valid, h, cfg.dividend_treatment, cfg.delisting_return)[0]
@@ -155,6 +170,8 @@ def _stage_b(pieces: list[dict[str, Any]], settings: dict[str, Any], codes: np.n
     for h, r in d["fwd"].items():
         r = np.where(universe, r, np.nan)
         f = excess_returns(r, cfg.excess_over, None if bench_fwd is None else bench_fwd[h])
+        if cfg.sector_neutral and codes is not None:
+            f = sector_relative(f, codes)
         out["fwd"][h] = f
         out["ic"][h] = ic_by_date(zeval, f, cfg.min_breadth, zranks)
         out["qret"][h] = means_by_index(qidx, f)[0]
@@ -273,12 +290,7 @@ def _assemble(cfg: StudyConfig, dates: pd.DatetimeIndex, secs: pd.Index, b_out: 
     qret = {h: pd.DataFrame(np.concatenate([b["qret"][h] for b in b_out], axis=0), index=dates, columns=qcols)
             for h in cfg.horizons}
     spread = np.stack([qret[h].to_numpy()[:, -1] - qret[h].to_numpy()[:, 0] for h in cfg.horizons], axis=1)
-    srows = []
-    for j, h in enumerate(cfg.horizons):
-        s = spread[:, j][np.isfinite(spread[:, j])]
-        inf = mean_inference(s, hac_lags(h, int(s.size), cfg.hac_lag_rule))
-        srows.append({"horizon": h, "mean": inf["mean"], "se_hac": inf["se_hac"], "t_hac": inf["t_hac"],
-                      "hac_lags": int(inf["hac_lags"]), "n_dates": int(inf["n_dates"])})
+    qmean = np.stack([row_mean(qret[h].to_numpy().T) for h in cfg.horizons])
     fwd = {h: pd.DataFrame(np.concatenate([b["fwd"][h] for b in b_out], axis=0), index=dates, columns=secs)
            for h in cfg.horizons}
     return PartitionedResult(
@@ -289,6 +301,6 @@ def _assemble(cfg: StudyConfig, dates: pd.DatetimeIndex, secs: pd.Index, b_out: 
         forward_returns=fwd, rank_ic=rank_ic, pearson_ic=pearson_ic, breadth=breadth,
         spread=pd.DataFrame(spread, index=dates, columns=hcols), quantile_returns=qret,
         ic_summary=ic_summary(rank_ic, pearson_ic, breadth, cfg.hac_lag_rule),
-        spread_summary=pd.DataFrame(srows).set_index("horizon"),
+        spread_summary=spread_summary(spread, qmean, cfg.horizons, cfg.hac_lag_rule),
         security_blocks=n_sec_blocks, date_blocks=len(b_out),
     )

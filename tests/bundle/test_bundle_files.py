@@ -210,8 +210,11 @@ def test_ic_t_in_the_tables_matches_statsmodels_hac(built: Any) -> None:
     summ = pd.read_csv(paths.folder / "tables" / "ic_summary.csv").set_index("horizon")
     for h, row in summ.iterrows():
         x = ic.loc[ic["horizon"] == h, "rank_ic"].dropna().to_numpy()
-        # Outside check: statsmodels OLS on a constant with a Bartlett-kernel HAC covariance at the reported
-        # lag count is the Newey-West (1987) t of the mean (shared/REFERENCE_CHECKS.md, case 5).
-        fit = sm.OLS(x, np.ones_like(x)).fit(cov_type="HAC", cov_kwds={"maxlags": int(row["hac_lags"])})
+        # Outside check: statsmodels OLS on a constant with a HAC covariance at the reported lag count: the
+        # uniform kernel (Hansen & Hodrick 1980) for h > 1, Bartlett (Newey & West 1987) for h = 1
+        # (shared/REFERENCE_CHECKS.md, cases 5 and 17).
+        kernel = "uniform" if h > 1 else "bartlett"
+        fit = sm.OLS(x, np.ones_like(x)).fit(cov_type="HAC", cov_kwds={"maxlags": int(row["hac_lags"]),
+                                                                      "kernel": kernel, "use_correction": False})
         assert np.isclose(fit.tvalues[0], row["t_hac"], rtol=1e-9), h
         assert np.isclose(x.mean(), row["mean_ic"], atol=1e-12), h

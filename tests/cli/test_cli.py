@@ -82,10 +82,13 @@ def test_ic_by_date_table_matches_summary_and_statsmodels_hac(demo_study: Path) 
         series = ic.loc[ic["horizon"] == h, "rank_ic"].dropna().to_numpy()
         assert len(series) == summary[str(h)]["n_dates"]
         assert np.isclose(series.mean(), summary[str(h)]["mean_ic"], atol=1e-12)
-        # Newey-West t-statistic recomputed with statsmodels (OLS on a constant, HAC,
-        # Bartlett kernel) at the lag count the study reports: an outside check of ic_t.
+        # The headline t recomputed with statsmodels (OLS on a constant, HAC, no small-sample correction) at
+        # the lag count the study reports: uniform kernel (Hansen & Hodrick 1980) for h > 1, Bartlett for h = 1.
         lags = summary[str(h)]["ic_lags"]
-        fit = sm.OLS(series, np.ones_like(series)).fit(cov_type="HAC", cov_kwds={"maxlags": lags})
+        kernel = "uniform" if h > 1 else "bartlett"
+        assert summary[str(h)]["ic_se_method"] == ("hansen_hodrick" if h > 1 else "newey_west")
+        fit = sm.OLS(series, np.ones_like(series)).fit(cov_type="HAC", cov_kwds={"maxlags": lags, "kernel": kernel,
+                                                                               "use_correction": False})
         assert np.isclose(fit.tvalues[0], summary[str(h)]["ic_t"], rtol=1e-9)
         assert lags >= h - 1  # overlapping h-month returns need at least h-1 lags (Hansen & Hodrick 1980)
 
@@ -102,7 +105,7 @@ def test_study_with_bad_setting_gives_plain_error(tmp_path: Path, capsys: pytest
     code = main(["study", *DEMO_ARGS, "--quantiles", "1", "--quiet", "--out", str(tmp_path)])
     assert code == 2
     err = capsys.readouterr().err
-    assert "n_quantiles" in err and "Traceback" not in err
+    assert "Quantiles: 1 is not allowed" in err and "n_quantiles" not in err and "Traceback" not in err
 
 
 def test_study_missing_file_gives_plain_error(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:

@@ -258,7 +258,7 @@ def test_one_unadjusted_two_for_one_split(price_series: PriceSeries, market: Dem
 @pytest.fixture(scope="module")
 def eps_raw(texts: dict[str, str]) -> list[list[str]]:
     rows = list(csv.reader(io.StringIO(texts["earnings.csv"]), delimiter=";"))
-    assert rows[0] == ["period_end", "code", "eps_ttm"]
+    assert rows[0] == ["known_on", "code", "eps_ttm"]
     return rows[1:]
 
 
@@ -381,7 +381,7 @@ def test_files_hold_the_simulated_values(texts: dict[str, str], market: DemoMark
     assert not numeric[~market.listed].any()
 
     eps = pd.read_csv(io.StringIO(texts["earnings.csv"]), sep=";", decimal=",", na_values=["n.m."])
-    wide = eps.pivot(index="period_end", columns="code", values="eps_ttm")[codes].to_numpy()
+    wide = eps.pivot(index="known_on", columns="code", values="eps_ttm")[codes].to_numpy()
     ok = np.isfinite(wide)
     assert ok.sum() >= market.listed.sum() - 20
     np.testing.assert_allclose(wide[ok], market.eps[ok], rtol=0, atol=1e-9)

@@ -37,6 +37,17 @@ def test_turnover_reference_one_way() -> None:
     assert np.isnan(to[0]).all()
 
 
+def test_remainders_fall_symmetrically_and_the_split_mirrors() -> None:
+    # 119 names in 5 quantiles: 24, 24, 23, 24, 24 (not 24 dearest against 23 cheapest), and -z mirrors z.
+    z = np.random.default_rng(7).normal(size=(4, 119))
+    q = assign_quantiles(z, 5)
+    assert [int((q[0] == k).sum()) for k in range(1, 6)] == [24, 24, 23, 24, 24]
+    np.testing.assert_array_equal(assign_quantiles(-z, 5), 6 - q)
+    # an even number of quantiles and an odd number of names: the median name is on the boundary, left out
+    q4 = assign_quantiles(np.arange(1.0, 12.0)[None, :], 4)
+    np.testing.assert_array_equal(q4[0], [1, 1, 1, 2, 2, np.nan, 3, 3, 4, 4, 4])
+
+
 def test_ties_are_ordered_by_the_tiebreak_key_not_by_column_order() -> None:
     # Non-payers all have yield 0: quantiles must stay equal-sized, and the split of tied names
     # must follow the identifier key, whatever the column order.

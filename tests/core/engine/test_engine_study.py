@@ -332,23 +332,36 @@ def test_degenerate_signal_without_spread() -> None:
         run_study(flat, StudyConfig(signal="dividend_yield", horizons=(1,)))
 
 
-def test_headline_ic_t_is_newey_west_from_statsmodels(result: StudyResult) -> None:
-    # statsmodels OLS on a constant with cov_type="HAC" (Bartlett, use_correction False) is the outside reference.
+def test_headline_ic_t_is_hansen_hodrick_from_statsmodels(result: StudyResult) -> None:
+    # Outside reference: statsmodels OLS on a constant with cov_type="HAC", use_correction=False; the
+    # headline is the uniform (rectangular, Hansen & Hodrick 1980) kernel for h > 1 and Bartlett (Newey &
+    # West 1987) for h = 1; the Bartlett figure is kept as the secondary column (REFERENCE_CHECKS 5, 17).
     import statsmodels.api as sm
 
     from valuesift.core.inference.hac import hac_lags
 
+    def t_of(x: np.ndarray, lags: int, kernel: str) -> tuple[float, float]:
+        fit = sm.OLS(x, np.ones_like(x)).fit(cov_type="HAC", cov_kwds={"maxlags": lags, "kernel": kernel,
+                                                                      "use_correction": False})
+        return float(fit.bse[0]), float(fit.tvalues[0])
+
     for h in (1, 3, 12):
         x = result.rank_ic[h].dropna().to_numpy()
         lags = hac_lags(h, x.size, "overlap_or_auto")
-        assert result.ic_summary.loc[h, "hac_lags"] == lags
-        fit = sm.OLS(x, np.ones_like(x)).fit(cov_type="HAC", cov_kwds={"maxlags": lags})
-        assert result.ic_summary.loc[h, "mean_ic"] == pytest.approx(fit.params[0], abs=1e-12)
-        assert result.ic_summary.loc[h, "se_hac"] == pytest.approx(fit.bse[0], rel=1e-9)
-        assert summary_dict(result)["horizons"][str(h)]["ic_t"] == pytest.approx(fit.tvalues[0], rel=1e-9)
+        row = result.ic_summary.loc[h]
+        assert row["hac_lags"] == lags
+        kernel = "uniform" if h > 1 else "bartlett"
+        assert row["se_method"] == ("hansen_hodrick" if h > 1 else "newey_west")
+        se, t = t_of(x, lags, kernel)
+        assert row["mean_ic"] == pytest.approx(x.mean(), abs=1e-12)
+        assert row["se_hac"] == pytest.approx(se, rel=1e-9)
+        assert summary_dict(result)["horizons"][str(h)]["ic_t"] == pytest.approx(t, rel=1e-9)
+        assert row["t_bartlett"] == pytest.approx(t_of(x, lags, "bartlett")[1], rel=1e-9)
         s = result.spread[h].dropna().to_numpy()
-        fit_s = sm.OLS(s, np.ones_like(s)).fit(cov_type="HAC", cov_kwds={"maxlags": hac_lags(h, s.size)})
-        assert result.spread_summary.loc[h, "t_hac"] == pytest.approx(fit_s.tvalues[0], rel=1e-9)
+        assert result.spread_summary.loc[h, "t_hac"] == pytest.approx(t_of(s, hac_lags(h, s.size), kernel)[1],
+                                                                      rel=1e-9)
+        assert result.spread_summary.loc[h, "t_bartlett"] == pytest.approx(
+            t_of(s, hac_lags(h, s.size), "bartlett")[1], rel=1e-9)
 
 
 def test_backtest_stats_are_consistent_with_returns(result: StudyResult) -> None:

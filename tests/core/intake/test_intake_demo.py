@@ -84,7 +84,7 @@ def test_prices_counts(parsed: dict) -> None:
 
 def test_earnings_counts(parsed: dict) -> None:
     header, body = _rows("earnings.csv", delimiter=";")
-    assert header == ["period_end", "code", "eps_ttm"]
+    assert header == ["known_on", "code", "eps_ttm"]
     blank = sum(1 for r in body if r[2].strip() == "")
     nm = sum(1 for r in body if r[2].strip() == "n.m.")
     rep = parsed["earnings.csv"].report
