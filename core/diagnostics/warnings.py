@@ -49,20 +49,29 @@ def _w(code: str, message: str, **values: Any) -> dict[str, Any]:
 
 
 def lookahead_warnings(delay_table: pd.DataFrame, drop_t: dict[int, float], max_date_ic: float,
-                       shortest: int) -> list[dict[str, Any]]:
+                       shortest: int, persistence: dict[int, float] | None = None) -> list[dict[str, Any]]:
     """``possible_lookahead`` and ``implausible_ic`` from the IC-by-delay table.
 
-    ``drop_t`` maps each delay to the headline t of the per-date drop ``IC(0) - IC(d)``
-    at the shortest horizon; ``max_date_ic`` is the largest single-date rank IC.
+    Notes
+    -----
+    A signal that keeps its ranking from month to month should keep its IC when used a few
+    months late: without look-ahead ``IC(d)`` is close to ``IC(0) rho_d``, where ``rho_d``
+    (``persistence``) is the mean rank correlation of the signal with itself ``d`` months
+    earlier.  The alarm fires when the IC falls short of that by more than
+    :data:`LOOKAHEAD_DROP` and :data:`LOOKAHEAD_DROP_SHARE` of ``IC(0)``, with a headline
+    t-statistic of the per-date shortfall (``drop_t``) of at least :data:`LOOKAHEAD_DROP_T`,
+    or when a single date's rank IC exceeds :data:`LOOKAHEAD_DATE_IC`.
     """
     out: list[dict[str, Any]] = []
     tab = delay_table[delay_table["horizon"] == shortest].set_index("delay_months")["mean_ic"]
     ic0 = float(tab.get(0, np.nan))
+    rho = persistence or {}
     worst_d, worst = None, 0.0
     for d, v in tab.items():
         if int(d) == 0 or not np.isfinite(v) or not np.isfinite(ic0):
             continue
-        drop = ic0 - float(v)
+        keep = float(rho.get(int(d), 1.0))
+        drop = ic0 * (keep if np.isfinite(keep) else 1.0) - float(v)
         if drop > worst:
             worst_d, worst = int(d), drop
     fired_drop = (worst_d is not None and worst > LOOKAHEAD_DROP and worst > LOOKAHEAD_DROP_SHARE * abs(ic0)
@@ -70,8 +79,10 @@ def lookahead_warnings(delay_table: pd.DataFrame, drop_t: dict[int, float], max_
     if fired_drop or (np.isfinite(max_date_ic) and max_date_ic > LOOKAHEAD_DATE_IC):
         why = []
         if fired_drop:
-            why.append(f"the {shortest}-month IC falls from {ic0:.3f} to {ic0 - worst:.3f} when the signal is used "
-                       f"{worst_d} month{'s' if worst_d != 1 else ''} after its date")
+            late = float(tab.get(worst_d, np.nan))
+            why.append(f"the {shortest}-month IC falls from {ic0:.3f} to {late:.3f} when the signal is used "
+                       f"{worst_d} month{'s' if worst_d != 1 else ''} after its date, far more than the signal's own "
+                       "month-to-month persistence explains")
         if np.isfinite(max_date_ic) and max_date_ic > LOOKAHEAD_DATE_IC:
             why.append(f"on at least one date the rank IC is {max_date_ic:.3f}")
         out.append(_w("possible_lookahead",

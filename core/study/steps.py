@@ -305,12 +305,18 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     delay_tab = ic_by_delay(zeval, fwd, universe, cfg.min_breadth, cfg.hac_lag_rule, ric_by_h)
     h0 = min(cfg.horizons)
     drop_t: dict[int, float] = {}
+    persistence: dict[int, float] = {}
     for d in DELAYS[1:]:
-        ric_d = ic_by_date(delayed_signal(zeval, universe, d), fwd[h0], cfg.min_breadth)[0]
-        drop_t[d] = float(headline_inference(ric_by_h[h0] - ric_d, h0, cfg.hac_lag_rule)["t"])
+        zd = delayed_signal(zeval, universe, d)
+        ric_d = ic_by_date(zd, fwd[h0], cfg.min_breadth)[0]
+        # how much of the signal's ranking survives d months: the IC may fall that much without any look-ahead
+        rho_d = ic_by_date(zd, np.where(universe, zeval, np.nan), cfg.min_breadth)[0]
+        with np.errstate(invalid="ignore"):
+            persistence[d] = float(np.nanmean(rho_d)) if np.isfinite(rho_d).any() else float("nan")
+        drop_t[d] = float(headline_inference(ric_by_h[h0] * persistence[d] - ric_d, h0, cfg.hac_lag_rule)["t"])
     with np.errstate(invalid="ignore"):
         max_date_ic = float(np.nanmax(ric)) if np.isfinite(ric).any() else float("nan")
-    warns = lookahead_warnings(delay_tab, drop_t, max_date_ic, h0)
+    warns = lookahead_warnings(delay_tab, drop_t, max_date_ic, h0, persistence)
     if not np.isfinite(ric).any():
         notes.append("No date reached the minimum breadth with a signal and a forward return: no IC is available.")
 
