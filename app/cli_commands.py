@@ -161,7 +161,13 @@ def add_serve(sub: Any) -> None:
     p.add_argument("--host", default="127.0.0.1",
                    help="address to listen on; anything but loopback needs --allow-remote and prints a token")
     p.add_argument("--allow-remote", action="store_true", help="permit a non-loopback --host (token required)")
-    p.add_argument("--token", default=None, help="access token for a non-loopback bind (default: generated)")
+    p.add_argument("--token", default=None, help=argparse.SUPPRESS)   # refused: the process list would show it
+    p.add_argument("--token-file", default=None, metavar="FILE",
+                   help="file (private to you) whose first line is the access token for a non-loopback bind; "
+                        "or set the VALUESIFT_TOKEN environment variable (default: a token is generated)")
+    p.add_argument("--public-name", action="append", default=[], metavar="NAME",
+                   help="with --allow-remote: a host name other computers use to reach the "
+                        "dashboard; repeatable (the Host header of every request must be one of the names)")
     p.add_argument("--workspace", default=None, metavar="DIR",
                    help="folder for uploaded datasets (default: ~/.valuesift/workspace)")
     p.add_argument("--max-upload-mb", type=float, default=200.0, metavar="MB",
@@ -171,8 +177,15 @@ def add_serve(sub: Any) -> None:
 
 
 def run_serve(args: argparse.Namespace) -> int:
-    from valuesift.app.server import serve
+    from valuesift.app.server import read_token, serve
+    from valuesift.core.errors import ConfigError
 
+    if args.token is not None:
+        raise ConfigError("A token given on the command line can be read by every user of this computer "
+                          "(the process list shows it).",
+                          hint="Put it in the VALUESIFT_TOKEN environment variable or in a private file given with "
+                               "--token-file, or leave it out to have one generated.")
+    names = [n.strip().lower() for n in args.public_name]
     return serve(
         host=args.host,
         port=args.port,
@@ -180,8 +193,9 @@ def run_serve(args: argparse.Namespace) -> int:
         workspace=args.workspace,
         dev=args.dev,
         allow_remote=args.allow_remote,
-        token=args.token,
+        token=read_token(args.token_file),
         max_upload_mb=args.max_upload_mb,
+        public_names=names,
     )
 
 

@@ -76,7 +76,11 @@ def poll(job_data: Any) -> tuple[Any, bool, dict[str, str], str, Any, bool, bool
         return {"key": None, "status": "failed"}, True, {}, "", alert("The study was lost; change a setting to run it again."), False, True
     pct = f"{100 * max(0.02, min(job.fraction, 1.0)):.0f}%"
     if job.status in ("queued", "running"):
-        text = "waiting for another study to finish" if job.status == "queued" else f"computing: {job.stage}"
+        if job.status == "queued":
+            text = ("waiting for a running job to finish" if job.ahead == 0
+                    else f"waiting: {job.ahead} jobs before it in the queue")
+        else:
+            text = f"computing: {job.stage}"
         return no_update, False, {"width": pct}, text, no_update, True, False
     if job.status == "done":
         return {"key": job.key, "status": "done"}, True, {"width": "100%"}, "", None, False, True

@@ -4,19 +4,22 @@ Pure functions on pandas frames (no Dash): the Screen page's callbacks call
 them.  Filtering parses the table's filter text into boolean masks (never
 ``DataFrame.query`` or ``eval``).  Exports neutralise spreadsheet formula
 injection: a text cell starting with ``=``, ``+``, ``-``, ``@``, a tab or a
-carriage return gets a leading ``'`` (OWASP, "CSV Injection").
+carriage return (or the Unicode compatibility form of one of them, such as the full-width
+``＝``) gets a leading ``'`` (OWASP, "CSV Injection").
 """
 
 from __future__ import annotations
 
 import io
-import re
+import unicodedata
 from typing import Any, Sequence
 
 import numpy as np
 import pandas as pd
 
-__all__ = ["COLUMNS", "display_frame", "apply_filter", "apply_sort", "page", "neutralise", "to_csv_bytes",
+from valuesift.core.errors import ConfigError
+
+__all__ = ["COLUMNS", "MAX_FILTER_CHARS", "display_frame", "apply_filter", "apply_sort", "page", "neutralise", "to_csv_bytes",
            "to_xlsx_bytes"]
 
 #: (column id, header, kind) of the screen table in display order.
@@ -37,6 +40,9 @@ COLUMNS: tuple[tuple[str, str, str], ...] = (
 )
 
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+#: the longest table filter accepted (a filter of the screen table is a few conditions long)
+MAX_FILTER_CHARS = 1_000
 
 
 def display_frame(screen: pd.DataFrame, *, holdings_only: bool = False) -> pd.DataFrame:
@@ -60,7 +66,28 @@ def display_frame(screen: pd.DataFrame, *, holdings_only: bool = False) -> pd.Da
 
 _OPS = ("s<=", "s>=", "s<", "s>", "s=", "s!=", "<=", ">=", "!=", "<", ">", "=",
         "icontains", "scontains", "contains", "ge", "le", "gt", "lt", "ne", "eq", "datestartswith")
-_PART = re.compile(r"^\s*\{(?P<col>[^}]+)\}\s+(?P<op>" + "|".join(re.escape(o) for o in _OPS) + r")\s+(?P<val>.+?)\s*$")
+_OPS_LONGEST_FIRST = tuple(sorted(_OPS, key=len, reverse=True))
+
+
+def _parse_part(part: str) -> tuple[str, str, str] | None:
+    """``{col} op value`` -> (col, op, value) in one pass (no backtracking pattern); None when unreadable."""
+    t = part.strip()
+    if not t.startswith("{"):
+        return None
+    close = t.find("}", 1)
+    if close <= 1:
+        return None
+    col, rest = t[1:close], t[close + 1:]
+    if not rest[:1].isspace():
+        return None
+    rest = rest.lstrip()
+    for op in _OPS_LONGEST_FIRST:
+        if rest.startswith(op) and rest[len(op):len(op) + 1].isspace():
+            val = rest[len(op):].strip()
+            return (col, op, val) if val else None
+    return None
+
+
 _CANON = {"ge": ">=", "le": "<=", "gt": ">", "lt": "<", "ne": "!=", "eq": "=", "s<=": "<=", "s>=": ">=",
           "s<": "<", "s>": ">", "s=": "=", "s!=": "!=", "scontains": "contains", "icontains": "contains",
           "datestartswith": "contains"}
@@ -76,16 +103,22 @@ def _value(text: str) -> str:
 def apply_filter(df: pd.DataFrame, query: str | None) -> pd.DataFrame:
     """Rows matching a table filter such as ``{sector} contains Banks && {zscore} > 1``.
 
-    Unknown columns or unreadable parts are ignored (the table shows all rows for them).
+    Unknown columns or unreadable parts are ignored (the table shows all rows for them).  A filter
+    longer than :data:`MAX_FILTER_CHARS` is refused with :class:`ConfigError` (parsing is linear in
+    its length, matching linear in rows times conditions).
     """
     if not query:
         return df
+    query = str(query)
+    if len(query) > MAX_FILTER_CHARS:
+        raise ConfigError(f"The table filter is {len(query):,} characters long, above the limit of {MAX_FILTER_CHARS:,}.",
+                          hint="Use a few short conditions, such as 'Banks' under Sector or '> 1' under Z-score.")
     mask = np.ones(len(df), dtype=bool)
-    for part in str(query).split(" && "):
-        m = _PART.match(part)
-        if not m or m["col"] not in df.columns:
+    for part in query.split(" && "):
+        m = _parse_part(part)
+        if m is None or m[0] not in df.columns:
             continue
-        col, op, val = m["col"], _CANON.get(m["op"], m["op"]), _value(m["val"])
+        col, op, val = m[0], _CANON.get(m[1], m[1]), _value(m[2])
         s = df[col]
         num = pd.to_numeric(s, errors="coerce").to_numpy(dtype=float)
         try:
@@ -128,6 +161,15 @@ def page(df: pd.DataFrame, current: int | None, size: int | None) -> tuple[list[
     return rows, n_pages
 
 
+def _starts_formula(text: str) -> bool:
+    """Whether a spreadsheet could read ``text`` as a formula: its first character, or that character's
+    Unicode compatibility form (full-width ``＝ ＋ － ＠``, small ``﹦ ﹢ ﹣``), is ``= + - @``, tab or CR."""
+    if not text:
+        return False
+    first = text[0]
+    return first in _FORMULA_START or unicodedata.normalize("NFKC", first)[:1] in _FORMULA_START
+
+
 def neutralise(df: pd.DataFrame) -> pd.DataFrame:
     """A copy whose text cells cannot start a spreadsheet formula (a leading ``'`` is added)."""
     out = df.copy()
@@ -135,7 +177,7 @@ def neutralise(df: pd.DataFrame) -> pd.DataFrame:
         if pd.api.types.is_numeric_dtype(out[c]) or pd.api.types.is_bool_dtype(out[c]):
             continue
         s = out[c].astype(object)
-        out[c] = [("'" + x) if isinstance(x, str) and x.startswith(_FORMULA_START) else x for x in s]
+        out[c] = [("'" + x) if isinstance(x, str) and _starts_formula(x) else x for x in s]
     return out
 
 

@@ -11,12 +11,16 @@ from __future__ import annotations
 import hmac
 import ipaddress
 import logging
+import math
+import os
 import re
 import secrets
 import sys
 import tempfile
+import threading
+import time
 from pathlib import Path
-from typing import Any
+from typing import Any, Iterable
 
 import dash
 import flask
@@ -26,12 +30,20 @@ from valuesift.app import shell
 from valuesift.app.services import AppState, selection_key
 from valuesift.app.workspace import Workspace
 
-__all__ = ["create_app", "serve", "load_demo", "DEFAULT_WORKSPACE", "TOKEN_COOKIE", "assets_folder"]
+__all__ = ["create_app", "serve", "load_demo", "DEFAULT_WORKSPACE", "TOKEN_COOKIE", "TOKEN_ENV", "assets_folder",
+           "allowed_hosts", "token_strength_bits", "read_token", "MIN_TOKEN_BITS"]
 
 log = logging.getLogger("valuesift.app")
 
 DEFAULT_WORKSPACE = Path("~/.valuesift/workspace")
 TOKEN_COOKIE = "valuesift_token"
+#: environment variable that may hold the access token (never the command line: the process list shows it)
+TOKEN_ENV = "VALUESIFT_TOKEN"
+#: the least estimated randomness of an access token, in bits
+MIN_TOKEN_BITS = 128
+#: wrong tokens from one address before it has to wait; the wait doubles with each further failure
+_FREE_FAILURES = 5
+_MAX_LOCK_S = 300.0
 _APP_DIR = Path(_app_pkg.__file__).parent
 
 
@@ -76,22 +88,149 @@ def _is_loopback(host: str) -> bool:
         return False
 
 
+def token_strength_bits(token: str) -> float:
+    """An estimate of a token's randomness: its length times log2 of the size of the character classes it uses.
+
+    A token of one repeated character, or with fewer than 12 distinct
+    characters, counts as 0 (it is not random whatever its length).
+    """
+    if len(set(token)) < 12:
+        return 0.0
+    pool = 0
+    pool += 10 if any(c.isdigit() for c in token) else 0
+    pool += 26 if any(c.islower() for c in token) else 0
+    pool += 26 if any(c.isupper() for c in token) else 0
+    pool += 32 if any(not c.isalnum() for c in token) else 0
+    if all(c in "0123456789abcdef" for c in token) or all(c in "0123456789ABCDEF" for c in token):
+        pool = 16
+    return len(token) * math.log2(max(pool, 2))
+
+
+def read_token(token_file: str | None = None, *, environ: dict[str, str] | None = None) -> str | None:
+    """The user's access token from ``token_file`` (its first line) or the ``VALUESIFT_TOKEN`` variable; None if neither.
+
+    Raises ConfigError when the file cannot be read or is readable by other users.
+    """
+    from valuesift.core.errors import ConfigError
+
+    env = os.environ if environ is None else environ
+    if token_file:
+        path = Path(token_file).expanduser()
+        try:
+            st = path.stat()
+            text = path.read_text(encoding="utf-8")
+        except OSError as err:
+            raise ConfigError(f"The token file {str(path)!r} cannot be read.",
+                              hint="Check the path, or put the token in the VALUESIFT_TOKEN environment variable.") from err
+        if st.st_mode & 0o077:
+            raise ConfigError(f"The token file {str(path)!r} can be read by other users of this computer.",
+                              hint=f"Make it private with: chmod 600 {path}")
+        first = text.strip().splitlines()
+        return first[0].strip() if first else ""
+    value = env.get(TOKEN_ENV)
+    return value.strip() if value is not None else None
+
+
+def _check_token(token: str) -> None:
+    from valuesift.core.errors import ConfigError
+
+    if token_strength_bits(token) < MIN_TOKEN_BITS:
+        raise ConfigError(f"The access token is too easy to guess (about {token_strength_bits(token):.0f} bits of "
+                          f"randomness; at least {MIN_TOKEN_BITS} are required).",
+                          hint="Leave the token out to have one generated, or make one with: "
+                               "python -c \"import secrets; print(secrets.token_urlsafe(32))\"")
+
+
+class _Throttle:
+    """Wrong tokens from one address: the first few are free, then each needs a wait that doubles (up to 5 minutes)."""
+
+    def __init__(self) -> None:
+        self._fails: dict[str, tuple[int, float]] = {}
+        self._lock = threading.Lock()
+
+    def wait_left(self, addr: str) -> float:
+        with self._lock:
+            n, until = self._fails.get(addr, (0, 0.0))
+        return max(0.0, until - time.monotonic())
+
+    def failed(self, addr: str) -> None:
+        with self._lock:
+            n, _ = self._fails.get(addr, (0, 0.0))
+            n += 1
+            wait = 0.0 if n <= _FREE_FAILURES else min(_MAX_LOCK_S, 2.0 ** (n - _FREE_FAILURES))
+            self._fails[addr] = (n, time.monotonic() + wait)
+            if len(self._fails) > 10_000:          # bounded: forget the oldest addresses
+                for k in list(self._fails)[:1000]:
+                    self._fails.pop(k, None)
+
+    def succeeded(self, addr: str) -> None:
+        with self._lock:
+            self._fails.pop(addr, None)
+
+
 def _install_token_guard(server: flask.Flask, token: str) -> None:
-    """Every request needs the token: once as ``?token=``, then from an http-only cookie."""
+    """Every request needs the token: once as ``?token=``, then from an http-only cookie.
+
+    Wrong tokens are counted per client address: after a few, that address
+    must wait (doubling up to five minutes) before the next attempt is even
+    compared; a browser that already holds the right cookie is never slowed.
+    """
+    throttle = _Throttle()
+    server.extensions["valuesift_throttle"] = throttle
 
     @server.before_request
     def _guard() -> Any:
         req = flask.request
-        given = req.args.get("token")
-        if given is not None and hmac.compare_digest(given.encode(), token.encode()):
-            resp = flask.redirect(req.path, code=303)
-            resp.set_cookie(TOKEN_COOKIE, token, httponly=True, samesite="Strict")
-            return resp
+        addr = req.remote_addr or "?"
         cookie = req.cookies.get(TOKEN_COOKIE, "")
         if cookie and hmac.compare_digest(cookie.encode(), token.encode()):
             return None
-        return flask.Response("Access token required: open the address printed when the server started.",
+        given = req.args.get("token")
+        if given is None and not cookie:
+            return flask.Response("Access token required: open the address printed when the server started.",
+                                  status=403, mimetype="text/plain")
+        left = throttle.wait_left(addr)
+        if left > 0:
+            resp = flask.Response(f"Too many wrong access tokens from this computer. Wait {math.ceil(left)} seconds, "
+                                  "then open the address printed when the server started.", status=429,
+                                  mimetype="text/plain")
+            resp.headers["Retry-After"] = str(math.ceil(left))
+            return resp
+        if given is not None and hmac.compare_digest(given.encode(), token.encode()):
+            throttle.succeeded(addr)
+            resp = flask.redirect(req.path, code=303)
+            resp.set_cookie(TOKEN_COOKIE, token, httponly=True, samesite="Strict")
+            return resp
+        throttle.failed(addr)
+        return flask.Response("Wrong access token: open the address printed when the server started.",
                               status=403, mimetype="text/plain")
+
+
+def allowed_hosts(host: str, port: int, names: Iterable[str] = ()) -> frozenset[str]:
+    """The Host header values the server answers to (lower case, with the port).
+
+    Always the loopback names ``127.0.0.1``, ``localhost`` and ``[::1]``; when
+    bound to a specific non-loopback address, that address too; and any
+    ``names`` given (``--public-name``) for a remote bind.  Anything else is
+    refused, so a page of another site cannot reach the server by making its
+    own name resolve to this computer (DNS rebinding).
+    """
+    hosts = {"127.0.0.1", "localhost", "[::1]"}
+    if host not in ("0.0.0.0", "::", ""):
+        hosts.add(f"[{host}]" if ":" in host else host)
+    hosts.update(str(n).strip().lower() for n in names if str(n).strip())
+    return frozenset(f"{h.lower()}:{port}" for h in hosts)
+
+
+def _install_host_check(server: flask.Flask, hosts: frozenset[str]) -> None:
+    @server.before_request
+    def _host() -> Any:
+        given = (flask.request.headers.get("Host") or "").strip().lower()
+        if given in hosts:
+            return None
+        return flask.Response("This address is not one the dashboard answers to. Open the address printed when the "
+                              "server started (for example http://127.0.0.1 with its port).", status=421,
+                              mimetype="text/plain")
 
 
 _SESSION_RE = re.compile(r"^[0-9a-f]{32}$")
@@ -118,7 +257,8 @@ def _install_sessions(server: flask.Flask) -> None:
 
 
 def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: bool = False,
-               max_upload_mb: float = 200.0, token: str | None = None) -> dash.Dash:
+               max_upload_mb: float = 200.0, token: str | None = None,
+               hosts: frozenset[str] | None = None) -> dash.Dash:
     """The dashboard on one workspace folder.
 
     Parameters
@@ -134,6 +274,8 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
         Flask's ``MAX_CONTENT_LENGTH`` and by intake).
     token : str, optional
         Require this access token on every request.
+    hosts : frozenset of str, optional
+        Accept only these ``Host`` header values (see :func:`allowed_hosts`); ``serve`` always sets them.
     """
     from dash import _callback
 
@@ -161,6 +303,8 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
     server.extensions["valuesift"] = st
     app.layout = shell.layout
     shell.register_shell_callbacks(app)
+    if hosts is not None:
+        _install_host_check(server, hosts)
     if token:
         _install_token_guard(server, token)
     _install_sessions(server)
@@ -203,12 +347,15 @@ def _warm(st: AppState) -> None:
 
 def serve(host: str = "127.0.0.1", port: int = 8750, demo: bool = False, workspace: str | None = None,
           dev: bool = False, allow_remote: bool = False, token: str | None = None, *,
-          threads: int = 6, max_upload_mb: float = 200.0) -> int:
+          threads: int = 6, max_upload_mb: float = 200.0, public_names: Iterable[str] = ()) -> int:
     """Start the dashboard and block until interrupted; returns the exit code.
 
     A non-loopback ``host`` needs ``allow_remote=True``; it prints a warning
-    and requires an access token on every request (``token`` or one made with
-    :mod:`secrets`).
+    and requires an access token on every request (``token``, or one of 256
+    bits made with :mod:`secrets`); a given token needs at least 128 bits of
+    estimated randomness.  ``dev`` (the framework's debugger) is refused on
+    any non-loopback address.  Only the Host names of :func:`allowed_hosts`
+    are answered.
     """
     from valuesift.core.errors import ConfigError
 
@@ -216,8 +363,14 @@ def serve(host: str = "127.0.0.1", port: int = 8750, demo: bool = False, workspa
     if remote and not allow_remote:
         raise ConfigError(f"Listening on {host!r} would expose the dashboard to other computers.",
                           hint="Use the default 127.0.0.1, or add --allow-remote (a token is then required).")
+    if remote and dev:
+        raise ConfigError(f"Developer mode (--dev) serves the framework's debugger, which must never be reachable "
+                          f"from other computers; it cannot be used with --host {host}.",
+                          hint="Use --dev only with the default 127.0.0.1, or leave --dev out.")
+    if token is not None:
+        _check_token(token)
     if remote:
-        token = token or secrets.token_urlsafe(24)
+        token = token or secrets.token_urlsafe(32)
         print(f"WARNING: listening on {host}, reachable from other computers. Anyone with the token "
               "can see and change your data. Use it only on a network you trust.", file=sys.stderr)
     if workspace is None and demo:
@@ -225,7 +378,8 @@ def serve(host: str = "127.0.0.1", port: int = 8750, demo: bool = False, workspa
         ws_path: Path = Path(tempfile.mkdtemp(prefix="valuesift-demo-"))
     else:
         ws_path = Path(workspace).expanduser() if workspace else DEFAULT_WORKSPACE.expanduser()
-    app = create_app(ws_path, demo=demo, dev=dev, max_upload_mb=max_upload_mb, token=token)
+    app = create_app(ws_path, demo=demo, dev=dev, max_upload_mb=max_upload_mb, token=token,
+                     hosts=allowed_hosts(host, port, public_names))
     shown = "127.0.0.1" if host in ("0.0.0.0", "::") else host
     start = "/study" if demo else "/"
     url = f"http://{shown}:{port}{start}" + (f"?token={token}" if token else "")

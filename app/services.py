@@ -14,14 +14,14 @@ import logging
 import threading
 import uuid
 from collections import OrderedDict
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 import flask
-from flask_caching import Cache
 
+from valuesift.app.jobs import Busy, Job, JobRunner
+from valuesift.app.result_cache import SignedCache, load_secret
 from valuesift.app.workspace import Workspace, options_to_dict
-from valuesift.core.errors import ValueSiftError
 from valuesift.core.intake import PanelOptions, build_panel
 from valuesift.core.panel import Panel
 from valuesift.core.config import StudyConfig
@@ -29,7 +29,7 @@ from valuesift.core.result import StudyResult
 from valuesift.core.study import run_study
 
 __all__ = ["job_done", "finished_result", "AppState", "StudyJob", "Selection", "state", "normalise_selection", "LRU", "current_owner",
-           "SESSION_COOKIE", "selection_key"]
+           "SESSION_COOKIE", "selection_key", "UploadBudget", "Busy"]
 
 log = logging.getLogger("valuesift.app")
 
@@ -96,47 +96,64 @@ class LRU:
             return list(self._d.values())
 
 
-class _Cancelled(Exception):
-    pass
-
-
 @dataclass
 class StudyJob:
-    """One study running in a worker thread (progress polled by the page)."""
+    """What a page sees of a study: its key, status, progress and error (a view of the runner's job)."""
 
     key: str
     status: str = "queued"          # queued, running, done, failed, cancelled
     stage: str = "waiting"
     fraction: float = 0.0
     error: str | None = None
-    cancel: threading.Event = field(default_factory=threading.Event)
-    owners: set[str] = field(default_factory=set)   # browser sessions waiting for it
+    id: str | None = None
+    ahead: int = 0                  # jobs queued before it (while queued)
 
 
 class AppState:
-    """Everything one dashboard keeps on the server."""
+    """Everything one dashboard keeps on the server: the workspace, panels, results and the job runner.
+
+    It is the one owner of server state: the Study, Screen, Company and Export
+    pages reach results through it (owner-checked), and every long job (a
+    study, a bundle build) runs on its :class:`~valuesift.app.jobs.JobRunner`.
+    """
 
     def __init__(self, workspace: Workspace, server: flask.Flask, *, demo: bool = False,
-                 max_upload_bytes: int = 200 * 1024 * 1024) -> None:
+                 max_upload_bytes: int = 200 * 1024 * 1024, upload_budget_bytes: int | None = None,
+                 runner: JobRunner | None = None) -> None:
         self.workspace = workspace
         self.server = server
         self.demo = demo
         self.max_upload_bytes = max_upload_bytes
-        self.cache = Cache(server, config={
-            "CACHE_TYPE": "FileSystemCache",
-            "CACHE_DIR": str(workspace.cache_dir),
-            "CACHE_DEFAULT_TIMEOUT": 0,
-            "CACHE_THRESHOLD": 16,      # results of large universes are big; keep the folder bounded
-        })
+        # results of large universes are big; keep the folder bounded (signed entries only, see result_cache)
+        self.cache = SignedCache(workspace.cache_dir, load_secret(workspace.root / "cache.key"), threshold=16)
         self.results = LRU(4)
         # Each browser session's latest result stays in memory, so a finished study cannot be evicted
         # (by other sessions' studies) between "done" and the page fetching it.
         self.pins = LRU(32)
         self.panels = LRU(4)
-        self.jobs: dict[str, StudyJob] = {}
-        self._jobs_lock = threading.Lock()
-        self._run_lock = threading.Semaphore(1)   # one study at a time on a small machine
+        self._owners = LRU(2048)        # study key -> sessions that asked for it
+        self._owners_lock = threading.Lock()
+        self.runner = runner or JobRunner(workers=2, max_queued=12, max_per_owner=3)
+        self.uploads = UploadBudget(upload_budget_bytes if upload_budget_bytes is not None
+                                    else max(2 * max_upload_bytes, 512 * 1024 * 1024))
         self.instance = uuid.uuid4().hex[:8]
+
+    # -- owners of results ------------------------------------------------------------
+    def _add_owner(self, key: str, owner: str) -> None:
+        with self._owners_lock:
+            owners = self._owners.get(key)
+            if owners is None:
+                owners = set()
+                self._owners.put(key, owners)
+            owners.add(owner)
+
+    def owns(self, key: str, owner: str | None) -> bool:
+        """Whether the session ``owner`` asked for the study ``key`` (``None``, outside a request: yes)."""
+        if owner is None:
+            return True
+        with self._owners_lock:
+            owners = self._owners.get(key)
+            return owners is not None and owner in owners
 
     # -- selection -> panel ----------------------------------------------------------
     def selection_fingerprint(self, sel: Selection) -> str:
@@ -189,8 +206,12 @@ class AppState:
         return "study-" + hashlib.sha256(blob.encode()).hexdigest()[:32]
 
     def result(self, key: str | None) -> StudyResult | None:
-        """A finished result from memory, else from the filesystem cache, else None."""
-        if not key:
+        """A finished result from memory, else from the signed file cache, else None.
+
+        In a served request only a result the session asked for is returned
+        (a key seen in another browser gives nothing).
+        """
+        if not key or not self.owns(key, current_owner()):
             return None
         hit = self.results.get(key)
         if hit is not None:
@@ -198,46 +219,56 @@ class AppState:
         for pinned_key, pinned in self.pins.values():
             if pinned_key == key:
                 return pinned
-        with self.server.app_context():
-            try:
-                hit = self.cache.get(key)
-            except Exception:  # a damaged cache file is only a cache miss
-                log.debug("cache read failed", exc_info=True)
-                hit = None
+        try:
+            hit = self.cache.get(key)
+        except Exception:  # a damaged cache file is only a cache miss
+            log.debug("cache read failed", exc_info=True)
+            hit = None
         if isinstance(hit, StudyResult):
             self.results.put(key, hit)
             return hit
         return None
 
     def job(self, key: str | None) -> StudyJob | None:
-        with self._jobs_lock:
-            return self.jobs.get(key or "")
+        """The study job of ``key`` as the current session sees it (None when it is not the session's)."""
+        job = self.runner.by_key(key, current_owner())
+        return None if job is None else self._view(job)
+
+    def _view(self, job: Job) -> StudyJob:
+        ahead = self.runner.position(job) if job.status == "queued" else 0
+        return StudyJob(key=job.key or "", status=job.status, stage=job.stage, fraction=job.fraction,
+                        error=job.error, id=job.id, ahead=ahead)
 
     def start_study(self, sel: Selection, config: StudyConfig) -> StudyJob:
-        """Return a finished job at once when memoised; else start (or join) a worker thread."""
+        """Return a finished job at once when memoised; else queue (or join) the study on the runner.
+
+        Raises :class:`~valuesift.app.jobs.Busy` when the session's or the server's queue is full.
+        """
         sel = self.visible(sel)   # the worker thread has no session: hand it the session's ids only
         key = self.study_key(sel, config)
         owner = current_owner() or ""
+        self._add_owner(key, owner)
         res = self.result(key)
         if res is not None:
             self.pins.put(owner, (key, res))
             return StudyJob(key=key, status="done", stage="done", fraction=1.0)
-        with self._jobs_lock:
-            job = self.jobs.get(key)
-            if job is not None and job.status in ("queued", "running"):
-                job.owners.add(owner)
-                return job
-            job = StudyJob(key=key, owners={owner})
-            self.jobs[key] = job
-        thread = threading.Thread(target=self._work, args=(job, normalise_selection(sel), config),
-                                  name=f"study-{key[-6:]}", daemon=True)
-        thread.start()
-        return job
+        sel = normalise_selection(sel)
+
+        def work(job: Job) -> None:
+            job.progress("reading the data", 0.0)
+            panel = self.panel(sel)
+            res = run_study(panel, config, progress=job.progress)
+            self._store(key, res)
+            for o in list(job.owners):
+                self.pins.put(o, (key, res))
+
+        return self._view(self.runner.submit("study", owner, work, key=key))
 
     def run_now(self, sel: Selection, config: StudyConfig) -> tuple[str, StudyResult]:
         """Run (or fetch) a study in the calling thread; ValueSiftError when it cannot run."""
         sel = self.visible(sel)
         key = self.study_key(sel, config)
+        self._add_owner(key, current_owner() or "")
         res = self.result(key)
         if res is None:
             res = run_study(self.panel(sel), config)
@@ -247,48 +278,48 @@ class AppState:
 
     def _store(self, key: str, res: StudyResult) -> None:
         self.results.put(key, res)
-        with self.server.app_context():
-            try:
-                self.cache.set(key, res)
-            except Exception:
-                log.warning("could not write the study cache", exc_info=True)
-
-    def _work(self, job: StudyJob, sel: Selection, config: StudyConfig) -> None:
-        def progress(stage: str, fraction: float) -> None:
-            if job.cancel.is_set():
-                raise _Cancelled()
-            job.stage, job.fraction = stage, float(fraction)
-
-        with self._run_lock:
-            if job.cancel.is_set():
-                job.status = "cancelled"
-                return
-            job.status, job.stage = "running", "reading the data"
-            try:
-                panel = self.panel(sel)
-                res = run_study(panel, config, progress=progress)
-            except _Cancelled:
-                job.status, job.stage = "cancelled", "cancelled"
-                return
-            except ValueSiftError as err:
-                job.status, job.error = "failed", str(err)
-                log.debug("study failed", exc_info=True)
-                return
-            except Exception as err:  # never a traceback in the page; the log keeps it
-                log.exception("study crashed")
-                job.status = "failed"
-                job.error = f"The study could not be computed ({type(err).__name__}). The log has the details."
-                return
-            self._store(job.key, res)
-            with self._jobs_lock:
-                for owner in job.owners:
-                    self.pins.put(owner, (job.key, res))
-            job.status, job.stage, job.fraction = "done", "done", 1.0
+        try:
+            self.cache.set(key, res)
+        except Exception:
+            log.warning("could not write the study cache", exc_info=True)
 
     def cancel(self, key: str | None) -> None:
-        job = self.job(key)
-        if job is not None and job.status in ("queued", "running"):
-            job.cancel.set()
+        """Withdraw the current session from the study ``key`` (cancelled when nobody else waits for it)."""
+        owner = current_owner()
+        job = self.runner.by_key(key, owner)
+        if job is not None:
+            self.runner.cancel(job.id, owner)
+
+
+class UploadBudget:
+    """Admission of uploads against one memory budget for all uploads being read at once.
+
+    Reading an upload costs a multiple of its size (the request body, its text,
+    the decoded bytes and the parsed cells); ``COST`` is that multiple as
+    measured (tests/benchmarks, README).  An upload whose cost does not fit the
+    remaining budget is refused with a message, never queued behind the others.
+    """
+
+    COST = 8
+
+    def __init__(self, budget_bytes: int) -> None:
+        self.budget = int(budget_bytes)
+        self.in_use = 0
+        self._lock = threading.Lock()
+
+    def admit(self, size: int) -> int:
+        """Reserve the memory of one upload of ``size`` bytes; returns the reservation (release it)."""
+        cost = max(1, int(size)) * self.COST
+        with self._lock:
+            if self.in_use and self.in_use + cost > self.budget:
+                raise Busy(f"The server is reading other uploads right now and has no memory left for a file of "
+                           f"{size / 1e6:.0f} MB.", hint="Drop the file again in a minute.")
+            self.in_use += cost
+        return cost
+
+    def release(self, cost: int) -> None:
+        with self._lock:
+            self.in_use = max(0, self.in_use - cost)
 
 
 def state() -> AppState:

@@ -22,20 +22,30 @@ shared ones (owner ``''``: the demo, and anything added without an owner,
 such as from the command line).  ``owner=None`` in a query means "no
 filtering" (the command line and tests).
 
-A rejected upload (above the size limit) is not kept: nothing in the folder
-changes.  A file that is within the limit but cannot be read is kept with its
-error, so it can be read again with other options.
+Shared datasets are read-only to browser sessions: a session cannot delete
+one, and reading one again with other choices gives the session its own copy
+(the shared one stays as it was for everyone).
+
+A rejected upload -- above the size limit, or a file that cannot be read --
+is not kept: nothing in the folder changes, and the user sees why.  Reading
+a kept dataset again with choices that fail leaves the dataset as it was.
+When the disk is full (or the folder cannot be written) nothing half-written
+is left and the message says so.  Raw or data files that no catalogue row
+names (left by a process killed between writing the file and its row) are
+removed when a Workspace is opened, once they are a minute old.
 """
 
 from __future__ import annotations
 
 import dataclasses
+import errno
 import hashlib
 import json
 import os
 import sqlite3
 import tempfile
 import threading
+import time
 from contextlib import closing
 from dataclasses import dataclass
 from datetime import datetime, timezone
@@ -48,8 +58,15 @@ from valuesift.core.errors import IntakeError, Reason, ValueSiftError
 from valuesift.core.intake import ParsedFile, ReadOptions, read_table
 from valuesift.core.intake.report import FileReport
 
-__all__ = ["DatasetRecord", "Workspace", "options_to_dict", "options_from_dict", "report_to_dict",
-           "report_from_dict", "atomic_write_bytes"]
+__all__ = ["DatasetRecord", "Workspace", "SharedDatasetError", "options_to_dict", "options_from_dict",
+           "report_to_dict", "report_from_dict", "atomic_write_bytes", "ORPHAN_AGE_S"]
+
+#: a raw or data file no catalogue row names is removed at open once it is this old (seconds)
+ORPHAN_AGE_S = 60.0
+
+
+class SharedDatasetError(ValueSiftError):
+    """A browser session tried to change a dataset shared by every session (the demo, command-line files)."""
 
 _SCHEMA = """
 CREATE TABLE IF NOT EXISTS datasets (
@@ -217,15 +234,35 @@ class Workspace:
             if "owner" not in cols:  # a workspace made before owners existed: its rows are shared
                 con.execute("ALTER TABLE datasets ADD COLUMN owner TEXT NOT NULL DEFAULT ''")
         self.removed_temp_files = self._remove_temp_files()
+        self.removed_orphans = self._remove_orphans()
 
     def _remove_temp_files(self) -> int:
         """Delete ``.tmp-<pid>-*`` files whose writing process is gone (left by a crash; never datasets)."""
         n = 0
-        for sub in ("raw", "data"):
+        for sub in ("raw", "data", "cache"):
             for p in (self.root / sub).glob(".tmp-*"):
                 if _writer_alive(p.name):
                     continue          # another process (a server, a command) is writing it now
                 try:
+                    p.unlink()
+                    n += 1
+                except OSError:
+                    pass
+        return n
+
+    def _remove_orphans(self) -> int:
+        """Delete raw and data files that no catalogue row names (older than :data:`ORPHAN_AGE_S`)."""
+        with self._connect() as con:
+            shas = {r[0] for r in con.execute("SELECT sha256 FROM datasets").fetchall()}
+            ids = {r[0] for r in con.execute("SELECT id FROM datasets").fetchall()}
+        now, n = time.time(), 0
+        for sub, known, suffix in (("raw", shas, ".bin"), ("data", ids, ".parquet")):
+            for p in (self.root / sub).glob(f"*{suffix}"):
+                if p.name.startswith(".tmp-") or p.name[:-len(suffix)] in known:
+                    continue
+                try:
+                    if now - p.stat().st_mtime < ORPHAN_AGE_S:
+                        continue          # perhaps another process is between the file and its row
                     p.unlink()
                     n += 1
                 except OSError:
@@ -251,10 +288,12 @@ class Workspace:
     # -- writing -----------------------------------------------------------------------
     def add_upload(self, name: str, raw: bytes, options: ReadOptions | None = None, *,
                    demo: bool = False, owner: str = "") -> DatasetRecord:
-        """Keep the bytes, read them and catalogue the outcome (a failed read is kept with its error).
+        """Read the bytes and, when they read, keep them and catalogue the dataset.
 
-        An upload above ``options.max_bytes`` is rejected without touching the
-        folder: the returned record has status ``"failed"`` and is not catalogued.
+        A file above ``options.max_bytes``, a file that cannot be read and a
+        file that cannot be stored (a full disk) leave the folder unchanged:
+        the returned record has status ``"failed"`` and its error says why; it
+        is not catalogued.
         """
         options = options or ReadOptions()
         sha = hashlib.sha256(raw).hexdigest()
@@ -262,54 +301,100 @@ class Workspace:
             err = IntakeError(name, Reason.TOO_LARGE,
                               f"the file has {len(raw):,} bytes, above the limit of {options.max_bytes:,}.",
                               hint="Split the file, or start the server with a larger --max-upload-mb.")
-            now = datetime.now(timezone.utc).isoformat(timespec="seconds")
-            return DatasetRecord(_dataset_id(sha, options, owner), name, options.kind, sha, len(raw), now,
-                                 options, None, "failed", str(err), demo, owner)
-        with self._lock:
-            if not self._raw_path(sha).exists():
-                atomic_write_bytes(self._raw_path(sha), raw)
-        return self._read_and_store(name, sha, len(raw), options, demo=demo, owner=owner)
-
-    def reread(self, dataset_id: str, options: ReadOptions) -> DatasetRecord:
-        """Read a kept upload again with other options (no new upload); the old entry is replaced."""
-        old = self.get(dataset_id)
-        rec = self._read_and_store(old.name, old.sha256, old.size, options, demo=old.demo, owner=old.owner)
-        if rec.id != old.id:
-            self.delete(old.id, keep_raw=True)
-        return rec
-
-    def _read_and_store(self, name: str, sha: str, size: int, options: ReadOptions, *, demo: bool,
-                        owner: str = "") -> DatasetRecord:
-        did = _dataset_id(sha, options, owner)
-        raw = self._raw_path(sha).read_bytes()
-        now = datetime.now(timezone.utc).isoformat(timespec="seconds")
-        kind: str | None = options.kind
-        report: dict[str, Any] | None = None
-        error: str | None = None
+            return self._failed(name, sha, len(raw), options, str(err), demo, owner)
         try:
             pf = read_table(raw, name=name, options=options)
         except (IntakeError, ValueSiftError) as err:
-            status, error = "failed", str(err)
-        else:
-            status, kind, report = "ok", pf.kind, report_to_dict(pf.report)
-            buf = pf.data.to_parquet(index=False)
-            atomic_write_bytes(self._data_path(did), buf)
+            return self._failed(name, sha, len(raw), options, str(err), demo, owner)
+        wrote_raw = False
+        try:
+            with self._lock:
+                if not self._raw_path(sha).exists():
+                    atomic_write_bytes(self._raw_path(sha), raw)
+                    wrote_raw = True
+            return self._store(name, sha, len(raw), options, pf, demo=demo, owner=owner)
+        except (OSError, sqlite3.Error) as err:
+            if wrote_raw:
+                self._drop_raw_if_unused(sha)
+            return self._failed(name, sha, len(raw), options, self._disk_message(name, err), demo, owner)
+
+    def _disk_message(self, name: str, err: BaseException) -> str:
+        full = isinstance(err, OSError) and err.errno in (errno.ENOSPC, errno.EDQUOT)
+        what = "has no space left" if full else "cannot be written"
+        return (f"{name} was read but could not be stored: the workspace folder {self.root} {what}. "
+                "Nothing was kept. Free some disk space (or choose another workspace folder), then drop the file again.")
+
+    def _failed(self, name: str, sha: str, size: int, options: ReadOptions, error: str, demo: bool,
+                owner: str) -> DatasetRecord:
+        now = datetime.now(timezone.utc).isoformat(timespec="seconds")
+        return DatasetRecord(_dataset_id(sha, options, owner), name, options.kind, sha, size, now, options, None,
+                             "failed", error, demo, owner)
+
+    def _drop_raw_if_unused(self, sha: str) -> None:
         with self._lock, self._connect() as con:
-            con.execute(
-                "INSERT OR REPLACE INTO datasets (id, name, kind, sha256, size, uploaded_at, options_json, "
-                "report_json, status, error, demo, owner) VALUES (?,?,?,?,?,?,?,?,?,?,?,?)",
-                (did, name, kind, sha, size, now, json.dumps(options_to_dict(options)),
-                 None if report is None else json.dumps(report), status, error, int(demo), owner),
-            )
+            used = con.execute("SELECT COUNT(*) FROM datasets WHERE sha256 = ?", (sha,)).fetchone()[0]
+        if not used:
+            self._raw_path(sha).unlink(missing_ok=True)
+
+    def reread(self, dataset_id: str, options: ReadOptions, *, owner: str | None = None) -> DatasetRecord:
+        """Read a kept upload again with other options (no new upload).
+
+        On success the old entry is replaced -- except a shared dataset read
+        again by a browser session (``owner``), which stays as it is while the
+        session gets its own copy.  When the new choices fail, nothing changes
+        and the returned record (not catalogued) carries the error.
+        """
+        old = self.get(dataset_id, owner=owner)
+        new_owner = old.owner if owner is None or old.owner == owner else owner
+        try:
+            raw = self._raw_path(old.sha256).read_bytes()
+        except OSError:
+            return self._failed(old.name, old.sha256, old.size, options,
+                                f"The kept copy of {old.name} is missing from the workspace, so it cannot be read "
+                                "again. Upload the file again.", old.demo, new_owner)
+        try:
+            pf = read_table(raw, name=old.name, options=options)
+        except (IntakeError, ValueSiftError) as err:
+            return self._failed(old.name, old.sha256, old.size, options, str(err), old.demo, new_owner)
+        try:
+            rec = self._store(old.name, old.sha256, old.size, options, pf, demo=old.demo, owner=new_owner)
+        except (OSError, sqlite3.Error) as err:
+            return self._failed(old.name, old.sha256, old.size, options, self._disk_message(old.name, err),
+                                old.demo, new_owner)
+        if rec.id != old.id and new_owner == old.owner:
+            self.delete(old.id, keep_raw=True)
+        return rec
+
+    def _store(self, name: str, sha: str, size: int, options: ReadOptions, pf: ParsedFile, *, demo: bool,
+               owner: str = "") -> DatasetRecord:
+        did = _dataset_id(sha, options, owner)
+        now = datetime.now(timezone.utc).isoformat(timespec="seconds")
+        report = report_to_dict(pf.report)
+        atomic_write_bytes(self._data_path(did), pf.data.to_parquet(index=False))
+        try:
+            with self._lock, self._connect() as con:
+                con.execute(
+                    "INSERT OR REPLACE INTO datasets (id, name, kind, sha256, size, uploaded_at, options_json, "
+                    "report_json, status, error, demo, owner) VALUES (?,?,?,?,?,?,?,?,?,?,?,?)",
+                    (did, name, pf.kind, sha, size, now, json.dumps(options_to_dict(options)),
+                     json.dumps(report), "ok", None, int(demo), owner),
+                )
+        except sqlite3.Error:
+            self._data_path(did).unlink(missing_ok=True)
+            raise
         return self.get(did)
 
     def delete(self, dataset_id: str, *, keep_raw: bool = False, owner: str | None = None) -> None:
         """Remove a dataset (and its raw bytes when no other dataset uses them).
 
-        With ``owner``, only a dataset that owner can see (KeyError otherwise).
+        With ``owner`` (a browser session): only that owner's own dataset;
+        KeyError for one it cannot see, :class:`SharedDatasetError` for a shared one.
         """
         with self._lock:
             rec = self.get(dataset_id, owner=owner)
+            if owner is not None and rec.owner != owner:
+                raise SharedDatasetError(f"{rec.name} is shared by every browser of this dashboard, so it cannot be "
+                                         "deleted here.", hint="Untick it to leave it out of your studies.")
             with self._connect() as con:
                 con.execute("DELETE FROM datasets WHERE id = ?", (dataset_id,))
                 others = con.execute("SELECT COUNT(*) FROM datasets WHERE sha256 = ?", (rec.sha256,)).fetchone()[0]
@@ -348,17 +433,44 @@ class Workspace:
         return iter(self.records())
 
     def parsed_file(self, dataset_id: str) -> ParsedFile:
-        """The ParsedFile of a dataset, rebuilt from its Parquet data and stored report."""
+        """The ParsedFile of a dataset, rebuilt from its Parquet data and stored report.
+
+        A damaged or missing data file is rebuilt from the kept upload; when
+        that fails too, the dataset is marked failed with a message saying so
+        and :class:`IntakeError` is raised.
+        """
         rec = self.get(dataset_id)
         if not rec.ok:
             raise KeyError(dataset_id)
-        data = pd.read_parquet(self._data_path(rec.id))
+        try:
+            data = pd.read_parquet(self._data_path(rec.id))
+        except Exception as err:  # torn or damaged file (OSError, ArrowInvalid, ...)
+            return self._rebuild(rec, err)
         try:
             report = report_from_dict(rec.report or {})
         except (TypeError, KeyError, ValueError):
             # The report's shape changed since it was stored: read the kept bytes again.
             return read_table(self._raw_path(rec.sha256).read_bytes(), name=rec.name, options=rec.options)
         return ParsedFile(rec.name, rec.kind, data, report, rec.options, rec.sha256, rec.size)  # type: ignore[arg-type]
+
+    def _rebuild(self, rec: DatasetRecord, cause: BaseException) -> ParsedFile:
+        try:
+            raw = self._raw_path(rec.sha256).read_bytes()
+            if hashlib.sha256(raw).hexdigest() != rec.sha256:
+                raise OSError("the kept upload does not match its hash")
+            pf = read_table(raw, name=rec.name, options=rec.options)
+        except (OSError, ValueSiftError) as err:
+            msg = (f"The workspace's stored copy of {rec.name} is damaged and the kept upload could not be read "
+                   "again. Delete it on the Data page and upload the file again.")
+            with self._lock, self._connect() as con:
+                con.execute("UPDATE datasets SET status = 'failed', error = ? WHERE id = ?", (msg, rec.id))
+            raise IntakeError(rec.name, Reason.UNREADABLE, "the workspace's stored copy of the file is damaged.",
+                              hint="Delete it on the Data page and upload the file again.") from err
+        try:
+            atomic_write_bytes(self._data_path(rec.id), pf.data.to_parquet(index=False))
+        except OSError:
+            pass  # the rebuilt data serves this request; the next one tries again
+        return pf
 
     # -- settings --------------------------------------------------------------------------
     def get_setting(self, key: str, default: Any = None) -> Any:

@@ -59,6 +59,7 @@ class Reason(str, Enum):
     UNUSED_COLUMN = "unused_column"
     EXTRA_FIELD = "extra_field"
     COLUMN_NOT_FOUND = "column_not_found"
+    TOO_SLOW = "too_slow"
     UNKNOWN_KIND = "unknown_kind"
     PRICE_FILE_COUNT = "price_file_count"
     BAD_OPTION = "bad_option"

@@ -1,37 +1,36 @@
-"""Bundle builds in a worker thread, for the dashboard's Export page (progress polled by the page).
+"""Bundle builds on the dashboard's job runner, for the Export page (progress polled by the page).
 
-A build writes into ``<folder>/<job id>/`` and leaves the ZIP and page
-thumbnails there; the page sends the ZIP with ``dcc.Download``.
+A build writes into ``<folder>/<session>/<job id>/`` and leaves the ZIP and
+page thumbnails there; the page sends the ZIP with ``dcc.Download``, only to
+the browser session that asked for it.
 """
 
 from __future__ import annotations
 
 import base64
+import hashlib
 import io
 import logging
 import shutil
 import subprocess
-import threading
-import uuid
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Iterable
 
 from valuesift.app.bundle.build import BundlePaths, bundle_name, write_bundle
-from valuesift.core.errors import ValueSiftError
+from valuesift.app.jobs import Job, JobRunner
 
-__all__ = ["ExportJob", "start_export", "get_export", "page_thumbnails"]
+__all__ = ["ExportJob", "start_export", "get_export", "page_thumbnails", "MAX_KEPT_PER_SESSION"]
 
 log = logging.getLogger("valuesift.app")
 
-_JOBS: dict[str, "ExportJob"] = {}
-_LOCK = threading.Lock()
-_MAX_KEPT = 3
+#: finished bundles kept on disk per browser session (older ones are deleted, never another session's)
+MAX_KEPT_PER_SESSION = 3
 
 
 @dataclass
 class ExportJob:
-    """One bundle build (status: running, done, failed)."""
+    """What the Export page sees of one bundle build (status: queued, running, done, failed, cancelled)."""
 
     id: str
     study_key: str
@@ -43,45 +42,78 @@ class ExportJob:
     thumbnails: list[str] = field(default_factory=list)
 
 
-def get_export(job_id: str | None) -> ExportJob | None:
-    with _LOCK:
-        return _JOBS.get(job_id or "")
+def _owner() -> str:
+    from valuesift.app.services import current_owner
+
+    return current_owner() or ""
+
+
+def _session_folder(folder: Path, owner: str) -> Path:
+    """``<exports>/<hash of the session>``: one folder per browser session (the id itself is never on disk)."""
+    return Path(folder) / hashlib.sha256(("session:" + owner).encode()).hexdigest()[:24]
+
+
+def _view(job: Job) -> ExportJob:
+    out: dict[str, Any] = job.result or {}
+    status = "running" if job.status in ("queued", "running") else job.status
+    return ExportJob(id=job.id, study_key=str(out.get("study_key", "")), status=status, stage=job.stage,
+                     fraction=job.fraction, error=job.error, paths=out.get("paths"), thumbnails=out.get("thumbnails", []))
+
+
+def get_export(job_id: str | None, runner: JobRunner | None = None) -> ExportJob | None:
+    """The export of this id, when it belongs to the current browser session (else None)."""
+    runner = runner or _runner()
+    job = runner.get(job_id, _owner())
+    if job is None or job.kind != "bundle":
+        return None
+    return _view(job)
+
+
+def _runner() -> JobRunner:
+    from valuesift.app.services import state
+
+    return state().runner
 
 
 def start_export(result: Any, panel: Any, folder: Path, study_key: str, *, study_name: str, title: str | None,
                  note: str | None, include: Iterable[str] | None, horizon: int | None,
-                 sweep: Any | None = None) -> ExportJob:
-    """Start building the bundle of ``result`` in a thread; returns the job at once."""
-    job = ExportJob(id=uuid.uuid4().hex[:12], study_key=study_key)
-    with _LOCK:
-        _JOBS[job.id] = job
-        for old in list(_JOBS)[:-_MAX_KEPT]:
-            _JOBS.pop(old, None)
-            shutil.rmtree(Path(folder) / old, ignore_errors=True)
+                 sweep: Any | None = None, runner: JobRunner | None = None) -> ExportJob:
+    """Queue the build of the bundle of ``result`` on the job runner; returns the job at once.
+
+    The bundle is written into ``<folder>/<session>/<job id>/``; the session's
+    oldest bundles beyond :data:`MAX_KEPT_PER_SESSION` are deleted when a new
+    one finishes.  Raises :class:`~valuesift.app.jobs.Busy` when the queue is full.
+    """
+    owner = _owner()
+    runner = runner or _runner()
     inc = list(include) if include is not None else None
+    base = _session_folder(folder, owner)
 
-    def work() -> None:
-        def progress(stage: str, frac: float) -> None:
-            job.stage, job.fraction = stage, float(frac)
+    def work(job: Job) -> dict[str, Any]:
+        out = base / job.id
+        name = bundle_name(study_name, result)
+        paths = write_bundle(result, panel, None, out / "bundle", study_name=study_name, title=title, note=note,
+                             include=inc, progress=job.progress, horizon=horizon,
+                             zip_path=out / "zip" / f"{name}.zip", sweep=sweep)
+        thumbs = page_thumbnails(paths.folder / "report.pdf", paths.folder / "charts")
+        _prune(base, keep=job.id)
+        return {"study_key": study_key, "paths": paths, "thumbnails": thumbs}
 
-        try:
-            out = Path(folder) / job.id
-            name = bundle_name(study_name, result)
-            paths = write_bundle(result, panel, None, out / "bundle", study_name=study_name, title=title, note=note,
-                                 include=inc, progress=progress, horizon=horizon,
-                                 zip_path=out / "zip" / f"{name}.zip", sweep=sweep)
-            job.paths = paths
-            job.thumbnails = page_thumbnails(paths.folder / "report.pdf", paths.folder / "charts")
-            job.status, job.stage, job.fraction = "done", "done", 1.0
-        except ValueSiftError as err:
-            job.status, job.error = "failed", str(err)
-        except Exception as err:  # never a traceback in the page; the log keeps it
-            log.exception("bundle build crashed")
-            job.status = "failed"
-            job.error = f"The bundle could not be built ({type(err).__name__}). The log has the details."
+    job = runner.submit("bundle", owner, work)
+    view = _view(job)
+    view.study_key = study_key
+    return view
 
-    threading.Thread(target=work, name=f"export-{job.id}", daemon=True).start()
-    return job
+
+def _prune(base: Path, keep: str) -> None:
+    """Delete the session's oldest bundle folders beyond :data:`MAX_KEPT_PER_SESSION`."""
+    try:
+        dirs = sorted((d for d in base.iterdir() if d.is_dir()), key=lambda d: d.stat().st_mtime)
+    except OSError:
+        return
+    for d in dirs[:max(0, len(dirs) - MAX_KEPT_PER_SESSION)]:
+        if d.name != keep:
+            shutil.rmtree(d, ignore_errors=True)
 
 
 def page_thumbnails(pdf: Path, charts: Path, *, limit: int = 16) -> list[str]:

@@ -8,6 +8,7 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
+from valuesift.app.escape import chart_text
 from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_t, message_figure, month, span
 from valuesift.app.figures.study import return_label, signal_label
 from valuesift.app.figures.theme import CHEAP, DEAR, MUTED, diverging
@@ -43,7 +44,7 @@ def _rgba(hex_colour: str, alpha: float) -> str:
 
 def signal_history_figure(result: StudyResult, security: str) -> go.Figure:
     """The company's signal over time against the universe median and the quantile bands."""
-    title = f"{security}: {signal_label(result)} against the universe"
+    title = f"{chart_text(security)}: {chart_text(signal_label(result))} against the universe"
     if security not in result.signal_raw.columns:
         return message_figure(title, "This security is not part of the study.")
     own = result.signal_raw[security]
@@ -68,20 +69,20 @@ def signal_history_figure(result: StudyResult, security: str) -> go.Figure:
                                  name=f"quantile bands ({q})", showlegend=k == 1, legendgroup="bands"))
     fig.add_trace(go.Scatter(x=med.index, y=med.to_numpy(dtype=float), mode="lines", name="universe median",
                              line=dict(color=MUTED, width=2, dash="dash")))
-    fig.add_trace(go.Scatter(x=own.index, y=own.to_numpy(dtype=float), mode="lines", name=str(security),
+    fig.add_trace(go.Scatter(x=own.index, y=own.to_numpy(dtype=float), mode="lines", name=chart_text(security),
                              line=dict(color=CHEAP, width=3)))
     fmt = ".1%" if result.signal_name in ("earnings_yield", "dividend_yield") else ".2f"
-    fig.update_yaxes(title_text=signal_label(result) + " (higher = cheaper)", tickformat=fmt)
+    fig.update_yaxes(title_text=chart_text(signal_label(result)) + " (higher = cheaper)", tickformat=fmt)
     return fig
 
 
 def later_returns_figure(result: StudyResult, security: str, horizon: int) -> go.Figure:
     """The company's own h-month forward return from each date, next to the universe median."""
-    title = f"{security}: its own {horizon}-month forward returns"
+    title = f"{chart_text(security)}: its own {horizon}-month forward returns"
     try:
         hist = security_history(result, security, horizon)
     except Exception as err:  # ConfigError: unknown security or horizon
-        return message_figure(title, str(err))
+        return message_figure(title, chart_text(err))
     fwd = hist["forward_return"]
     dates = finite_dates(fwd)
     if len(dates) == 0:
@@ -99,7 +100,7 @@ def later_returns_figure(result: StudyResult, security: str, horizon: int) -> go
                 f"t = {fmt_t(t)} over {n} overlapping dates (one name: weak evidence)")
     fig = base_figure(title, subtitle, height=400, wide=True)
     v = fwd.to_numpy(dtype=float)
-    fig.add_trace(go.Bar(x=fwd.index, y=v, name=str(security),
+    fig.add_trace(go.Bar(x=fwd.index, y=v, name=chart_text(security),
                          marker_color=[CHEAP if x >= 0 else DEAR for x in np.nan_to_num(v)],
                          hovertemplate="%{x|%b %Y}: %{y:.1%}<extra></extra>"))
     fig.add_trace(go.Scatter(x=fwd.index, y=med, mode="lines", name="universe median", line=dict(color=MUTED, width=2.2)))

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 import plotly.graph_objects as go
 
+from valuesift.app.escape import chart_texts
 from valuesift.app.figures._common import base_figure, message_figure, span
 from valuesift.app.figures.theme import CHEAP, GRID
 from valuesift.core.panel import Panel
@@ -37,7 +38,7 @@ def coverage_figure(panel: Panel, *, max_rows: int = 400) -> go.Figure:
     height = int(min(900, max(420, 160 + 5 * len(shown))))
     fig = base_figure(title, subtitle, height=height, wide=True)
     fig.add_trace(go.Heatmap(
-        z=z, x=dates, y=secs[shown], zmin=0, zmax=1, showscale=False,
+        z=z, x=dates, y=chart_texts(secs[shown]), zmin=0, zmax=1, showscale=False,
         colorscale=[[0.0, "#f4f1ec"], [0.5, "#f4f1ec"], [0.5, CHEAP], [1.0, CHEAP]],
         hovertemplate="%{y} %{x|%b %Y}: %{customdata}<extra></extra>",
         customdata=np.where(z > 0.5, "valid price", "no valid price"),

@@ -12,6 +12,7 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
+from valuesift.app.escape import chart_text, chart_texts
 from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, fmt_t, message_figure, month, span
 from valuesift.app.figures.theme import CHEAP, MUTED, SERIES, diverging
 from valuesift.core.result import StudyResult
@@ -54,7 +55,7 @@ def _ic_row(result: StudyResult, horizon: int) -> pd.Series:
 def ic_by_horizon_figure(result: StudyResult) -> go.Figure:
     """Mean rank IC per horizon with its 95 % Newey-West interval; t and sample on each bar."""
     s = result.ic_summary
-    title = f"Rank IC by horizon: {signal_label(result)}"
+    title = f"Rank IC by horizon: {chart_text(signal_label(result))}"
     if s.empty or not np.isfinite(s["mean_ic"].to_numpy(dtype=float)).any():
         return message_figure(title, "No horizon has enough dates for an information coefficient.")
     hs = [int(h) for h in s.index]
@@ -200,7 +201,7 @@ def scatter_figure(result: StudyResult, horizon: int, date: object | None = None
         subtitle = (f"{x.size} names on one date; rank IC {fmt_num(ic)}; fitted slope "
                     f"{fmt_pct(b)} per z, OLS t = {fmt_t(t)} (one cross-section)")
         fig = base_figure(title, subtitle)
-        fig.add_trace(go.Scatter(x=x, y=y, mode="markers", name="names", text=names,
+        fig.add_trace(go.Scatter(x=x, y=y, mode="markers", name="names", text=chart_texts(names),
                                  marker=dict(color=CHEAP, size=9, opacity=0.7, line=dict(width=0.5, color="white")),
                                  hovertemplate="%{text}: z %{x:.2f}, return %{y:.2%}<extra></extra>"))
         label = f"rank IC = {fmt_num(ic)}<br>slope t = {fmt_t(t)}"
@@ -236,7 +237,7 @@ def scatter_figure(result: StudyResult, horizon: int, date: object | None = None
     fig.add_annotation(text=label, x=0.02, y=0.98, xref="paper", yref="paper", xanchor="left", yanchor="top",
                        showarrow=False, align="left", bgcolor="rgba(255,255,255,0.85)", bordercolor="#cfc9bf",
                        borderwidth=1, font=dict(size=15))
-    fig.update_xaxes(title_text=f"z-score of {signal_label(result)} (higher = cheaper)")
+    fig.update_xaxes(title_text=f"z-score of {chart_text(signal_label(result))} (higher = cheaper)")
     fig.update_yaxes(title_text=return_label(result, horizon), tickformat=".0%")
     return fig
 

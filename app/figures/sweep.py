@@ -10,6 +10,7 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
+from valuesift.app.escape import chart_texts
 from valuesift.app.browser import find_browser
 
 from valuesift.app.figures._common import base_figure, message_figure
@@ -63,7 +64,7 @@ def sweep_heatmap_figure(result: Any) -> go.Figure:
     lim = max(3.0, float(np.nanmax(np.abs(z))))
     fig = base_figure(_TITLE, sub, height=120 + 60 * len(signals), wide=True)
     fig.add_trace(go.Heatmap(
-        z=z, x=[f"{h} m" for h in horizons], y=signals, text=text, texttemplate="%{text}", customdata=custom,
+        z=z, x=[f"{h} m" for h in horizons], y=chart_texts(signals), text=text, texttemplate="%{text}", customdata=custom,
         zmin=-lim, zmax=lim, colorscale=[[0.0, DEAR], [0.5, NEUTRAL], [1.0, CHEAP]],
         colorbar=dict(title=dict(text="adjusted t")),
         hovertemplate=("%{y}, %{x}<br>best adjusted t %{z:.2f}<br>its raw HAC t %{customdata[0]:.2f}"

@@ -96,13 +96,23 @@ def _upload(contents: Any, names: Any, sel_raw: Any, version: Any) -> Any:
     messages = []
     for content, name in zip(contents, names):
         name = str(name or "upload")
+        text = str(content)
         try:
-            raw = base64.b64decode(str(content).split(",", 1)[1], validate=False)
-        except (IndexError, binascii.Error):
-            messages.append(alert(f"{name}: the upload arrived damaged; please drop the file again."))
+            cost = st.uploads.admit(len(text) * 3 // 4)     # memory for reading it, against the server's budget
+        except ValueSiftError as err:
+            messages.append(alert(f"{name}: {err}"))
             continue
-        rec = st.workspace.add_upload(name, raw, ReadOptions(max_bytes=st.max_upload_bytes),
-                                      owner=current_owner() or "")
+        try:
+            try:
+                raw = base64.b64decode(text[text.index(",") + 1:], validate=False)
+            except (ValueError, binascii.Error):
+                messages.append(alert(f"{name}: the upload arrived damaged; please drop the file again."))
+                continue
+            rec = st.workspace.add_upload(name, raw, ReadOptions(max_bytes=st.max_upload_bytes),
+                                          owner=current_owner() or "")
+            del raw
+        finally:
+            st.uploads.release(cost)
         if rec.ok:
             sel = _with(sel, rec)
         else:
@@ -188,19 +198,22 @@ def _drop_suspects(clicks: Any, sel_raw: Any, version: Any) -> Any:
 
 def _reread_with(did: str, opts: Any, sel_raw: Any, version: Any) -> Any:
     st = state()
-    rec = st.workspace.reread(did, opts)
+    try:
+        rec = st.workspace.reread(did, opts, owner=current_owner() or "")
+    except KeyError:
+        raise PreventUpdate
+    if not rec.ok:   # nothing changed: the dataset stays as it was read before
+        return no_update, no_update, alert((rec.error or f"{rec.name} could not be read.")
+                                           + " The file stays as it was read before.")
     sel = normalise_selection(sel_raw)
-    sel = {"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}
-    msg = alert(f"{rec.name} was read again.", "info")
-    if rec.ok:
-        sel = _with(sel, rec)
-    else:
-        msg = alert(rec.error or f"{rec.name} could not be read.")
-    return _out(sel), int(version or 0) + 1, msg
+    sel = _with({"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}, rec)
+    copy = " (your own copy: the shared file stays as it was for everyone)" if rec.id != did and rec.owner else ""
+    return _out(sel), int(version or 0) + 1, alert(f"{rec.name} was read again{copy}.", "info")
 
 
 @dash.callback(
     Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
+    Output(f"{P}-upload-alert", "children", allow_duplicate=True),
     Input({"type": "ds-delete", "id": ALL}, "n_clicks"),
     State("vs-selection", "data"), State(f"{P}-version", "data"),
     prevent_initial_call=True,
@@ -209,11 +222,14 @@ def _delete(clicks: Any, sel_raw: Any, version: Any) -> Any:
     did = _triggered(clicks)
     st = state()
     try:
-        st.workspace.delete(did, owner=current_owner())
+        st.workspace.delete(did, owner=current_owner() or "")
     except KeyError:
         raise PreventUpdate
+    except ValueSiftError as err:       # a shared dataset: read-only to every browser
+        return no_update, no_update, alert(str(err), "info")
     sel = normalise_selection(sel_raw)
-    return _out({"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}), int(version or 0) + 1
+    return (_out({"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}), int(version or 0) + 1,
+            None)
 
 
 @dash.callback(

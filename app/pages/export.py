@@ -143,10 +143,13 @@ def _build(n: Any, job: Any, sel: Any, name: Any, title: Any, note: Any, horizon
         except ValueSiftError as err:
             return no_update, True, True, alert(str(err)), False, None
     include = [f"chart:{c}" for c in (charts or [])] + [f"table:{t}" for t in (tables or [])]
-    ej = start_export(res, panel, st.workspace.root / "exports", str(job["key"]),
-                      study_name=str(name or "study").strip() or "study", title=(title or "").strip() or None,
-                      note=(note or "").strip() or None, include=include,
-                      horizon=int(horizon) if horizon in res.config.horizons else None, sweep=sweep)
+    try:
+        ej = start_export(res, panel, st.workspace.root / "exports", str(job["key"]),
+                          study_name=str(name or "study").strip() or "study", title=(title or "").strip() or None,
+                          note=(note or "").strip() or None, include=include,
+                          horizon=int(horizon) if horizon in res.config.horizons else None, sweep=sweep)
+    except ValueSiftError as err:     # the job queue is full: say so, keep the form usable
+        return no_update, True, True, alert(str(err)), False, None
     return {"id": ej.id}, False, False, None, True, None
 
 

@@ -115,7 +115,10 @@ def _table(job: Any, date: Any, scope: Any, current: Any, size: Any, sort_by: An
         return [], 1, "", alert(str(err))
     if df is None:
         return [], 1, "", no_update
-    shown = apply_sort(apply_filter(df, query), sort_by)
+    try:
+        shown = apply_sort(apply_filter(df, query), sort_by)
+    except ValueSiftError as err:   # a filter above the length limit: say so, show nothing filtered
+        return [], 1, "", alert(str(err))
     rows, n_pages = page(shown, current, size)
     res = state().result(job["key"])
     who = "holdings" if df.attrs.get("holdings") else "securities of the universe"
@@ -150,7 +153,10 @@ def _download(n_csv: Any, n_xlsx: Any, job: Any, date: Any, scope: Any, sort_by:
     df = _frame(job["key"], date, scope == "holdings")
     if df is None:
         raise PreventUpdate
-    shown = apply_sort(apply_filter(df, query), sort_by)
+    try:
+        shown = apply_sort(apply_filter(df, query), sort_by)
+    except ValueSiftError:
+        raise PreventUpdate
     stamp = str(df.attrs.get("date") or "latest")
     if dash.ctx.triggered_id == f"{P}-xlsx":
         return dcc.send_bytes(to_xlsx_bytes(shown), f"screen-{stamp}.xlsx")

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import hashlib
 import os
+import time
 from dataclasses import dataclass
 
 import pandas as pd
@@ -15,7 +16,11 @@ from valuesift.core.intake.readers import read_grid
 from valuesift.core.intake.report import FileReport
 from valuesift.core.intake.tidy import tidy_grid
 
-__all__ = ["ParsedFile", "read_table"]
+__all__ = ["ParsedFile", "read_table", "INTAKE_TIME_BUDGET_S"]
+
+#: seconds one file's intake may take; checked between the stages (reading the cells, tidying them),
+#: so a file that would keep the server busy for longer is refused with a message instead
+INTAKE_TIME_BUDGET_S = 120.0
 
 
 @dataclass(frozen=True)
@@ -68,6 +73,13 @@ def _load(source: str | os.PathLike[str] | bytes, name: str | None, options: Rea
     return raw, label
 
 
+def _check_time(deadline: float, name: str, stage: str) -> None:
+    if time.monotonic() > deadline:
+        raise IntakeError(name, Reason.TOO_SLOW, f"reading the file took longer than {INTAKE_TIME_BUDGET_S:.0f} seconds "
+                          f"({stage}), so it was stopped to keep the dashboard responsive.",
+                          hint="Split the file into smaller ones, or save it as Parquet.")
+
+
 def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = None,
                options: ReadOptions = ReadOptions()) -> ParsedFile:
     """Read one file into a tidy table with a full account of its cells.
@@ -109,10 +121,13 @@ def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = Non
     ('prices', 3, 1)
     """
     label = name or ("(unnamed file)" if isinstance(source, (bytes, bytearray, memoryview)) else os.path.basename(os.fspath(source)))
+    deadline = time.monotonic() + INTAKE_TIME_BUDGET_S
     try:
         raw, label = _load(source, name, options)
         grid = read_grid(raw, label, options)
+        _check_time(deadline, label, "splitting it into cells")
         kind, data, report = tidy_grid(grid, label, options)
+        _check_time(deadline, label, "reading its dates and numbers")
     except IntakeError:
         raise
     except MemoryError as err:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
-from typing import get_args
+from typing import Any, get_args
 
 from valuesift.core.choices import DateOrder, DecimalStyle, DuplicateRule, EarningsForm, FileKind, IdCleanup, Layout
 from valuesift.core.errors import ConfigError
@@ -102,11 +102,58 @@ class ReadOptions:
                 re.compile(self.id_regex)
             except re.error as err:
                 raise ConfigError(f"Setting id_regex={self.id_regex!r} is not a valid regular expression.", hint=str(err)) from err
+            _check_regex_cost(self.id_regex)
         if isinstance(self.exclude_columns, str):
             raise ConfigError("Setting exclude_columns must be a tuple of column names, not one string.",
                               hint=f"Write exclude_columns=({self.exclude_columns!r},).")
         if not isinstance(self.max_bytes, int) or self.max_bytes <= 0:
             raise ConfigError(f"Setting max_bytes={self.max_bytes!r} is not allowed.", hint="Give a positive byte count.")
+
+
+#: the longest identifier pattern accepted (it is run on every identifier of a file)
+MAX_ID_REGEX_CHARS = 200
+
+
+def _check_regex_cost(pattern: str) -> None:
+    """Refuse an identifier pattern that could take exponential time (a repeat inside a repeat, such as ``(a+)+``).
+
+    Python's regular expressions backtrack; a nested quantifier lets one cell
+    keep the server busy for minutes.  Identifiers are at most ``MAX_CELL_CHARS``
+    long, so a pattern without nested repeats stays polynomial in that bound.
+    """
+    if len(pattern) > MAX_ID_REGEX_CHARS:
+        raise ConfigError(f"Setting id_regex is {len(pattern)} characters long, above the limit of {MAX_ID_REGEX_CHARS}.",
+                          hint="An identifier pattern is usually short, such as ([A-Z]{2}[0-9]+).")
+    try:
+        from re import _parser as sre_parse  # the standard library's own parser of the pattern
+    except ImportError:  # pragma: no cover - older Pythons
+        return
+    repeats = {sre_parse.MAX_REPEAT, sre_parse.MIN_REPEAT}
+    repeats |= {getattr(sre_parse, "POSSESSIVE_REPEAT")} if hasattr(sre_parse, "POSSESSIVE_REPEAT") else set()
+
+    def walk(items: Any, inside: bool) -> bool:
+        for op, av in items:
+            if op in repeats:
+                lo, hi, sub = av
+                if inside and hi != 1:
+                    return True
+                if walk(sub, inside or hi > 1):
+                    return True
+            elif op is sre_parse.SUBPATTERN:
+                if walk(av[-1], inside):
+                    return True
+            elif op is sre_parse.BRANCH:
+                if any(walk(b, inside) for b in av[1]):
+                    return True
+            elif op in (sre_parse.ASSERT, sre_parse.ASSERT_NOT):
+                if walk(av[1], inside):
+                    return True
+        return False
+
+    if walk(sre_parse.parse(pattern), False):
+        raise ConfigError(f"Setting id_regex={pattern!r} repeats a group that itself repeats, which can take "
+                          "minutes on one long identifier.",
+                          hint="Remove the inner or the outer repeat, for example write ([A-Z]+) instead of ([A-Z]+)+.")
 
 
 @dataclass(frozen=True)

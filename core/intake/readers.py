@@ -18,15 +18,23 @@ import pandas as pd
 
 from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake.options import ReadOptions
-from valuesift.core.intake.sniff import decode, find_header, sniff_delimiter, split_sample
+from valuesift.core.intake.sniff import MAX_CELL_CHARS, decode, find_header, is_value, sample_records, sniff_delimiter
 
-__all__ = ["Grid", "read_grid", "detect_format", "XLSX_EXPANSION_LIMIT", "FAST_PATH_MIN_CHARS", "MAX_COLUMNS"]
+__all__ = ["Grid", "read_grid", "detect_format", "XLSX_EXPANSION_LIMIT", "FAST_PATH_MIN_CHARS", "MAX_COLUMNS",
+           "MAX_CELL_CHARS", "MAX_ROWS", "MAX_CELLS", "PARQUET_EXPANSION_LIMIT"]
 
 #: an xlsx may unpack to at most this multiple of ``ReadOptions.max_bytes``
 XLSX_EXPANSION_LIMIT = 4
 #: files with more columns than this are refused before any cell is read (a wide file of that size
 #: is better given in the long layout: date, security, value)
 MAX_COLUMNS = 20_000
+#: files with more data rows than this are refused (a Parquet file before anything is decoded)
+MAX_ROWS = 10_000_000
+#: files with more cells (rows x columns) than this are refused (a Parquet file before anything is decoded)
+MAX_CELLS = 40_000_000
+#: a Parquet file may decode to at most this multiple of ``ReadOptions.max_bytes`` (footer sizes, then
+#: the bytes actually decoded, row group by row group)
+PARQUET_EXPANSION_LIMIT = 4
 #: delimited bodies at least this long go through pyarrow's reader (when row numbering stays exact)
 FAST_PATH_MIN_CHARS = 1_000_000
 _XLSX_EXT = (".xlsx", ".xlsm", ".xls", ".xlsb", ".ods")
@@ -78,7 +86,7 @@ def read_grid(raw: bytes, name: str, options: ReadOptions) -> Grid:
     if fmt == "xlsx":
         return _read_xlsx(raw, name, options)
     if fmt == "parquet":
-        return _read_parquet(raw, name)
+        return _read_parquet(raw, name, options)
     return _read_text(raw, name, options)
 
 
@@ -92,35 +100,85 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
     if not text.strip():
         raise IntakeError(name, Reason.EMPTY_FILE, "the file holds only blank lines.", hint="Check that the right file was chosen.")
     delim = options.delimiter or sniff_delimiter(text)
-    sample = split_sample(text, delim, 80)
+    sample = sample_records(text, delim, 80)
+    _check_cells([r[0] for r in sample], name, [r[3] + 1 for r in sample])
     if options.header_row is not None:
-        h = options.header_row - 1
+        h_line = options.header_row - 1
         lines_total = text.count("\n") + 1
-        if h >= lines_total:
+        if h_line >= lines_total:
             raise IntakeError(name, Reason.BAD_OPTION, f"header_row={options.header_row} is beyond the end of the file ({lines_total} lines).",
                               hint="Give the row number of the header as the file shows it.")
+        offset = _line_offset(text, h_line)
+        if offset < 0:
+            raise IntakeError(name, Reason.NO_HEADER, "the header row is past the end of the file.", hint="Check header_row.")
+        header, _, end, _ = sample_records(text[offset:], delim, 1)[0]
+        end += offset
     else:
-        h = find_header(sample, name)
-    offset = _line_offset(text, h)
-    if offset < 0:
-        raise IntakeError(name, Reason.NO_HEADER, "the header row is past the end of the file.", hint="Check header_row.")
-    end = text.find("\n", offset)
-    header_line = text[offset:] if end < 0 else text[offset:end + 1]
-    header = next(csv.reader([header_line.rstrip("\r\n")], delimiter=delim), [])
+        h = find_header([r[0] for r in sample], name)
+        header, _, end, h_line = sample[h]
     header = [c.strip() for c in header]
     while header and not header[-1]:
         header.pop()
     if len(header) < 1:
-        raise IntakeError(name, Reason.NO_HEADER, "the header row is empty.", row=h + 1, hint="Set header_row to the row with column names.")
-    _check_width(len(header), name, h + 1)
-    body = "" if end < 0 else text[end + 1:]
+        raise IntakeError(name, Reason.NO_HEADER, "the header row is empty.", row=h_line + 1, hint="Set header_row to the row with column names.")
+    _check_width(len(header), name, h_line + 1)
+    body = text[end:]
     grid = None
     if len(body) >= FAST_PATH_MIN_CHARS:
-        grid = _fast_text(body, header, delim, h + 1)
+        grid = _fast_text(body, header, delim, h_line + 1)
     if grid is None:
-        grid = _python_text(body, header, delim, h + 1, name)
+        grid = _python_text(body, header, delim, h_line + 1, name)
     cols, rows, extra, ex = grid
-    return Grid(header, cols, rows, "csv", enc, delim, h + 1, None, extra, ex)
+    _check_columns(header, cols, rows, name)
+    return Grid(header, cols, rows, "csv", enc, delim, h_line + 1, None, extra, ex, _header_notes(header, h_line + 1))
+
+
+def _header_notes(header: Sequence[str], row: int) -> tuple[str, ...]:
+    """A warning when the row read as the header holds mostly numbers (a preamble or a split line may have moved it)."""
+    cells = [c for c in header[1:] if c.strip()]
+    if len(cells) >= 2 and sum(is_value(c) for c in cells) * 2 > len(cells):
+        return (f"warning: the header (row {row}) holds mostly numbers, so it may be a data row; check the "
+                "security names below and set the header row if they are wrong",)
+    return ()
+
+
+def _too_long(name: str, length: int, row: int | None, column: str | None) -> IntakeError:
+    return IntakeError(name, Reason.TOO_LARGE, f"a cell holds {length:,} characters, above the limit of {MAX_CELL_CHARS:,}.",
+                       row=row, column=column,
+                       hint="A price, earnings or identifier cell is never that long: check that the right file was "
+                            "chosen and that its quotes are balanced, or shorten the cell.")
+
+
+def _check_cells(rows: Sequence[Sequence[str]], name: str, rownums: Sequence[int]) -> None:
+    """Refuse any cell of the sample longer than :data:`MAX_CELL_CHARS` (before any pattern looks at it)."""
+    for r, num in zip(rows, rownums):
+        for j, c in enumerate(r):
+            if len(c) > MAX_CELL_CHARS:
+                raise _too_long(name, len(c), num, f"column {j + 1}")
+
+
+def _check_columns(header: Sequence[str], cols: Sequence[pd.Series], rows: np.ndarray, name: str) -> None:
+    """Refuse a grid with a header or text cell longer than :data:`MAX_CELL_CHARS`, or too many rows or cells."""
+    for j, h in enumerate(header):
+        if len(h) > MAX_CELL_CHARS:
+            raise _too_long(name, len(h), None, f"column {j + 1}")
+    _check_size(len(rows), len(header), name)
+    for j, s in enumerate(cols):
+        if pd.api.types.is_numeric_dtype(s.dtype) or pd.api.types.is_datetime64_any_dtype(s.dtype) or not len(s):
+            continue
+        lengths = s.str.len().to_numpy(dtype=float, na_value=0.0)
+        k = int(np.argmax(lengths))
+        if lengths[k] > MAX_CELL_CHARS:
+            raise _too_long(name, int(lengths[k]), int(rows[k]) if k < len(rows) else None, header[j] if j < len(header) else None)
+
+
+def _check_size(n_rows: int, n_cols: int, name: str) -> None:
+    if n_rows > MAX_ROWS:
+        raise IntakeError(name, Reason.TOO_LARGE, f"the file has {n_rows:,} data rows, above the limit of {MAX_ROWS:,}.",
+                          hint="Split the file by date range, or give month-end rows only.")
+    if n_rows * max(n_cols, 1) > MAX_CELLS:
+        raise IntakeError(name, Reason.TOO_LARGE, f"the file has {n_rows:,} rows of {n_cols:,} columns, above the limit of "
+                          f"{MAX_CELLS:,} cells.", hint="Split the file by date range or by securities.")
 
 
 def _check_width(width: int, name: str, row: int) -> None:
@@ -299,6 +357,7 @@ def _read_xlsx(raw: bytes, name: str, options: ReadOptions) -> Grid:
             raise IntakeError(name, Reason.BAD_OPTION, f"header_row={options.header_row} is beyond the last row ({len(rows)}).",
                               hint="Give the row number of the header as the sheet shows it.")
     else:
+        _check_cells(rows[:80], name, range(1, 81))
         h = find_header(rows[:80], name)
     header = [c.strip() for c in rows[h]]
     while header and not header[-1]:
@@ -324,19 +383,55 @@ def _read_xlsx(raw: bytes, name: str, options: ReadOptions) -> Grid:
     arr = np.array(body, dtype=object).reshape(len(body), width)
     cols = [pd.Series(arr[:, j], dtype="str") for j in range(width)]
     notes = (f"sheet {sheet!r} used (workbook sheets: {', '.join(map(repr, names))})",) if len(names) > 1 else ()
+    notes += _header_notes(header, h + 1)
+    _check_columns(header, cols, np.asarray(rownums, dtype=np.int64), name)
     return Grid(header, cols, np.asarray(rownums, dtype=np.int64), "xlsx", None, None, h + 1, sheet, extra, tuple(examples), notes)
 
 
 # -- parquet ----------------------------------------------------------------------
-def _read_parquet(raw: bytes, name: str) -> Grid:
+def _read_parquet(raw: bytes, name: str, options: ReadOptions) -> Grid:
+    """Check the footer against the limits, then decode row group by row group within a memory budget.
+
+    A Parquet file states its row count, columns and (uncompressed) sizes in its
+    footer; dictionary and run-length encoding let a file of a few hundred
+    kilobytes declare tens of millions of rows, so nothing is decoded before
+    those numbers pass :data:`MAX_ROWS`, :data:`MAX_CELLS`, :data:`MAX_COLUMNS`
+    and :data:`PARQUET_EXPANSION_LIMIT` times ``options.max_bytes``.
+    """
     import pyarrow as pa
     import pyarrow.parquet as pq
 
+    budget = PARQUET_EXPANSION_LIMIT * options.max_bytes
     try:
-        table = pq.read_table(pa.BufferReader(raw))
+        pf = pq.ParquetFile(pa.BufferReader(raw))
+        meta = pf.metadata
+        n_rows, n_cols = int(meta.num_rows), int(meta.num_columns)
+        declared = sum(int(meta.row_group(i).total_byte_size) for i in range(meta.num_row_groups))
+    except Exception as err:
+        raise IntakeError(name, Reason.UNREADABLE, "the Parquet file could not be read (its footer is damaged).",
+                          hint="Write it again with a Parquet writer, or export CSV.") from err
+    _check_width(n_cols, name, 1)
+    _check_size(n_rows, n_cols, name)
+    if declared > budget:
+        raise IntakeError(name, Reason.TOO_LARGE, f"the Parquet file declares {declared:,} bytes of data once decoded, above "
+                          f"the limit of {budget:,} ({PARQUET_EXPANSION_LIMIT} times the upload limit).",
+                          hint="Split the file, or export CSV.")
+    try:
+        parts, used = [], 0
+        for i in range(meta.num_row_groups):
+            part = pf.read_row_group(i)
+            used += int(part.nbytes)
+            if used > budget:
+                raise IntakeError(name, Reason.TOO_LARGE, f"the Parquet file decodes to more than {budget:,} bytes, above "
+                                  f"{PARQUET_EXPANSION_LIMIT} times the upload limit.", hint="Split the file, or export CSV.")
+            parts.append(part)
+        table = pa.concat_tables(parts) if parts else pf.schema_arrow.empty_table()
+        del parts
         # date32 columns come as datetime64 (not Python date objects, which would be turned into
         # text and parsed again: most of the time of a large long-layout file).
         frame = table.to_pandas(date_as_object=False)
+    except IntakeError:
+        raise
     except Exception as err:
         raise IntakeError(name, Reason.UNREADABLE, "the Parquet file could not be read.",
                           hint="Write it again with a Parquet writer, or export CSV.") from err
@@ -351,4 +446,5 @@ def _read_parquet(raw: bytes, name: str) -> Grid:
             s = s.astype("str").fillna("")
         cols.append(s)
     rows = np.arange(len(frame), dtype=np.int64) + 2
+    _check_columns(header, cols, rows, name)
     return Grid(header, cols, rows, "parquet", None, None, 1)

@@ -15,6 +15,9 @@ __all__ = [
     "sniff_delimiter",
     "find_header",
     "split_sample",
+    "sample_records",
+    "is_value",
+    "MAX_CELL_CHARS",
     "norm_name",
     "DATE_WORDS",
     "SECURITY_WORDS",
@@ -37,6 +40,11 @@ SECURITY_WORDS = frozenset(
     {"security", "securityid", "code", "id", "ticker", "symbol", "isin", "instrument", "stock", "company",
      "asset", "name", "secid", "identifier", "securitycode", "stockcode", "holding"}
 )
+#: the longest cell intake reads (header or data); a longer one is refused with its row and column
+MAX_CELL_CHARS = 10_000
+#: a quoted record of the sample may span at most this many physical lines (a stray quote in a
+#: preamble line would otherwise swallow the header)
+_MAX_RECORD_LINES = 20
 _INDEX_RE = re.compile(r"(?i)(\bindex\b|\bcomposite\b|all[\s_-]?share|\bbenchmark\b|\baverage\b|\bmarket\b|\btotal\b|\bidx\b)")
 
 
@@ -105,23 +113,50 @@ def _printable_share(text: str) -> float:
     return 1.0 - bad / len(text)
 
 
-def split_sample(text: str, delimiter: str, max_lines: int = 80) -> list[list[str]]:
-    """Parse the first ``max_lines`` physical lines with the csv module (one list per line)."""
-    pos, cuts = 0, 0
-    while cuts < max_lines:
-        nl = text.find("\n", pos)
-        if nl < 0:
-            pos = len(text)
-            break
-        pos, cuts = nl + 1, cuts + 1
-    lines = text[:pos].splitlines()[:max_lines]
-    rows: list[list[str]] = []
-    for line in lines:
+def sample_records(text: str, delimiter: str, max_records: int = 80) -> list[tuple[list[str], int, int, int]]:
+    """The first records of a delimited text, each as ``(cells, start, end, line)``.
+
+    ``start`` and ``end`` are character offsets (``end`` just after the record's
+    line feed) and ``line`` the 0-based physical line (counted in line feeds)
+    where the record starts.  Records are split at line feeds outside quotes
+    only: a carriage return, U+2028 or a line feed inside a quoted cell is data
+    (RFC 4180, section 2.6), so it cannot move the header onto a data row.
+    A record whose quotes do not close within a few lines is read as its first
+    line alone (a stray quote in a preamble).
+    """
+    out: list[tuple[list[str], int, int, int]] = []
+    pos, line, n = 0, 0, len(text)
+    while len(out) < max_records and pos < n:
+        start, first_line = pos, line
+        quotes, lines = 0, 0
+        first_end = -1
+        while True:
+            nl = text.find("\n", pos)
+            stop = n if nl < 0 else nl + 1
+            quotes += text.count('"', pos, stop)
+            pos, line, lines = stop, line + (0 if nl < 0 else 1), lines + 1
+            if first_end < 0:
+                first_end = stop
+            if quotes % 2 == 0 or nl < 0:
+                break
+            if lines >= _MAX_RECORD_LINES:
+                pos, line = first_end, first_line + 1
+                break
+        rec = text[start:pos]
+        body = rec[:-1] if rec.endswith("\n") else rec
+        if body.endswith("\r"):
+            body = body[:-1]
         try:
-            rows.append(next(csv.reader([line], delimiter=delimiter), []))
+            cells = next(csv.reader([body], delimiter=delimiter), [])
         except csv.Error:
-            rows.append([line])
-    return rows
+            cells = [body]
+        out.append((cells, start, pos, first_line))
+    return out
+
+
+def split_sample(text: str, delimiter: str, max_lines: int = 80) -> list[list[str]]:
+    """The cells of the first ``max_lines`` records (see :func:`sample_records`)."""
+    return [r[0] for r in sample_records(text, delimiter, max_lines)]
 
 
 def sniff_delimiter(text: str) -> str:
@@ -155,9 +190,39 @@ def _width(row: Sequence[str]) -> int:
     return w
 
 
-def _is_value(cell: str) -> bool:
+_VALUE_LEAD = frozenset("-+($€£")
+_VALUE_BODY = frozenset(".,/:%-")
+_VALUE_TAIL = frozenset(")%")
+
+
+def is_value(cell: str) -> bool:
+    """Whether a cell reads as a number or a date (``-3.5``, ``(1,200)``, ``12%``, ``2020/01/31``).
+
+    Notes
+    -----
+    The cell (stripped) must be: sign or currency characters, then digits,
+    separators and whitespace, then closing characters, with at least one
+    digit -- the language of ``[-+($€£]*[\\d.,\\s/:%-]+[)%]*``, decided in one
+    pass instead of by a backtracking regular expression (whose overlapping
+    quantifiers took quadratic time on a long run of dashes).  Shrinking the
+    leading or trailing run only moves characters into the middle, so the
+    longest leading and trailing runs decide.
+    """
     c = cell.strip()
-    return bool(re.fullmatch(r"[-+($€£]*[\d.,\s/:%-]+[)%]*", c)) and any(ch.isdigit() for ch in c)
+    n = len(c)
+    i = 0
+    while i < n and c[i] in _VALUE_LEAD:
+        i += 1
+    j = n
+    while j > i and c[j - 1] in _VALUE_TAIL:
+        j -= 1
+    has_digit = False
+    for ch in c[i:j]:
+        if ch.isdecimal():          # the regex's \\d: any Unicode decimal digit
+            has_digit = True
+        elif ch not in _VALUE_BODY and not ch.isspace():
+            return False
+    return has_digit
 
 
 def find_header(rows: Sequence[Sequence[str]], name: str) -> int:
@@ -179,12 +244,12 @@ def find_header(rows: Sequence[Sequence[str]], name: str) -> int:
     for i, r in enumerate(rows):
         cells = [str(c).strip() for c in r]
         nonempty = [c for c in cells if c]
-        if widths[i] >= need and len(nonempty) >= min(2, wmax) and any(not _is_value(c) for c in nonempty):
+        if widths[i] >= need and len(nonempty) >= min(2, wmax) and any(not is_value(c) for c in nonempty):
             return i
     # tolerate headers narrower than the data by one blank leading cell (index column without a name)
     for i, r in enumerate(rows):
         nonempty = [str(c).strip() for c in r if str(c).strip()]
-        if widths[i] >= need - 1 and len(nonempty) >= 2 and all(not _is_value(c) for c in nonempty):
+        if widths[i] >= need - 1 and len(nonempty) >= 2 and all(not is_value(c) for c in nonempty):
             return i
     raise IntakeError(name, Reason.NO_HEADER, "no header row found: the widest rows hold only numbers or dates.",
                       row=1, hint="Add a header row (a date column name and one name per column), or set header_row.")

@@ -35,8 +35,11 @@ def free_port() -> int:
 class Server:
     """``python -m valuesift.app.cli serve`` in a subprocess on 127.0.0.1 (a context manager; always stopped)."""
 
-    def __init__(self, workspace: Path, *args: str, port: int | None = None, start_timeout: float = 120.0) -> None:
+    def __init__(self, workspace: Path, *args: str, port: int | None = None, start_timeout: float = 120.0,
+                 env: dict[str, str] | None = None, preexec_fn: Any = None) -> None:
         self.workspace = Path(workspace)
+        self.env = env
+        self.preexec_fn = preexec_fn
         self.port = port or free_port()
         self.base = f"http://127.0.0.1:{self.port}"
         self.args = args
@@ -49,7 +52,9 @@ class Server:
         log = open(self.log_path, "wb")
         self.proc = subprocess.Popen([sys.executable, "-m", "valuesift.app.cli", "serve", "--port", str(self.port),
                                       "--workspace", str(self.workspace), *self.args],
-                                     cwd=ROOT, stdout=log, stderr=subprocess.STDOUT)
+                                     cwd=ROOT, stdout=log, stderr=subprocess.STDOUT,
+                                     env=None if self.env is None else {**os.environ, **self.env},
+                                     preexec_fn=self.preexec_fn)
         end = time.monotonic() + self.start_timeout
         while time.monotonic() < end:
             if self.proc.poll() is not None:
@@ -61,6 +66,22 @@ class Server:
                 time.sleep(0.25)
         self.stop()
         raise RuntimeError("the server did not start in time: " + self.log())
+
+    def peak_rss_mb(self) -> float:
+        """The server process's peak resident memory so far (VmHWM of /proc), in MB."""
+        assert self.proc is not None
+        for line in Path(f"/proc/{self.proc.pid}/status").read_text().splitlines():
+            if line.startswith("VmHWM:"):
+                return int(line.split()[1]) / 1024
+        raise RuntimeError("no VmHWM line")
+
+    def threads(self) -> int:
+        """The number of threads of the server process now (from /proc)."""
+        assert self.proc is not None
+        for line in Path(f"/proc/{self.proc.pid}/status").read_text().splitlines():
+            if line.startswith("Threads:"):
+                return int(line.split()[1])
+        raise RuntimeError("no Threads line")
 
     def log(self) -> str:
         try:

@@ -41,6 +41,18 @@ def test_non_loopback_bind_needs_the_explicit_flag(host: str, capsys: pytest.Cap
     assert code == 2 and "--allow-remote" in err and "Traceback" not in err
 
 
+def _client(wsgi_app: Any, host: str = "127.0.0.1:8999") -> Any:
+    """A test client whose requests carry ``Host: host`` (the server answers only its own names)."""
+    from flask.testing import FlaskClient
+
+    class _HostClient(FlaskClient):
+        def open(self, *args: Any, **kw: Any) -> Any:
+            kw.setdefault("base_url", f"http://{host}")
+            return super().open(*args, **kw)
+
+    return _HostClient(wsgi_app, wsgi_app.response_class, use_cookies=True)
+
+
 class _Recorder:
     def __init__(self) -> None:
         self.calls: list[dict[str, Any]] = []
@@ -62,7 +74,7 @@ def test_remote_bind_warns_and_requires_a_token_on_every_request(monkeypatch: py
     assert len(token) >= 24
     [call] = rec.calls
     assert call["host"] == "0.0.0.0"
-    client = call["app"].test_client()
+    client = _client(call["app"])
     for path in ("/", "/data", "/_dash-layout", "/_dash-dependencies", "/assets/style.css"):
         assert client.get(path).status_code == 403, path
     assert client.post("/_dash-update-component", json={}).status_code == 403
@@ -71,7 +83,7 @@ def test_remote_bind_warns_and_requires_a_token_on_every_request(monkeypatch: py
     assert r.status_code == 303 and TOKEN_COOKIE in r.headers.get("Set-Cookie", "")
     assert "HttpOnly" in r.headers["Set-Cookie"]
     assert client.get("/_dash-layout").status_code == 200               # the cookie now carries the token
-    other = call["app"].test_client()
+    other = _client(call["app"])
     assert other.get("/_dash-layout").status_code == 403                # another browser without it
 
 
@@ -80,9 +92,10 @@ def test_user_token_is_used_when_given(monkeypatch: pytest.MonkeyPatch, tmp_path
 
     rec = _Recorder()
     monkeypatch.setattr(waitress, "serve", rec)
-    server_mod.serve(host="0.0.0.0", port=8999, workspace=str(tmp_path), allow_remote=True, token="my-own-token-123")
-    client = rec.calls[0]["app"].test_client()
-    assert client.get("/data?token=my-own-token-123").status_code == 303
+    own = "Kq3vZ8-pW1xN5rT0yB7cD2eF9gH4jL6m"          # 32 characters of base64url: about 190 bits
+    server_mod.serve(host="0.0.0.0", port=8999, workspace=str(tmp_path), allow_remote=True, token=own)
+    client = _client(rec.calls[0]["app"])
+    assert client.get(f"/data?token={own}").status_code == 303
 
 
 def test_debug_only_with_dev(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> None:
