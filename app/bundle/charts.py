@@ -23,7 +23,7 @@ import plotly.graph_objects as go
 from valuesift.app.browser import find_browser
 
 from valuesift.app.figures import backtest as fb
-from valuesift.app.figures._common import wrap
+from valuesift.app.figures.common import wrap
 from valuesift.app.figures import data as fd
 from valuesift.app.figures import study as fs
 from valuesift.core.result import StudyResult

@@ -19,6 +19,7 @@ import numpy as np
 import pandas as pd
 
 from valuesift.app.screen_table import neutralise
+from valuesift.app.words import screen_in_words
 from valuesift.core.result import StudyResult
 from valuesift.core.reporting.summary import ic_by_date_frame
 
@@ -118,7 +119,7 @@ def _cohorts(result: StudyResult) -> pd.DataFrame:
 
 
 def _screen(result: StudyResult) -> pd.DataFrame:
-    s = result.screen.copy()
+    s = screen_in_words(result.screen, result.config.n_quantiles)
     s.insert(0, "security", s.index.astype(str))
     s.insert(0, "date", str(result.screen.attrs.get("date", "")))
     return s.reset_index(drop=True)

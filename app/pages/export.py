@@ -11,7 +11,7 @@ from dash.exceptions import PreventUpdate
 from valuesift.app.bundle import CHARTS, NO_BROWSER_HINT, TABLES, default_horizon, find_browser
 from valuesift.app.bundle.jobs import get_export, start_export
 from valuesift.app.components.common import field
-from valuesift.app.figures._common import span
+from valuesift.app.figures.common import span
 from valuesift.app.figures.study import signal_label
 from valuesift.app.jobs_ui import alert, job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state

@@ -9,7 +9,7 @@ from dash import Input, Output, State, dcc, html, no_update
 
 from valuesift.app.components.common import chart, field, panel_choices
 from valuesift.app.figures import study as fs
-from valuesift.app.figures._common import month
+from valuesift.app.figures.common import month
 from valuesift.app.figures.cache import HORIZON_CHARTS, scatter_for, study_figures, warm_study
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state

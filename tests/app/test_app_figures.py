@@ -14,7 +14,7 @@ from valuesift.app.figures import company as fc
 from valuesift.app.figures import study as fs
 from valuesift.app.figures.data import coverage_figure
 from valuesift.app.figures.theme import CHEAP, DEAR, TEMPLATE_NAME, diverging
-from valuesift.app.figures._common import message_figure
+from valuesift.app.figures.common import message_figure
 
 T_STAT = re.compile(r"\bt\s*[=~]\s*-?\d|t=-?\d")
 
