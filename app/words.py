@@ -98,11 +98,15 @@ def screen_flag_words(codes: str, months_since_price: float = np.nan, months_sin
     return "; ".join(out)
 
 
-def screen_in_words(screen: pd.DataFrame, n_quantiles: int) -> pd.DataFrame:
+def screen_in_words(screen: pd.DataFrame, n_quantiles: int | None = None) -> pd.DataFrame:
     """The screen with its codes in words: ``pe_display``, ``quantile_label`` and ``flags`` as text.
 
-    The numbers are left as they are; ``attrs`` (the date) are kept.
+    ``n_quantiles`` defaults to the screen's ``attrs["n_quantiles"]``.  The numbers are left as
+    they are; ``attrs`` (the date) are kept.  A screen already in words is returned unchanged.
     """
+    if "quantile_label" in screen.columns:
+        return screen
+    n_quantiles = int(n_quantiles if n_quantiles is not None else screen.attrs["n_quantiles"])
     out = screen.copy()
     pe = pd.to_numeric(out["pe"], errors="coerce").to_numpy(dtype=float)
     has = out["has_eps"].to_numpy(dtype=bool) if "has_eps" in out.columns else np.isfinite(pe)

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 import zipfile
 from pathlib import Path
 from typing import Any
@@ -20,6 +21,7 @@ import pandas as pd
 
 from valuesift.app.screen_table import neutralise
 from valuesift.app.words import screen_in_words
+from valuesift.core.reporting.summary import summary_dict
 from valuesift.core.result import StudyResult
 from valuesift.core.reporting.summary import ic_by_date_frame
 
@@ -126,8 +128,6 @@ def _screen(result: StudyResult) -> pd.DataFrame:
 
 
 def _summary(result: StudyResult) -> pd.DataFrame:
-    from valuesift.core.reporting.summary import summary_dict
-
     d = summary_dict(result)
     rows = [{"horizon": int(h), **block} for h, block in d["horizons"].items()]
     return pd.DataFrame(rows).astype({c: float for c in rows[0] if c not in ("horizon", "ic_lags", "n_dates")})
@@ -226,8 +226,6 @@ def _fixed_zip(data: bytes, stamp: str) -> bytes:
     src = zipfile.ZipFile(io.BytesIO(data))
     out = io.BytesIO()
     iso = pd.Timestamp(stamp).strftime("%Y-%m-%dT%H:%M:%SZ")
-    import re
-
     with zipfile.ZipFile(out, "w", compression=zipfile.ZIP_DEFLATED) as dst:
         for info in src.infolist():
             body = src.read(info.filename)

@@ -165,11 +165,11 @@ def spread_over_time_figure(result: StudyResult, horizon: int) -> go.Figure:
     return fig
 
 
-def scatter_figure(result: StudyResult, horizon: int, date: object | None = None, *, bins: int = POOLED_BINS) -> go.Figure:
+def scatter_figure(result: StudyResult, horizon: int, date: object | None = None) -> go.Figure:
     """Signal z-score against forward return on one date, or pooled over all dates in bins.
 
     The fitted least-squares line (``cross_section_fit`` or ``pooled_fit``) is drawn; the IC and its t
-    are written on the chart.  ``bins`` must be the study's ``POOLED_BINS`` (the bins are a result field).
+    are written on the chart.  The pooled view draws the result's ``pooled_bins``.
     """
     fwd = result.forward_returns[horizon]
     z = result.signal_z.reindex(index=fwd.index, columns=fwd.columns)
@@ -198,7 +198,7 @@ def scatter_figure(result: StudyResult, horizon: int, date: object | None = None
         title = f"Signal against {horizon}-month forward return, all dates pooled"
         pf = result.pooled_fit.loc[horizon]
         n_pairs = int(pf["n_pairs"])
-        if n_pairs < 3 * bins:
+        if n_pairs < 3 * POOLED_BINS:
             return message_figure(title, f"Only {n_pairs} signal/return pairs over all dates.")
         a, b = float(pf["intercept"]), float(pf["slope"])
         binned = result.pooled_bins[horizon]

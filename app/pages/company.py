@@ -13,6 +13,7 @@ from valuesift.app.figures.common import message_figure
 from valuesift.app.ids import decode_id
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state
+from valuesift.app.settings import shown_horizon
 from valuesift.app.words import SECURITY_COLUMN_WORDS, screen_in_words, security_flag_words
 from valuesift.core.reporting.screen import SINGLE_NAME_CAUTION
 
@@ -60,7 +61,7 @@ def _horizons(job: Any, current: Any) -> Any:
     if res is None:
         return no_update, no_update
     hs = list(res.config.horizons)
-    return [{"label": f"{h} m", "value": h} for h in hs], current if current in hs else (12 if 12 in hs else hs[0])
+    return [{"label": f"{h} m", "value": h} for h in hs], shown_horizon(hs, current)
 
 
 @dash.callback(
@@ -81,7 +82,7 @@ def _company(job: Any, horizon: Any, security: Any, sel: Any) -> Any:
     if sec not in res.signal_raw.columns:
         msg = message_figure("", f"{sec} is not among the securities of the data in use.")
         return msg, msg, "", None
-    h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]
+    h = shown_horizon(res.config.horizons, horizon)
     info = res.security_info.loc[sec] if sec in res.security_info.index else None
     facts = []
     if info is not None:

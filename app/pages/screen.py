@@ -13,7 +13,6 @@ from dash.exceptions import PreventUpdate
 from valuesift.app.figures.common import month
 from valuesift.app.ids import company_path
 from valuesift.app.jobs_ui import alert, job_components, register_job_callbacks
-from valuesift.app.words import screen_in_words
 from valuesift.app.screen_table import COLUMNS, apply_filter, apply_sort, display_frame, page, to_csv_bytes, to_xlsx_bytes
 from valuesift.app.services import LRU, finished_result, job_done, state
 from valuesift.core.errors import ValueSiftError
@@ -79,7 +78,7 @@ def _frame(key: str, date: str | None, holdings: bool) -> Any:
         return None
     raw = res.screen if date is None else screen_table(res, date)
     has_holdings = bool(res.security_info["holding_weight"].notna().any())
-    df = display_frame(screen_in_words(raw, res.config.n_quantiles), holdings_only=holdings and has_holdings)
+    df = display_frame(raw, holdings_only=holdings and has_holdings)
     df.attrs.update({"date": raw.attrs.get("date"), "holdings": holdings and has_holdings})
     _FRAMES.put(cache_key, df)
     return df

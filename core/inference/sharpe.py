@@ -1,4 +1,4 @@
-"""Standard error and t-statistic of a Sharpe ratio.
+"""Inference on the Sharpe ratio.
 
 References
 ----------
@@ -7,60 +7,33 @@ Lo, A. W. (2002). The statistics of Sharpe ratios. Financial Analysts Journal 58
 
 from __future__ import annotations
 
-import numpy as np
+import math
 
 __all__ = ["sharpe_ratio_se", "sharpe_ratio_t"]
 
 
-def sharpe_ratio_se(sr_monthly: float | np.ndarray, T: float | np.ndarray) -> np.ndarray | float:
-    """Standard error of a per-period Sharpe ratio under iid returns (Lo 2002).
-
-    Parameters
-    ----------
-    sr_monthly : float or array
-        The per-period (here monthly) Sharpe ratio, mean excess return over its sd.
-    T : float or array
-        Number of periods (months) it was estimated from.
-
-    Returns
-    -------
-    float or array
-        ``sqrt((1 + SR^2 / 2) / T)``; NaN where ``T < 2`` or SR is not finite.
+def sharpe_ratio_se(sr_per_period: float, n_periods: int) -> float:
+    """Standard error of a per-period Sharpe ratio for iid returns: ``sqrt((1 + SR^2 / 2) / T)``.
 
     Notes
     -----
-    .. math:: \\mathrm{SE}(\\widehat{SR}) = \\sqrt{(1 + \\widehat{SR}^2 / 2) / T}
-
-    The annual ratio ``sqrt(12) SR`` has ``sqrt(12)`` times this error, so the t-statistic
-    is the same on either scale.  The shortcut ``SR sqrt(T)`` leaves out the ``SR^2/2`` term.
-
-    References
-    ----------
-    Lo (2002), FAJ 58(4), the iid case.
+    Lo (2002), the iid case.  The SE of the annualised ratio is this times
+    ``sqrt(12)`` for monthly returns.  The shortcut ``t = SR sqrt(T)`` leaves out
+    the ``SR^2 / 2`` term, which matters when SR is large.
 
     Examples
     --------
-    >>> round(float(sharpe_ratio_se(0.15275252, 12)), 6)
-    0.290354
+    Reference case 19 of the project's check list (monthly SR 0.15275252, T = 12):
+
+    >>> round(sharpe_ratio_se(0.15275252, 12), 8)
+    0.29035419
     """
-    sr = np.asarray(sr_monthly, dtype=float)
-    t = np.asarray(T, dtype=float)
-    ok = np.isfinite(sr) & np.isfinite(t) & (t >= 2)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        out = np.where(ok, np.sqrt((1.0 + 0.5 * sr * sr) / np.where(ok, t, 1.0)), np.nan)
-    return float(out) if out.ndim == 0 else out
+    if n_periods < 2 or not math.isfinite(sr_per_period):
+        return float("nan")
+    return math.sqrt((1.0 + 0.5 * sr_per_period * sr_per_period) / n_periods)
 
 
-def sharpe_ratio_t(sr_monthly: float | np.ndarray, T: float | np.ndarray) -> np.ndarray | float:
-    """t-statistic of a Sharpe ratio against zero: ``SR / SE(SR)`` with :func:`sharpe_ratio_se`.
-
-    Examples
-    --------
-    >>> round(float(sharpe_ratio_t(0.15275252, 12)), 5)
-    0.52609
-    """
-    sr = np.asarray(sr_monthly, dtype=float)
-    se = np.asarray(sharpe_ratio_se(sr, T), dtype=float)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        out = np.where(np.isfinite(se) & (se > 0), sr / se, np.nan)
-    return float(out) if out.ndim == 0 else out
+def sharpe_ratio_t(sr_per_period: float, n_periods: int) -> float:
+    """``SR / SE(SR)`` with the SE of :func:`sharpe_ratio_se` (NaN when undefined)."""
+    se = sharpe_ratio_se(sr_per_period, n_periods)
+    return sr_per_period / se if math.isfinite(se) and se > 0 else float("nan")

@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 
 from valuesift.core.inference.hac import mean_inference
-from valuesift.core.inference.sharpe import sharpe_ratio_se
+from valuesift.core.inference.sharpe import sharpe_ratio_se, sharpe_ratio_t
 
 __all__ = ["sharpe_inference", "cohort_summary", "drawdown_summary", "DRAWDOWN_DEPTH"]
 
@@ -41,9 +41,8 @@ def sharpe_inference(stats: pd.DataFrame) -> pd.DataFrame:
     """
     sr_m = stats["sharpe"].to_numpy(dtype=float) / math.sqrt(12.0)
     n = stats["n_months"].to_numpy(dtype=float)
-    se = np.asarray(sharpe_ratio_se(sr_m, n), dtype=float)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        t = np.where(np.isfinite(se) & (se > 0), sr_m / np.where(se > 0, se, 1.0), np.nan)
+    se = [sharpe_ratio_se(float(a), int(b)) if math.isfinite(b) else math.nan for a, b in zip(sr_m, n)]
+    t = [sharpe_ratio_t(float(a), int(b)) if math.isfinite(b) else math.nan for a, b in zip(sr_m, n)]
     return pd.DataFrame({"sharpe_monthly": sr_m, "se_monthly": se, "t": t, "n_months": n}, index=stats.index)
 
 

@@ -73,7 +73,7 @@ def screen_table(result: "StudyResult", date: object | None = None) -> pd.DataFr
     -----
     Changes in z are ``z_t - z_{t-3}`` and ``z_t - z_{t-12}`` of the evaluated
     z-score.  Rows: every security with a valid price within the last 12
-    months of the date.  The table has ``attrs["date"]`` (ISO).
+    months of the date.  The table has ``attrs["date"]`` (ISO) and ``attrs["n_quantiles"]``.
     """
     i = _resolve_date(result, date)
     secs = result.signal_z.columns
@@ -126,6 +126,7 @@ def screen_table(result: "StudyResult", date: object | None = None) -> pd.DataFr
     order = np.lexsort((out.index.to_numpy().astype(str), -np.nan_to_num(out["zscore"].to_numpy(dtype=float), nan=-np.inf)))
     out = out.iloc[order]
     out.attrs["date"] = result.signal_z.index[i].date().isoformat()
+    out.attrs["n_quantiles"] = int(result.config.n_quantiles)
     return out
 
 

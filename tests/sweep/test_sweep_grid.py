@@ -55,8 +55,8 @@ def test_the_example_grid_file_reads_and_has_at_least_100_points() -> None:
     ({"vary": {"signal": "earnings_yield"}}, "'signal'.*non-empty list"),
     ({"vary": {}}, r"\[vary\].*no dimensions"),
     ({"vary": {"signal": ["earnings_yield"]}, "extras": {}}, "unknown section"),
-    ({"vary": {"signal": ["earnings_yield"]}, "study": {"n_quantiles": 99}}, r"\[study\].*n_quantiles"),
-    ({"vary": {"signal": ["composite"]}, "study": {"composite_of": ["earnings_yield"]}}, "composite_of"),
+    ({"vary": {"signal": ["earnings_yield"]}, "study": {"n_quantiles": 99}}, r"\[study\].*Quantiles: 99"),
+    ({"vary": {"signal": ["composite"]}, "study": {"composite_of": ["earnings_yield"]}}, "Composite of"),
 ], ids=["unknown-dimension", "bad-quantiles", "bad-zscore", "bad-outliers", "bad-universe", "repeated-horizon",
         "empty-list", "not-a-list", "no-dimensions", "unknown-section", "bad-shared-setting", "bad-combination"])
 def test_validation_errors_name_the_dimension(data: dict, match: str) -> None:
