@@ -19,17 +19,19 @@ import logging
 import sys
 from collections.abc import Sequence
 
-__all__ = ["main", "build_parser", "CAUTION"]
-
+from valuesift.app import cli_commands as cmd
 from valuesift.app.caution import CAUTION
+from valuesift.app.cli_study import add_study
+from valuesift.app.cli_sweep import add_sweep
+from valuesift.core.errors import ValueSiftError
+
+__all__ = ["main", "build_parser", "CAUTION"]
 
 log = logging.getLogger("valuesift")
 
 
-
 def build_parser() -> argparse.ArgumentParser:
-    from valuesift.app import cli_commands as cmd
-    from valuesift.app.cli_sweep import add_sweep
+    """The parser of every subcommand."""
 
     parser = argparse.ArgumentParser(
         prog="valuesift",
@@ -39,7 +41,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--verbose", "-v", action="store_true", help="log details (and causes of errors)")
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
     cmd.add_serve(sub)
-    cmd.add_study(sub)
+    add_study(sub)
     cmd.add_check(sub)
     cmd.add_demo(sub)
     add_sweep(sub)
@@ -47,8 +49,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    from valuesift.core.errors import ValueSiftError
-
+    """Run the command line; returns the exit code."""
     parser = build_parser()
     args = parser.parse_args(argv)
     logging.basicConfig(

@@ -7,64 +7,16 @@ import sys
 from pathlib import Path
 from typing import Any
 
+from valuesift.core.demo import write_demo
+from valuesift.core.errors import ConfigError, IntakeError
+from valuesift.core.intake import build_panel, read_table
+from valuesift.app.cli_options import add_intake_options, panel_options_from_args, read_options_from_args
+from valuesift.app.words import intake_report_text
+
 #: File name endings read as data by ``check``; anything else (a README, say) is skipped with a note.
 DATA_SUFFIXES = frozenset({".csv", ".tsv", ".tab", ".txt", ".dat", ".xlsx", ".xlsm", ".parquet", ".pq"})
 
-__all__ = ["DATA_SUFFIXES", "add_serve", "add_study", "add_check", "add_demo", "read_options_from_args"]
-
-
-# -- shared intake options ----------------------------------------------------
-def _add_intake_options(p: argparse.ArgumentParser) -> None:
-    g = p.add_argument_group("reading files (every choice overrides auto-detection)")
-    g.add_argument("--exclude", action="append", default=[], metavar="COLUMN",
-                   help="column to leave out of every file (e.g. a market index among the securities); repeatable")
-    g.add_argument("--date-order", choices=["auto", "dmy", "mdy", "ymd"], default="auto",
-                   help="day/month order for dates such as 03/04/2020 (default: decide from the data)")
-    g.add_argument("--decimal", choices=["auto", "point", "comma"], default="auto",
-                   help="decimal separator (default: decide from the data)")
-    g.add_argument("--layout", choices=["auto", "wide", "long"], default="auto",
-                   help="wide: dates down, one column per security; long: date, security, value columns")
-    g.add_argument("--header-row", type=int, default=None, metavar="N",
-                   help="1-based row that holds the column names (default: detected)")
-    g.add_argument("--id-cleanup", choices=["none", "upper", "first_token", "regex"], default="none",
-                   help="clean up security identifiers")
-    g.add_argument("--id-regex", default=None, metavar="PATTERN",
-                   help="with --id-cleanup regex: the identifier is the first group of this pattern")
-    g.add_argument("--duplicates", choices=["last", "first", "error"], default="last",
-                   help="rule for a repeated date/security (default: the last one wins)")
-    g.add_argument("--staleness-days", type=int, default=10, metavar="DAYS",
-                   help="daily input: a month-end value older than this is missing and flagged")
-    g.add_argument("--apply-splits", action="store_true",
-                   help="apply every suspected unadjusted split the report lists (after you checked them)")
-    g.add_argument("--confirm-split", action="append", default=[], metavar="SECURITY",
-                   help="apply the suspected split of this security only; repeatable")
-
-
-def read_options_from_args(args: argparse.Namespace, kind: str | None = None, **extra: Any) -> Any:
-    from valuesift.core.intake import ReadOptions
-
-    return ReadOptions(
-        kind=kind,  # type: ignore[arg-type]
-        layout=args.layout,
-        header_row=args.header_row,
-        date_order=args.date_order,
-        decimal=args.decimal,
-        id_cleanup=args.id_cleanup,
-        id_regex=args.id_regex,
-        exclude_columns=tuple(args.exclude),
-        duplicate_rule=args.duplicates,
-        **extra,
-    )
-
-
-def panel_options_from_args(args: argparse.Namespace) -> Any:
-    from valuesift.core.intake import PanelOptions
-
-    return PanelOptions(
-        staleness_days=args.staleness_days,
-        confirmed_splits=frozenset(args.confirm_split),
-        apply_all_suspected_splits=args.apply_splits,
-    )
+__all__ = ["DATA_SUFFIXES", "add_serve", "add_check", "add_demo"]
 
 
 # -- check ----------------------------------------------------------------------
@@ -77,13 +29,11 @@ def add_check(sub: Any) -> None:
     p.add_argument("--kind", action="append", default=[], metavar="FILE=KIND",
                    help="say what a file holds when its name does not (kinds: prices, earnings, dividends, "
                         "sectors, holdings, benchmark, market_cap, signal)")
-    _add_intake_options(p)
+    add_intake_options(p)
     p.set_defaults(func=run_check)
 
 
 def _kind_overrides(pairs: list[str]) -> dict[str, str]:
-    from valuesift.core.errors import ConfigError
-
     out: dict[str, str] = {}
     for pair in pairs:
         if "=" not in pair:
@@ -94,9 +44,6 @@ def _kind_overrides(pairs: list[str]) -> dict[str, str]:
 
 
 def run_check(args: argparse.Namespace) -> int:
-    from valuesift.core.errors import IntakeError
-    from valuesift.core.intake import build_panel, read_table
-
     kinds = _kind_overrides(args.kind)
     parsed = []
     failures: list[str] = []
@@ -120,7 +67,7 @@ def run_check(args: argparse.Namespace) -> int:
             failures.append(str(err))
         else:
             assert panel.report is not None
-            print(panel.report.to_text())
+            print(intake_report_text(panel.report))
     else:
         for pf in parsed:
             print(pf.report.to_text())
@@ -143,8 +90,6 @@ def add_demo(sub: Any) -> None:
 
 
 def run_demo(args: argparse.Namespace) -> int:
-    from valuesift.core.demo import write_demo
-
     kwargs = {} if args.seed is None else {"seed": args.seed}
     paths = write_demo(args.out, **kwargs)
     for path in paths:
@@ -157,7 +102,7 @@ def add_serve(sub: Any) -> None:
     p = sub.add_parser("serve", help="start the dashboard on this computer",
                        description="Start the dashboard. It listens on 127.0.0.1 only unless --host is given.")
     p.add_argument("--demo", action="store_true", help="open with the invented demo universe loaded")
-    p.add_argument("--port", type=int, default=8750)
+    p.add_argument("--port", type=int, default=8750, help="port to listen on (default 8750)")
     p.add_argument("--host", default="127.0.0.1",
                    help="address to listen on; anything but loopback needs --allow-remote and prints a token")
     p.add_argument("--allow-remote", action="store_true", help="permit a non-loopback --host (token required)")
@@ -177,6 +122,7 @@ def add_serve(sub: Any) -> None:
 
 
 def run_serve(args: argparse.Namespace) -> int:
+    # Dash and the pages load only for `serve` (start-up of the other commands: about 1 s, python -X importtime)
     from valuesift.app.server import read_token, serve
     from valuesift.core.errors import ConfigError
 
@@ -197,14 +143,3 @@ def run_serve(args: argparse.Namespace) -> int:
         max_upload_mb=args.max_upload_mb,
         public_names=names,
     )
-
-
-# -- study ------------------------------------------------------------------------
-def add_study(sub: Any) -> None:
-    from valuesift.app.cli_study import add_study_arguments, run_study_command
-
-    p = sub.add_parser("study", help="run a study headless and write its results",
-                       description="Run the same study as the dashboard and write summary.json and tables/.")
-    add_study_arguments(p)
-    _add_intake_options(p)
-    p.set_defaults(func=run_study_command)

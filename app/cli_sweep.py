@@ -20,13 +20,15 @@ from contextlib import ExitStack
 from pathlib import Path
 from typing import Any
 
+from valuesift.app.caution import CAUTION
+from valuesift.core.errors import ConfigError
+from valuesift.app.cli_options import add_input_file_arguments, add_intake_options, load_study_panel
+
 __all__ = ["add_sweep", "run_sweep_command"]
 
 
 def add_sweep(sub: Any) -> None:
-    from valuesift.app.cli_commands import _add_intake_options
-    from valuesift.app.cli_study import add_input_file_arguments
-
+    """The ``sweep`` subcommand (its study settings come from the grid file, see docs/sweep_example.toml)."""
     p = sub.add_parser("sweep", help="run many studies from a grid file and compare them",
                        description="Cross the settings listed in a grid file (TOML), run every study on a Dask "
                                    "cluster and write one comparison table with multiple-testing adjustment.")
@@ -40,7 +42,7 @@ def add_sweep(sub: Any) -> None:
                    help="local cluster: worker threads in this process instead of worker processes")
     p.add_argument("--quiet", action="store_true", help="no progress bar")
     add_input_file_arguments(p, signal_help="your own signal series (use its name in the grid)")
-    _add_intake_options(p)
+    add_intake_options(p)
     p.set_defaults(func=run_sweep_command)
 
 
@@ -62,10 +64,8 @@ def _bar(quiet: bool) -> Any:
 
 
 def _client(args: argparse.Namespace, stack: ExitStack) -> Any:
-    from valuesift.core.errors import ConfigError
-
     try:
-        from distributed import Client, LocalCluster
+        from distributed import Client, LocalCluster  # the cluster only when a sweep runs (start-up, importtime)
     except ImportError as err:
         raise ConfigError("The sweep needs the Dask packages 'dask' and 'distributed'.",
                           hint="Install them with: pip install 'valuesift[cluster]'.") from err
@@ -89,8 +89,7 @@ def _client(args: argparse.Namespace, stack: ExitStack) -> Any:
 
 
 def run_sweep_command(args: argparse.Namespace) -> int:
-    from valuesift.app.cli import CAUTION
-    from valuesift.app.cli_study import load_study_panel
+    # plotly and dask load only when a sweep runs (about 1 s of start-up otherwise, python -X importtime)
     from valuesift.app.figures.sweep import sweep_heatmap_figure, write_heatmap
     from valuesift.core.sweep import read_grid, run_sweep, save_sweep
 

@@ -17,6 +17,7 @@ from typing import Any, Sequence
 import numpy as np
 import pandas as pd
 
+from valuesift.app.words import screen_in_words
 from valuesift.core.errors import ConfigError
 
 __all__ = ["COLUMNS", "MAX_FILTER_CHARS", "display_frame", "apply_filter", "apply_sort", "page", "neutralise", "to_csv_bytes",
@@ -46,8 +47,8 @@ MAX_FILTER_CHARS = 1_000
 
 
 def display_frame(screen: pd.DataFrame, *, holdings_only: bool = False) -> pd.DataFrame:
-    """The screen (indexed by security) as flat display columns, rounded for reading."""
-    df = screen.copy()
+    """The screen (indexed by security) as flat display columns in words, rounded for reading."""
+    df = screen_in_words(screen)
     if holdings_only and "holding_weight" in df.columns:
         df = df[np.isfinite(pd.to_numeric(df["holding_weight"], errors="coerce").to_numpy(dtype=float))]
     out = pd.DataFrame({"security": df.index.astype(str).to_numpy()})

@@ -26,7 +26,7 @@ Axes and units
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -119,6 +119,4 @@ class Panel:
 
     def with_(self, **changes: Any) -> "Panel":
         """Return a copy with some fields replaced (the panel is never mutated)."""
-        from dataclasses import replace
-
         return replace(self, **changes)

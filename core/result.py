@@ -103,6 +103,39 @@ class StudyResult:
     warnings : tuple of dict
         Each with ``code``, ``message`` and the numbers behind it
         (:mod:`valuesift.core.diagnostics.warnings`).
+    rolling_spread : DataFrame (D x MultiIndex (horizon, window))
+        Rolling mean of ``spread`` over 12 and 36 dates, by the rule of ``rolling_ic``
+        (a window needs all its dates).
+    spread_facts : DataFrame (H x statistics)
+        ``positive_share`` (share of formation dates with a positive spread), ``n_dates``,
+        ``names_per_quantile`` (mean count per quantile over those dates).
+    pooled_fit : DataFrame (H x statistics)
+        Least-squares line of forward return on ``signal_z``, all name-dates pooled:
+        ``intercept`` (return), ``slope`` (return per unit of z), ``t_slope`` (classical;
+        pooled points overlap in time, never the evidence), ``n_pairs``, ``n_dates``.
+    pooled_bins : dict[int, DataFrame (bins x statistics)]
+        The pooled pairs in 20 equal-count bins of z: ``x_mean`` (z), ``y_mean`` (return), ``count``.
+    cross_section_fit : dict[int, DataFrame (D x statistics)]
+        Least-squares line of one date's cross-section: ``intercept``, ``slope``, ``t_slope``
+        (classical), ``n_names``.
+    signal_bands : DataFrame (D x statistics)
+        Universe median of ``signal_raw`` (its units) ``median``, names with a value ``n_names``,
+        and the breakpoints ``b1 .. b{n-1}`` at ``k / n_quantiles`` (NaN below n_quantiles names).
+    forward_return_median : DataFrame (D x H)
+        Universe median of the h-month forward return at each date.
+    sharpe_inference : DataFrame (portfolios x statistics)
+        ``sharpe_monthly``, its Lo (2002) iid standard error ``se_monthly``, ``t``, ``n_months``.
+    cohort_summary : Series
+        The cheapest quantile's cohorts against the comparison (``n_cohorts, n_beat, share_beat,
+        mean_excess, sd_excess, t_naive, t_hac, hac_lags, best_formed, best_excess,
+        worst_formed, worst_excess``); excess returns over the holding period.
+    drawdown_summary : DataFrame (portfolios x statistics)
+        ``deepest`` (most negative fall from the running peak), ``trough`` (its month),
+        ``share_below`` (share of months more than 10 % below the peak), ``n_months``.
+    coverage : Series
+        ``n_securities, n_dates, share_valid, min_names, max_names`` of the price panel,
+        ``mean_universe_names`` and ``n_universe_dates`` (dates with a universe), and
+        ``mean_ic_breadth`` (mean over horizons of ``ic_summary.mean_breadth``).
     """
 
     config: StudyConfig
@@ -141,3 +174,14 @@ class StudyResult:
     notes: tuple[str, ...] = field(default_factory=tuple)
     ic_by_delay: pd.DataFrame = field(default_factory=pd.DataFrame)
     warnings: tuple[dict[str, Any], ...] = field(default_factory=tuple)
+    rolling_spread: pd.DataFrame = field(default_factory=pd.DataFrame)
+    spread_facts: pd.DataFrame = field(default_factory=pd.DataFrame)
+    pooled_fit: pd.DataFrame = field(default_factory=pd.DataFrame)
+    pooled_bins: dict[int, pd.DataFrame] = field(default_factory=dict)
+    cross_section_fit: dict[int, pd.DataFrame] = field(default_factory=dict)
+    signal_bands: pd.DataFrame = field(default_factory=pd.DataFrame)
+    forward_return_median: pd.DataFrame = field(default_factory=pd.DataFrame)
+    sharpe_inference: pd.DataFrame = field(default_factory=pd.DataFrame)
+    cohort_summary: pd.Series = field(default_factory=lambda: pd.Series(dtype=object))
+    drawdown_summary: pd.DataFrame = field(default_factory=pd.DataFrame)
+    coverage: pd.Series = field(default_factory=lambda: pd.Series(dtype=float))

@@ -15,11 +15,14 @@ import shutil
 import zipfile
 from dataclasses import dataclass, replace
 from datetime import datetime, timezone
+from importlib.metadata import PackageNotFoundError, version
 from pathlib import Path
 from typing import Any, Callable, Iterable, Sequence
 
 import pandas as pd
 
+import valuesift.core as valuesift_core
+from valuesift.app.settings import shown_horizon
 from valuesift.app.bundle import charts as bc
 from valuesift.app.bundle import tables as bt
 from valuesift.app.bundle.content import report_input
@@ -82,8 +85,7 @@ def bundle_name(study_name: str, result: StudyResult) -> str:
 
 def default_horizon(result: StudyResult) -> int:
     """The horizon the per-horizon charts are drawn at: 12 months if studied, else the first (as the Study page)."""
-    hs = result.config.horizons
-    return 12 if 12 in hs else int(hs[0])
+    return shown_horizon(result.config.horizons)
 
 
 def merge_inputs(inputs: Sequence[dict[str, Any]] | None, panel: Any) -> list[dict[str, Any]]:
@@ -121,8 +123,6 @@ def _sha(path: Path) -> str:
 
 
 def _versions() -> dict[str, str]:
-    from importlib.metadata import PackageNotFoundError, version
-
     out = {"python": platform.python_version()}
     for pkg in ("pandas", "numpy", "scipy", "statsmodels", "plotly", "kaleido", "reportlab", "openpyxl"):
         try:
@@ -290,9 +290,7 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
 
 
 def _tool_version() -> str:
-    from valuesift import core
-
-    return str(core.__version__)
+    return str(valuesift_core.__version__)
 
 
 def _zip(folder: Path, files: Sequence[str], path: Path, root: str) -> None:

@@ -23,7 +23,8 @@ import plotly.graph_objects as go
 from valuesift.app.browser import find_browser
 
 from valuesift.app.figures import backtest as fb
-from valuesift.app.figures._common import wrap
+from valuesift.app.figures.common import wrap
+from valuesift.app.figures.sweep import sweep_heatmap_figure
 from valuesift.app.figures import data as fd
 from valuesift.app.figures import study as fs
 from valuesift.core.result import StudyResult
@@ -76,8 +77,6 @@ SWEEP_SPEC = ChartSpec(SWEEP_KEY, SWEEP_TITLE, lambda r, h, p: go.Figure(), Fals
 
 def sweep_figure(sweep: Any) -> go.Figure:
     """The dashboard's sweep heat map with the same slide layout as every other chart."""
-    from valuesift.app.figures.sweep import sweep_heatmap_figure
-
     fig = sweep_heatmap_figure(sweep)
     fig.update_layout(width=SLIDE["width"], height=SLIDE["height"], autosize=False)
     _rewrap_for_slide(fig)

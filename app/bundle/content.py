@@ -14,8 +14,9 @@ from valuesift.app.bundle.charts import CHARTS
 from valuesift.app.bundle.pdf import ReportInput
 from valuesift.app.bundle.text import CHART_READINGS, headline_sentences, share_word, signal_definition, universe_words
 from valuesift.app.caution import CAUTION
-from valuesift.app.figures._common import fmt_num, fmt_pct, span
+from valuesift.app.figures.common import fmt_num, fmt_pct, span
 from valuesift.app.figures.study import return_label, signal_label
+from valuesift.app.words import intake_report_lines, screen_in_words
 from valuesift.core.result import StudyResult
 
 __all__ = ["report_input", "summary_rows", "screen_frames"]
@@ -57,7 +58,7 @@ def _fmt_signal(result: StudyResult, v: float) -> str:
 
 def screen_frames(result: StudyResult) -> tuple[str, pd.DataFrame, pd.DataFrame]:
     """Title, the cheapest and the dearest rows of the screen (holdings when the panel has them)."""
-    s = result.screen
+    s = screen_in_words(result.screen, result.config.n_quantiles)
     held = s["holding_weight"].notna() if "holding_weight" in s.columns else pd.Series(False, index=s.index)
     who = "holdings" if bool(held.any()) else "securities of the universe"
     base = s[held.to_numpy(dtype=bool)] if bool(held.any()) else s
@@ -97,8 +98,9 @@ def _facts(result: StudyResult, panel: Any, horizon: int, created: datetime, stu
     return [
         ("Study", study_name),
         ("As of", f"{asof} (the latest month-end with a signal)"),
-        ("Universe", f"{universe_words(result)}: {n_asof} names on the as-of date, {used.mean():.0f} on average "
-                     f"over {len(used)} month-ends"),
+        ("Universe", f"{universe_words(result)}: {n_asof} names on the as-of date, "
+                     f"{fmt_num(result.coverage.get('mean_universe_names'), 0)} on average "
+                     f"over {int(result.coverage.get('n_universe_dates', 0))} month-ends"),
         ("Signal", f"{signal_label(result)}. {signal_definition(result)}"),
         ("Horizons", f"{hs} months; per-horizon charts drawn at {horizon} months"),
         ("Data period", f"{span(dates)} ({len(dates)} month-ends); universe present {span(used.index)}"),
@@ -133,23 +135,7 @@ def _quality(panel: Any, result: StudyResult) -> tuple[pd.DataFrame, list[str], 
             lines.extend(f"{f.name}: {n}" for n in f.notes)
         files = pd.DataFrame(frows, columns=files.columns)
         reasons = pd.DataFrame(rrows, columns=reasons.columns)
-        sec = rep.securities
-        lines.append(f"Securities in the panel: {len(sec)}" + (
-            f"; median price coverage {float(sec['coverage'].median()):.1%}" if len(sec) and "coverage" in sec else ""))
-        for flag in ("late_listing", "delisted", "suspected_split", "split_adjusted", "stale", "extreme_pe",
-                     "negative_earnings", "no_earnings", "looks_like_index"):
-            names = rep.flagged(flag)
-            if names:
-                shown = ", ".join(names[:10]) + (f" and {len(names) - 10} more" if len(names) > 10 else "")
-                lines.append(f"Flag {flag.replace('_', ' ')}: {len(names)} ({shown})")
-        for _, r in rep.suspected_splits.iterrows():
-            lines.append(f"Suspected split: {r['security']} at {pd.Timestamp(r['date']).date()}, ratio "
-                         f"{float(r['ratio']):g}, {'applied' if bool(r['applied']) else 'not applied'}")
-        for _, r in rep.alignment.iterrows():
-            lines.append(f"Set aside while aligning to month-ends: {r['file']}, {r['reason']}: {int(r['count'])}")
-        lines.extend(f"Panel note: {n}" for n in rep.panel_notes)
-        if rep.holdings_total is not None:
-            lines.append(f"Holdings weights as read sum to {rep.holdings_total:.4f}")
+        lines.extend(intake_report_lines(rep))
     dn = result.date_notes
     if dn is not None and len(dn):
         g = dn.groupby(["stage", "horizon", "reason"], as_index=False).agg(dates=("date", "count"))

@@ -27,6 +27,8 @@ from reportlab.platypus.flowables import BalancedColumns
 from reportlab.platypus import (CondPageBreak, Image, KeepTogether, PageBreak, Paragraph, SimpleDocTemplate,
                                 Spacer, Table, TableStyle)
 
+from valuesift.app.bundle.charts import print_jpeg
+
 __all__ = ["ReportInput", "build_pdf", "FONT"]
 
 # Binary streams as they are (JPEG passes through; no ASCII85 text encoding that costs time and 25 % size).
@@ -182,8 +184,6 @@ def _image(image: bytes, max_w: float, max_h: float) -> Image:
     from PIL import Image as PILImage
 
     if image[:8] == b"\x89PNG\r\n\x1a\n":
-        from valuesift.app.bundle.charts import print_jpeg
-
         image = print_jpeg(image)
     with PILImage.open(io.BytesIO(image)) as im:
         width, height = im.size

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 import zipfile
 from pathlib import Path
 from typing import Any
@@ -19,6 +20,8 @@ import numpy as np
 import pandas as pd
 
 from valuesift.app.screen_table import neutralise
+from valuesift.app.words import screen_in_words
+from valuesift.core.reporting.summary import summary_dict
 from valuesift.core.result import StudyResult
 from valuesift.core.reporting.summary import ic_by_date_frame
 
@@ -119,15 +122,13 @@ def _cohorts(result: StudyResult) -> pd.DataFrame:
 
 
 def _screen(result: StudyResult) -> pd.DataFrame:
-    s = result.screen.copy()
+    s = screen_in_words(result.screen, result.config.n_quantiles)
     s.insert(0, "security", s.index.astype(str))
     s.insert(0, "date", str(result.screen.attrs.get("date", "")))
     return s.reset_index(drop=True)
 
 
 def _summary(result: StudyResult) -> pd.DataFrame:
-    from valuesift.core.reporting.summary import summary_dict
-
     d = summary_dict(result)
     rows = [{"horizon": int(h), **block} for h, block in d["horizons"].items()]
     text = {"horizon", "ic_lags", "n_dates", "too_short"} | {c for c, v in rows[0].items() if isinstance(v, str)}
@@ -228,8 +229,6 @@ def _fixed_zip(data: bytes, stamp: str) -> bytes:
     src = zipfile.ZipFile(io.BytesIO(data))
     out = io.BytesIO()
     iso = pd.Timestamp(stamp).strftime("%Y-%m-%dT%H:%M:%SZ")
-    import re
-
     with zipfile.ZipFile(out, "w", compression=zipfile.ZIP_DEFLATED) as dst:
         for info in src.infolist():
             body = src.read(info.filename)

@@ -14,7 +14,8 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from valuesift.app.figures._common import fmt_num, fmt_pct, month, span
+from valuesift.app.figures.common import fmt_num, fmt_pct, month, span
+from valuesift.core.portfolio.summaries import DRAWDOWN_DEPTH
 from valuesift.core.result import StudyResult
 
 __all__ = [
@@ -137,6 +138,13 @@ def _ic_by_horizon(result: StudyResult, h: int, panel: Any) -> list[str]:
     return [line1, line2]
 
 
+def _rolling(frame: pd.DataFrame, h: int, window: int = 12) -> pd.Series:
+    """The result's rolling mean of horizon ``h`` over ``window`` dates (the one rule the charts draw), NaN dropped."""
+    if (h, window) not in frame.columns:
+        return pd.Series(dtype=float)
+    return frame[(h, window)].dropna()
+
+
 def _ic_over_time(result: StudyResult, h: int, panel: Any) -> list[str]:
     ic = result.rank_ic[h].dropna()
     row = result.ic_summary.loc[h]
@@ -144,7 +152,7 @@ def _ic_over_time(result: StudyResult, h: int, panel: Any) -> list[str]:
         return [f"No date has an IC at the {h}-month horizon.", ""]
     line1 = (f"At {h} months the rank IC was above zero on {fmt_pct(row['hit_share'], 0)} of {len(ic)} dates "
              f"({span(ic.index)}); mean {fmt_num(row['mean_ic'], 3)}, t = {fmt_num(row['t_hac'], 2)}.")
-    roll = ic.rolling(12, min_periods=12).mean().dropna()
+    roll = _rolling(result.rolling_ic, h)
     if roll.empty:
         return [line1, "Too few dates for a 12-date rolling mean."]
     lo, hi = roll.idxmin(), roll.idxmax()
@@ -174,9 +182,10 @@ def _spread(result: StudyResult, h: int, panel: Any) -> list[str]:
     ss = result.spread_summary.loc[h]
     if s.empty:
         return ["No date has both the cheapest and the dearest quantile filled.", ""]
-    line1 = (f"The cheapest-minus-dearest {h}-month return was positive on {fmt_pct((s > 0).mean(), 0)} of "
+    line1 = (f"The cheapest-minus-dearest {h}-month return was positive on "
+             f"{fmt_pct(result.spread_facts.loc[h, 'positive_share'], 0)} of "
              f"{len(s)} formation dates; mean {fmt_pct(ss['mean'], 2)}, t = {fmt_num(ss['t_hac'], 2)}.")
-    roll = s.rolling(12, min_periods=12).mean().dropna()
+    roll = _rolling(result.rolling_spread, h)
     if roll.empty:
         return [line1, "Too few dates for a 12-date rolling mean."]
     line2 = (f"Its 12-date rolling mean was best at {fmt_pct(roll.max(), 1)} (to {month(roll.idxmax())}) and worst "
@@ -185,18 +194,13 @@ def _spread(result: StudyResult, h: int, panel: Any) -> list[str]:
 
 
 def _scatter(result: StudyResult, h: int, panel: Any) -> list[str]:
-    fwd = result.forward_returns[h]
-    z = result.signal_z.reindex(index=fwd.index, columns=fwd.columns).to_numpy(dtype=float).ravel()
-    y = fwd.to_numpy(dtype=float).ravel()
-    ok = np.isfinite(z) & np.isfinite(y)
+    pf = result.pooled_fit.loc[h]
     row = result.ic_summary.loc[h]
-    if ok.sum() < 3:
+    n_pairs = int(pf["n_pairs"])
+    if n_pairs < 3:
         return ["Too few signal and return pairs to draw.", ""]
-    x, y = z[ok], y[ok]
-    xm = x.mean()
-    sxx = float(((x - xm) ** 2).sum())
-    b = float(((x - xm) * (y - y.mean())).sum() / sxx) if sxx > 0 else float("nan")
-    line1 = (f"Pooled over {int(ok.sum()):,} name-dates, one more unit of z-score went with "
+    b = pf["slope"]
+    line1 = (f"Pooled over {n_pairs:,} name-dates, one more unit of z-score went with "
              f"{fmt_pct(b, 2)} more {h}-month return on average (least-squares slope).")
     line2 = (f"Pooled points overlap in time, so judge by the mean rank IC: {fmt_num(row['mean_ic'], 3)}, "
              f"t = {fmt_num(row['t_hac'], 2)}, {verdict(row['t_hac'])}.")
@@ -242,19 +246,22 @@ def _growth(result: StudyResult, h: int, panel: Any) -> list[str]:
 
 
 def _drawdown(result: StudyResult, h: int, panel: Any) -> list[str]:
-    dd = result.backtest.drawdown
-    if dd.empty:
+    ds = result.drawdown_summary
+    if ds.empty:
         return ["The backtest has no month with returns.", ""]
     bits = []
     for col, name in (("cheapest", "cheapest"), ("universe", "universe"), ("long_short", "cheapest minus dearest")):
-        if col in dd.columns and dd[col].notna().any():
-            bits.append((name, float(dd[col].min()), dd[col].idxmin()))
+        if col in ds.index and _f(ds.loc[col, "n_months"]) > 0:
+            bits.append((name, ds.loc[col, "deepest"], ds.loc[col, "trough"]))
     if not bits:
         return ["The backtest has no month with returns.", ""]
     line1 = "Deepest fall from a running peak: " + "; ".join(f"{n} {fmt_pct(v, 0)} ({month(d)})" for n, v, d in bits) + "."
-    c = dd["cheapest"].dropna() if "cheapest" in dd.columns else pd.Series(dtype=float)
-    under = float((c < -0.10).mean()) if len(c) else float("nan")
-    line2 = f"The cheapest portfolio spent {fmt_pct(under, 0)} of {len(c)} months more than 10% below its peak."
+    if "cheapest" in ds.index:
+        under, n_c = ds.loc["cheapest", "share_below"], int(_f(ds.loc["cheapest", "n_months"]))
+    else:
+        under, n_c = float("nan"), 0
+    line2 = (f"The cheapest portfolio spent {fmt_pct(under, 0)} of {n_c} months more than "
+             f"{fmt_pct(DRAWDOWN_DEPTH, 0)} below its peak.")
     return [line1, line2]
 
 
@@ -263,25 +270,25 @@ def _cohorts(result: StudyResult, h: int, panel: Any) -> list[str]:
     c = bt.cohorts
     if c is None or c.empty or "excess" not in c.columns:
         return ["No cohort completed its holding period.", ""]
-    ex = pd.to_numeric(c["excess"], errors="coerce").dropna()
-    if ex.empty:
+    cs = result.cohort_summary
+    if not _f(cs.get("n_cohorts")) > 0:
         return ["No cohort completed its holding period.", ""]
-    line1 = (f"{int((ex > 0).sum())} of {len(ex)} cohorts ({fmt_pct((ex > 0).mean(), 0)}) of the cheapest quantile "
-             f"beat the {bt.comparison} over {bt.holding_months} month(s); mean excess {fmt_pct(ex.mean(), 2)}.")
-    line2 = (f"Best cohort formed {month(ex.idxmax())} ({fmt_pct(ex.max(), 1)}), worst formed {month(ex.idxmin())} "
-             f"({fmt_pct(ex.min(), 1)}).")
+    line1 = (f"{int(cs['n_beat'])} of {int(cs['n_cohorts'])} cohorts ({fmt_pct(cs['share_beat'], 0)}) of the "
+             f"cheapest quantile beat the {bt.comparison} over {bt.holding_months} month(s); mean excess "
+             f"{fmt_pct(cs['mean_excess'], 2)}.")
+    line2 = (f"Best cohort formed {month(cs['best_formed'])} ({fmt_pct(cs['best_excess'], 1)}), worst formed "
+             f"{month(cs['worst_formed'])} ({fmt_pct(cs['worst_excess'], 1)}).")
     return [line1, line2]
 
 
 def _coverage(result: StudyResult, h: int, panel: Any) -> list[str]:
     if panel is None:
         return ["No panel was given.", ""]
-    mask = panel.valid_price_mask()
-    per = mask.sum(axis=1)
-    line1 = (f"{mask.shape[1]} securities over {mask.shape[0]} month-ends ({span(panel.dates)}); "
-             f"{fmt_pct(mask.mean(), 0)} of the cells hold a valid price.")
-    line2 = (f"Names with a price per month-end range from {int(per.min())} to {int(per.max())}; "
-             f"the study's universe averaged {fmt_num(result.universe.sum(axis=1)[lambda s: s > 0].mean(), 0)} names.")
+    cov = result.coverage
+    line1 = (f"{int(cov['n_securities'])} securities over {int(cov['n_dates'])} month-ends ({span(panel.dates)}); "
+             f"{fmt_pct(cov['share_valid'], 0)} of the cells hold a valid price.")
+    line2 = (f"Names with a price per month-end range from {int(cov['min_names'])} to {int(cov['max_names'])}; "
+             f"the study's universe averaged {fmt_num(cov['mean_universe_names'], 0)} names.")
     return [line1, line2]
 
 

@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
-from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, message_figure, span
+from valuesift.app.figures.common import base_figure, finite_dates, fmt_num, fmt_pct, message_figure, span
 from valuesift.app.figures.theme import CHEAP, SERIES
 from valuesift.core.result import StudyResult
 
@@ -25,17 +25,18 @@ def _label(col: str) -> str:
 
 
 def stats_text(result: StudyResult, col: str) -> str:
-    """One portfolio's statistics in a short line (annual return, Sharpe with its rough t, worst drawdown)."""
+    """One portfolio's statistics in a short line (annual return, Sharpe with its t, worst drawdown).
+
+    The Sharpe ratio's t is ``result.sharpe_inference`` (Lo 2002 standard error, iid months).
+    """
     st = result.backtest.stats
     if col not in st.index:
         return ""
     r = st.loc[col]
-    n = float(r.get("n_months", np.nan))
-    sharpe = float(r.get("sharpe", np.nan))
-    # t of the mean monthly excess return = Sharpe (annual) x sqrt(years): common practice approximation.
-    t = sharpe * np.sqrt(n / 12.0) if np.isfinite(n) and n > 0 and np.isfinite(sharpe) else np.nan
-    return (f"{_label(col)}: {fmt_pct(r.get('ann_return'), 1)} a year, Sharpe {fmt_num(sharpe, 2)} "
-            f"(t ~ {fmt_num(t, 2)}), worst drawdown {fmt_pct(r.get('max_drawdown'), 0)}")
+    si = result.sharpe_inference
+    t = si.loc[col, "t"] if col in si.index else np.nan
+    return (f"{_label(col)}: {fmt_pct(r.get('ann_return'), 1)} a year, Sharpe {fmt_num(r.get('sharpe'), 2)} "
+            f"(t = {fmt_num(t, 2)}), worst drawdown {fmt_pct(r.get('max_drawdown'), 0)}")
 
 
 def _months(result: StudyResult) -> pd.DatetimeIndex:
@@ -108,19 +109,16 @@ def cohort_figure(result: StudyResult) -> go.Figure:
     if c is None or c.empty or "excess" not in c.columns:
         return message_figure(title, "No cohort completed its holding period.")
     ex = pd.to_numeric(c["excess"], errors="coerce")
-    ok = np.isfinite(ex.to_numpy(dtype=float))
-    ex = ex[ok]
+    ex = ex[np.isfinite(ex.to_numpy(dtype=float))]
     if ex.empty:
         return message_figure(title, "No cohort completed its holding period.")
-    n = int(ex.size)
-    beat = int((ex > 0).sum())
-    mean = float(ex.mean())
-    sd = float(ex.std(ddof=1)) if n > 1 else np.nan
-    # Overlapping cohorts are not independent; the naive t is stated as an upper bound (common practice caveat).
-    t = mean / (sd / np.sqrt(n)) if n > 1 and sd > 0 else np.nan
+    cs = result.cohort_summary
+    n = int(cs["n_cohorts"])
+    lags = int(cs["hac_lags"])
     subtitle = (f"{n} cohorts formed {span(ex.index)}, each held {bt.holding_months} month(s); "
-                f"{beat} of {n} ({fmt_pct(bt.cohort_share_beat, 0)}) beat it; mean excess {fmt_pct(mean)}, "
-                f"naive t = {fmt_num(t, 2)} (overlap makes it optimistic)")
+                f"{int(cs['n_beat'])} of {n} ({fmt_pct(cs['share_beat'], 0)}) beat it; mean excess "
+                f"{fmt_pct(cs['mean_excess'])}, Newey-West t = {fmt_num(cs['t_hac'], 2)} ({lags} lags for the "
+                f"overlap; naive t {fmt_num(cs['t_naive'], 2)})")
     fig = base_figure(title, subtitle, height=380)
     v = ex.to_numpy(dtype=float)
     fig.add_trace(go.Bar(x=ex.index, y=v, marker_color=[CHEAP if x > 0 else SERIES["dearest"] for x in v],

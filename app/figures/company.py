@@ -2,14 +2,12 @@
 
 from __future__ import annotations
 
-import warnings
-
 import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
 from valuesift.app.escape import chart_text
-from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_t, message_figure, month, span
+from valuesift.app.figures.common import base_figure, finite_dates, fmt_num, fmt_t, message_figure, month, span
 from valuesift.app.figures.study import return_label, signal_label
 from valuesift.app.figures.theme import CHEAP, DEAR, MUTED, diverging
 from valuesift.core.reporting.screen import security_history
@@ -19,22 +17,10 @@ __all__ = ["signal_history_figure", "later_returns_figure"]
 
 
 def _bands(result: StudyResult) -> tuple[pd.Series, pd.DataFrame, pd.Series]:
-    """Per date: universe median of the raw signal, the quantile breakpoints (k/q) and the name count."""
-    raw = result.signal_raw.to_numpy(dtype=float)
-    uni = result.universe.reindex_like(result.signal_raw).fillna(False).to_numpy(dtype=bool)
-    x = np.where(uni & np.isfinite(raw), raw, np.nan)
-    n = np.isfinite(x).sum(axis=1)
-    q = result.config.n_quantiles
-    probs = [k / q for k in range(1, q)]
-    med = np.full(x.shape[0], np.nan)
-    bps = np.full((x.shape[0], len(probs)), np.nan)
-    ok = n >= max(3, q)
-    if ok.any():
-        qs = np.nanquantile(x[ok], [0.5, *probs], axis=1)
-        med[ok] = qs[0]
-        bps[ok] = qs[1:].T
-    idx = result.signal_raw.index
-    return pd.Series(med, idx), pd.DataFrame(bps, index=idx, columns=probs), pd.Series(n, idx)
+    """Per date: universe median of the raw signal, the quantile breakpoints and the name count (result fields)."""
+    b = result.signal_bands
+    cols = [c for c in b.columns if str(c).startswith("b")]
+    return b["median"], b[cols], b["n_names"]
 
 
 def _rgba(hex_colour: str, alpha: float) -> str:
@@ -56,7 +42,8 @@ def signal_history_figure(result: StudyResult, security: str) -> go.Figure:
     last = dates.max()
     qnow = result.quantile.loc[last, security] if security in result.quantile.columns else np.nan
     label = "" if not np.isfinite(qnow) else f"; quantile {int(q - qnow + 1)} of {q} (1 = cheapest) on {month(last)}"
-    subtitle = (f"{len(dates)} month-ends with a value ({span(dates)}); universe of {fmt_num(n[n > 0].mean(), 0)} names "
+    subtitle = (f"{len(dates)} month-ends with a value ({span(dates)}); universe of "
+                f"{fmt_num(result.coverage.get('mean_universe_names'), 0)} names "
                 f"on average; bands: the universe's {q} quantiles (blue = cheaper, brown = dearer){label}")
     fig = base_figure(title, subtitle, wide=True)
     colours = diverging(q)
@@ -87,15 +74,8 @@ def later_returns_figure(result: StudyResult, security: str, horizon: int) -> go
     dates = finite_dates(fwd)
     if len(dates) == 0:
         return message_figure(title, "No forward return can be measured for this security.")
-    uni = result.universe.reindex_like(result.forward_returns[horizon]).fillna(False).to_numpy(dtype=bool)
-    allf = np.where(uni, result.forward_returns[horizon].to_numpy(dtype=float), np.nan)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)   # all-NaN dates give NaN, as intended
-        med = np.nanmedian(allf, axis=1)
-    both = np.isfinite(hist["signal_z"].to_numpy(dtype=float)) & np.isfinite(hist["return_z"].to_numpy(dtype=float))
-    n = int(both.sum())
-    r = float(np.corrcoef(hist["signal_z"].to_numpy()[both], hist["return_z"].to_numpy()[both])[0, 1]) if n > 2 else np.nan
-    t = r * np.sqrt((n - 2) / (1 - r * r)) if n > 2 and np.isfinite(r) and abs(r) < 1 else np.nan
+    med = result.forward_return_median[horizon].to_numpy(dtype=float)
+    r, t, n = hist.attrs["correlation"], hist.attrs["correlation_t"], hist.attrs["n_pairs"]
     subtitle = (f"{len(dates)} dates ({span(dates)}); its signal z against its return z: r = {fmt_num(r, 2)}, "
                 f"t = {fmt_t(t)} over {n} overlapping dates (one name: weak evidence)")
     fig = base_figure(title, subtitle, height=400, wide=True)

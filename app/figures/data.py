@@ -6,7 +6,8 @@ import numpy as np
 import plotly.graph_objects as go
 
 from valuesift.app.escape import chart_texts
-from valuesift.app.figures._common import base_figure, message_figure, span
+from valuesift.core.reporting.coverage import price_coverage
+from valuesift.app.figures.common import base_figure, message_figure, span
 from valuesift.app.figures.theme import CHEAP, GRID
 from valuesift.core.panel import Panel
 
@@ -30,10 +31,10 @@ def coverage_figure(panel: Panel, *, max_rows: int = 400) -> go.Figure:
     step = max(1, int(np.ceil(len(order) / max_rows)))
     shown = order[::step]
     z = mask[:, shown].T.astype(float)
-    per_date = mask.sum(axis=1)
-    share = mask.mean()
+    cov = price_coverage(panel)
     subtitle = (f"{len(secs)} securities x {len(dates)} month-ends ({span(dates)}); "
-                f"{share:.0%} of cells valid; names with a price per date: {int(per_date.min())} to {int(per_date.max())}"
+                f"{cov['share_valid']:.0%} of cells valid; names with a price per date: "
+                f"{int(cov['min_names'])} to {int(cov['max_names'])}"
                 + (f"; every {step}th security drawn" if step > 1 else ""))
     height = int(min(900, max(420, 160 + 5 * len(shown))))
     fig = base_figure(title, subtitle, height=height, wide=True)

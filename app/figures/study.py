@@ -13,9 +13,10 @@ import pandas as pd
 import plotly.graph_objects as go
 
 from valuesift.app.escape import chart_text, chart_texts
-from valuesift.app.figures._common import base_figure, finite_dates, fmt_num, fmt_pct, fmt_t, message_figure, month, span
+from valuesift.app.figures.common import base_figure, finite_dates, fmt_num, fmt_pct, fmt_t, message_figure, month, span
 from valuesift.app.figures.theme import CHEAP, MUTED, SERIES, diverging
 from valuesift.core.result import StudyResult
+from valuesift.core.study.derived import POOLED_BINS
 
 __all__ = [
     "signal_label",
@@ -65,7 +66,7 @@ def ic_by_horizon_figure(result: StudyResult) -> go.Figure:
     hi = s["ci_high"].to_numpy(dtype=float)
     used = [finite_dates(result.rank_ic[h]) for h in hs]
     all_dates = pd.DatetimeIndex(sorted(set().union(*[set(u) for u in used])))
-    names = fmt_num(s["mean_breadth"].mean(), 0)
+    names = fmt_num(result.coverage.get("mean_ic_breadth"), 0)
     subtitle = (f"Sample {span(all_dates)}, about {names} names a date; bars: mean of monthly rank ICs, "
                 f"whiskers: 95% Newey-West interval")
     fig = base_figure(title, subtitle)
@@ -125,9 +126,8 @@ def quantile_returns_figure(result: StudyResult, horizon: int, *, annualised: bo
     n = len(qs)
     names = [f"{q}<br>{'dearest' if q == 1 else 'cheapest' if q == n else ''}" for q in qs]
     ss = result.spread_summary.loc[horizon]
+    per_q = fmt_num(result.spread_facts.loc[horizon, "names_per_quantile"], 0)
     dates = finite_dates(result.spread[horizon])
-    counts = result.quantile_counts.reindex(dates)
-    per_q = fmt_num(counts.mean().mean(), 0) if len(counts) else "n/a"
     subtitle = (f"Sample {span(dates)}, {int(ss['n_dates'])} dates, about {per_q} names per quantile; "
                 f"cheapest minus dearest {fmt_pct(ss['mean'])} per {horizon} m, Newey-West t = {fmt_t(ss['t_hac'])}; "
                 f"monotonicity {fmt_num(ss['monotonicity'], 2)}")
@@ -157,31 +157,20 @@ def spread_over_time_figure(result: StudyResult, horizon: int) -> go.Figure:
     fig.add_trace(go.Bar(x=s.index, y=v, name="spread at each date",
                          marker_color=[CHEAP if x >= 0 else SERIES["dearest"] for x in np.nan_to_num(v)],
                          hovertemplate="%{x|%b %Y}: %{y:.2%}<extra></extra>"))
-    roll = s.rolling(12, min_periods=6).mean()
-    fig.add_trace(go.Scatter(x=roll.index, y=roll.to_numpy(dtype=float), mode="lines",
-                             name="rolling mean, 12 dates", line=dict(color=SERIES["rolling_long"], width=2.6)))
+    for (h, w), roll in result.rolling_spread.items():
+        if int(h) != int(horizon) or int(w) != 12:
+            continue
+        fig.add_trace(go.Scatter(x=roll.index, y=roll.to_numpy(dtype=float), mode="lines",
+                                 name="rolling mean, 12 dates", line=dict(color=SERIES["rolling_long"], width=2.6)))
     fig.update_yaxes(title_text="cheapest minus dearest", tickformat=".0%")
     return fig
 
 
-def _ols(x: np.ndarray, y: np.ndarray) -> tuple[float, float, float]:
-    """Intercept, slope and the slope's classical t-statistic of y on x."""
-    xm, ym = x.mean(), y.mean()
-    sxx = float(((x - xm) ** 2).sum())
-    if x.size < 3 or sxx <= 0:
-        return float("nan"), float("nan"), float("nan")
-    b = float(((x - xm) * (y - ym)).sum() / sxx)
-    a = float(ym - b * xm)
-    resid = y - a - b * x
-    s2 = float((resid ** 2).sum() / (x.size - 2))
-    se = np.sqrt(s2 / sxx) if s2 > 0 else float("nan")
-    return a, b, (b / se if np.isfinite(se) and se > 0 else float("nan"))
-
-
-def scatter_figure(result: StudyResult, horizon: int, date: object | None = None, *, bins: int = 20) -> go.Figure:
+def scatter_figure(result: StudyResult, horizon: int, date: object | None = None) -> go.Figure:
     """Signal z-score against forward return on one date, or pooled over all dates in bins.
 
-    The fitted least-squares line is drawn; the IC (and its t) is written on the chart.
+    The fitted least-squares line (``cross_section_fit`` or ``pooled_fit``) is drawn; the IC and its t
+    are written on the chart.  The pooled view draws the result's ``pooled_bins``.
     """
     fwd = result.forward_returns[horizon]
     z = result.signal_z.reindex(index=fwd.index, columns=fwd.columns)
@@ -196,7 +185,8 @@ def scatter_figure(result: StudyResult, horizon: int, date: object | None = None
         x, y = x[ok], y[ok]
         if x.size < 3:
             return message_figure(title, f"Only {x.size} names have both a signal and a forward return on {month(d)}.")
-        a, b, t = _ols(x, y)
+        fit = result.cross_section_fit[horizon].loc[d]
+        a, b, t = float(fit["intercept"]), float(fit["slope"]), float(fit["t_slope"])
         ic = result.rank_ic.loc[d, horizon] if d in result.rank_ic.index else np.nan
         subtitle = (f"{x.size} names on one date; rank IC {fmt_num(ic)}; fitted slope "
                     f"{fmt_pct(b)} per z, OLS t = {fmt_t(t)} (one cross-section)")
@@ -207,26 +197,22 @@ def scatter_figure(result: StudyResult, horizon: int, date: object | None = None
         label = f"rank IC = {fmt_num(ic)}<br>slope t = {fmt_t(t)}"
     else:
         title = f"Signal against {horizon}-month forward return, all dates pooled"
-        x, y = z.to_numpy(dtype=float).ravel(), fwd.to_numpy(dtype=float).ravel()
-        ok = np.isfinite(x) & np.isfinite(y)
-        x, y = x[ok], y[ok]
-        if x.size < 3 * bins:
-            return message_figure(title, f"Only {x.size} signal/return pairs over all dates.")
-        a, b, _ = _ols(x, y)
-        edges = np.unique(np.quantile(x, np.linspace(0, 1, bins + 1)))
-        which = np.clip(np.searchsorted(edges, x, side="right") - 1, 0, len(edges) - 2)
-        cnt = np.bincount(which, minlength=len(edges) - 1)
-        keep = cnt > 0
-        bx = np.bincount(which, weights=x, minlength=len(edges) - 1)[keep] / cnt[keep]
-        by = np.bincount(which, weights=y, minlength=len(edges) - 1)[keep] / cnt[keep]
+        pf = result.pooled_fit.loc[horizon]
+        n_pairs = int(pf["n_pairs"])
+        if n_pairs < 3 * POOLED_BINS:
+            return message_figure(title, f"Only {n_pairs} signal/return pairs over all dates.")
+        a, b = float(pf["intercept"]), float(pf["slope"])
+        binned = result.pooled_bins[horizon]
+        bx = binned["x_mean"].to_numpy(dtype=float)
+        by = binned["y_mean"].to_numpy(dtype=float)
         row = _ic_row(result, horizon)
         n_dates = int(finite_dates(result.rank_ic[horizon]).size)
-        subtitle = (f"{x.size:,} pairs over {n_dates} dates in {int(keep.sum())} equal-count bins; "
+        subtitle = (f"{n_pairs:,} pairs over {n_dates} dates in {len(binned)} equal-count bins; "
                     f"mean rank IC {fmt_num(row['mean_ic'])}, Newey-West t = {fmt_t(row['t_hac'])}")
         fig = base_figure(title, subtitle)
         fig.add_trace(go.Scatter(x=bx, y=by, mode="markers", name="bin mean",
                                  marker=dict(color=CHEAP, size=12, line=dict(width=1, color="white")),
-                                 customdata=cnt[keep],
+                                 customdata=binned["count"].to_numpy(),
                                  hovertemplate="z %{x:.2f}: mean return %{y:.2%} (%{customdata} pairs)<extra></extra>"))
         x = bx
         label = f"mean rank IC = {fmt_num(row['mean_ic'])}<br>Newey-West t = {fmt_t(row['t_hac'])}"

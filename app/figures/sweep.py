@@ -13,7 +13,7 @@ import plotly.graph_objects as go
 from valuesift.app.escape import chart_texts
 from valuesift.app.browser import find_browser
 
-from valuesift.app.figures._common import base_figure, message_figure
+from valuesift.app.figures.common import base_figure, message_figure
 from valuesift.app.figures.theme import CHEAP, DEAR, NEUTRAL
 
 __all__ = ["heatmap_cells", "sweep_heatmap_figure", "write_heatmap"]

@@ -9,10 +9,12 @@ from dash import Input, Output, State, dcc, html, no_update
 
 from valuesift.app.components.common import GRAPH_CONFIG, text_table
 from valuesift.app.figures.company import later_returns_figure, signal_history_figure
-from valuesift.app.figures._common import message_figure
+from valuesift.app.figures.common import message_figure
 from valuesift.app.ids import decode_id
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state
+from valuesift.app.settings import shown_horizon
+from valuesift.app.words import SECURITY_COLUMN_WORDS, screen_in_words, security_flag_words
 from valuesift.core.reporting.screen import SINGLE_NAME_CAUTION
 
 dash.register_page(__name__, path_template="/company/<code>", name="Company", nav=False, order=9,
@@ -59,7 +61,7 @@ def _horizons(job: Any, current: Any) -> Any:
     if res is None:
         return no_update, no_update
     hs = list(res.config.horizons)
-    return [{"label": f"{h} m", "value": h} for h in hs], current if current in hs else (12 if 12 in hs else hs[0])
+    return [{"label": f"{h} m", "value": h} for h in hs], shown_horizon(hs, current)
 
 
 @dash.callback(
@@ -80,14 +82,15 @@ def _company(job: Any, horizon: Any, security: Any, sel: Any) -> Any:
     if sec not in res.signal_raw.columns:
         msg = message_figure("", f"{sec} is not among the securities of the data in use.")
         return msg, msg, "", None
-    h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]
+    h = shown_horizon(res.config.horizons, horizon)
     info = res.security_info.loc[sec] if sec in res.security_info.index else None
     facts = []
     if info is not None:
         facts.append(f"Sector: {info.get('sector') if isinstance(info.get('sector'), str) else 'not given'}")
         w = info.get("holding_weight")
         facts.append(f"holding weight {w:.2%}" if isinstance(w, float) and w == w else "not held")
-    row = res.screen.loc[sec] if sec in res.screen.index else None
+    screen = screen_in_words(res.screen, res.config.n_quantiles)
+    row = screen.loc[sec] if sec in screen.index else None
     if row is not None:
         facts.append(f"P/E {row['pe_display']}" if row["pe_display"] else "no P/E")
         if row["quantile_label"]:
@@ -103,10 +106,10 @@ def _company(job: Any, horizon: Any, security: Any, sel: Any) -> Any:
             for k in rep.securities.columns:
                 v = r[k]
                 if k == "flags":
-                    v = "; ".join(x.replace("_", " ") for x in str(v or "").split(";") if x) or "none"
+                    v = security_flag_words(v) or "none"
                 elif k == "coverage" and isinstance(v, float):
                     v = f"{v:.1%}"
-                flags.append((k.replace("_", " "), v))
+                flags.append((SECURITY_COLUMN_WORDS.get(k, k.replace("_", " ")), v))
     except Exception:  # flags are a convenience; the Data page shows intake problems
         pass
     return (signal_history_figure(res, sec), later_returns_figure(res, sec, h), ", ".join(facts),

@@ -263,7 +263,7 @@ def _use(values: Any, ids: Any, sel_raw: Any) -> Any:
     Input("vs-selection", "data"), Input(f"{P}-version", "data"),
 )
 def _panel_view(sel_raw: Any, _v: Any) -> Any:
-    from valuesift.app.figures._common import message_figure
+    from valuesift.app.figures.common import message_figure
 
     st = state()
     sel = normalise_selection(sel_raw)

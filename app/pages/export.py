@@ -8,12 +8,14 @@ import dash
 from dash import Input, Output, State, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
-from valuesift.app.bundle import CHARTS, NO_BROWSER_HINT, TABLES, default_horizon, find_browser
+from valuesift.app.bundle import CHARTS, NO_BROWSER_HINT, TABLES, find_browser
 from valuesift.app.bundle.jobs import get_export, start_export
 from valuesift.app.components.common import field
-from valuesift.app.figures._common import span
+from valuesift.app.figures.common import span
 from valuesift.app.figures.study import signal_label
 from valuesift.app.jobs_ui import alert, job_components, register_job_callbacks
+from valuesift.app.settings import shown_horizon
+from valuesift.app.sweeps import list_sweeps, load_named_sweep
 from valuesift.app.services import finished_result, normalise_selection, state
 from valuesift.core.errors import ValueSiftError
 
@@ -31,8 +33,6 @@ def _browser_hint() -> Any:
 
 
 def _sweep_options() -> list[dict[str, str]]:
-    from valuesift.app.pages.sweep import list_sweeps
-
     try:
         names = list_sweeps(state().workspace.root)
     except Exception:  # outside a request (unit tests of the layout)
@@ -105,7 +105,7 @@ def _study(job: Any, current: Any) -> Any:
         ", ".join(str(h) for h in hs), f" months, {span(used.index)}, about {used.mean():.0f} names ",
         f"(study {str(job.get('key'))[-8:]}, as on the Study page).",
     ])
-    value = current if current in hs else default_horizon(res)
+    value = shown_horizon(hs, current)
     return [{"label": f"{h} months", "value": h} for h in hs], value, line
 
 
@@ -133,13 +133,10 @@ def _build(n: Any, job: Any, sel: Any, name: Any, title: Any, note: Any, horizon
         return no_update, True, True, alert(str(err)), False, None
     sweep = None
     if sweep_name:
-        from valuesift.app.pages.sweep import list_sweeps, sweep_root
-        from valuesift.core.sweep import load_sweep
-
         if sweep_name not in list_sweeps(st.workspace.root):  # only listed folder names are ever read
             return no_update, True, True, alert(f"No finished sweep named {sweep_name!r} in this workspace."), False, None
         try:
-            sweep = load_sweep(sweep_root(st.workspace.root) / sweep_name)
+            sweep = load_named_sweep(st.workspace.root, sweep_name)
         except ValueSiftError as err:
             return no_update, True, True, alert(str(err)), False, None
     include = [f"chart:{c}" for c in (charts or [])] + [f"table:{t}" for t in (tables or [])]

@@ -10,7 +10,7 @@ from dash.dash_table import FormatTemplate
 from dash.dash_table.Format import Format, Scheme
 from dash.exceptions import PreventUpdate
 
-from valuesift.app.figures._common import month
+from valuesift.app.figures.common import month
 from valuesift.app.ids import company_path
 from valuesift.app.jobs_ui import alert, job_components, register_job_callbacks
 from valuesift.app.screen_table import COLUMNS, apply_filter, apply_sort, display_frame, page, to_csv_bytes, to_xlsx_bytes

@@ -9,11 +9,13 @@ from dash import Input, Output, State, dcc, html, no_update
 
 from valuesift.app.components.common import chart, field, panel_choices
 from valuesift.app.figures import study as fs
-from valuesift.app.figures._common import month
+from valuesift.app.figures.common import month
 from valuesift.app.figures.cache import HORIZON_CHARTS, scatter_for, study_figures, warm_study
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state
-from valuesift.app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES
+from valuesift.app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES, bounds, help_text, label, options, shown_horizon
+from valuesift.app.sweeps import settings_from_query
+from valuesift.core.settings import SETTING_BY_NAME
 
 dash.register_page(__name__, path="/study", name="Study", order=1, title="ValueSift - Study")
 
@@ -26,53 +28,60 @@ _PERSIST = dict(persistence=True, persistence_type="local")
 _CHARTS = ["ic-horizon", "ic-time", "quantiles", "spread", "fm", "growth", "drawdown", "cohorts"]
 
 
+def _number(name: str, cid: str, value: Any, persist: dict[str, Any], step: float = 1) -> Any:
+    """A number control with its label, range and help sentence from the settings table."""
+    return field(label(name), dcc.Input(id=f"{P}-{cid}", type="number", step=step, value=value, debounce=True,
+                                        **bounds(name), **persist), help_text(name))
+
+
 def _controls(d: dict[str, Any] = _D, persist: dict[str, Any] = _PERSIST) -> html.Fieldset:
+    q = SETTING_BY_NAME["n_quantiles"]
     return html.Fieldset(id=f"{P}-controls", className="vs-controls", children=[
         html.Legend("Study settings"),
-        field("Signal", dcc.Dropdown(id=f"{P}-signal", options=_SIGNALS, value=d["signal"], clearable=False, **persist)),
-        field("Universe", dcc.RadioItems(id=f"{P}-universe", value=d["universe"], options=[
-            {"label": "All securities", "value": "all"}, {"label": "Chosen sectors", "value": "sectors"},
-            {"label": "The holdings", "value": "holdings"}], **persist)),
-        field("Sectors", dcc.Dropdown(id=f"{P}-sectors", multi=True, value=list(d.get("universe_sectors") or []), placeholder="pick one or more", **persist)),
-        field("Minimum history (months)", dcc.Input(id=f"{P}-min-history", type="number", min=0, max=240, step=1,
-                                                    value=d["min_history_months"], debounce=True, **persist)),
-        field("Horizons (months)", dcc.Checklist(id=f"{P}-horizons", value=d["horizons"], inline=True,
-                                                 options=[{"label": str(h), "value": h} for h in HORIZON_CHOICES],
-                                                 **persist), "all chosen horizons are computed in one study"),
-        field("Quantiles", dcc.Dropdown(id=f"{P}-quantiles", value=d["n_quantiles"], clearable=False,
-                                        options=[{"label": str(q), "value": q} for q in range(2, 11)], **persist)),
-        field("Outliers", dcc.Dropdown(id=f"{P}-outliers", value=d["outlier_rule"], clearable=False, options=[
-            {"label": "Winsorise at percentiles", "value": "winsorise"},
-            {"label": "Clip beyond 3 robust z", "value": "clip_robust_z"},
-            {"label": "Leave as they are", "value": "none"}], **persist)),
-        field("Winsorise: lower percentile", dcc.Input(id=f"{P}-winsor", type="number", min=0, max=49, step=0.5,
-                                                       value=d["winsor_lower"], debounce=True, **persist),
-              "the upper one mirrors it (1 means 1st and 99th)"),
-        field("Z-score", dcc.RadioItems(id=f"{P}-zscore", value=d["zscore_method"], options=[
-            {"label": "mean and standard deviation", "value": "mean_std"},
-            {"label": "median and MAD (robust)", "value": "median_mad"}], **persist)),
-        field("Sector neutral", dcc.Checklist(id=f"{P}-neutral", value=["on"] if d.get("sector_neutral") else [], options=[
-            {"label": "compare each name with its own sector", "value": "on"}], **persist)),
-        field("Reporting lag (months)", dcc.Input(id=f"{P}-lag", type="number", min=0, max=24, step=1,
-                                                  value=d["reporting_lag_months"], debounce=True, **persist),
-              "delay before an EPS figure is treated as known"),
-        field("Dividends", dcc.RadioItems(id=f"{P}-dividends", value=d["dividend_treatment"], options=[
-            {"label": "reinvested", "value": "reinvest"}, {"label": "kept as cash", "value": "uninvested"}], **persist)),
-        field("Returns measured", dcc.RadioItems(id=f"{P}-excess", value=d["excess_over"], options=[
-            {"label": "as total returns", "value": "none"}, {"label": "over the universe mean", "value": "universe"},
-            {"label": "over the benchmark", "value": "benchmark"}], **persist)),
-        field("Backtest holding (months)", dcc.Input(id=f"{P}-holding", type="number", min=1, max=60, step=1,
-                                                     value=d["holding_months"], debounce=True, **persist)),
-        field("Trading cost (basis points)", dcc.Input(id=f"{P}-cost", type="number", min=0, max=1000, step=1,
-                                                       value=d["transaction_cost_bps"], debounce=True, **persist)),
+        field(label("signal"), dcc.Dropdown(id=f"{P}-signal", options=_SIGNALS, value=d["signal"], clearable=False,
+                                            **persist), help_text("signal")),
+        field(label("universe"), dcc.RadioItems(id=f"{P}-universe", value=d["universe"], options=options("universe"),
+                                                **persist), help_text("universe")),
+        field(label("universe_sectors"), dcc.Dropdown(id=f"{P}-sectors", multi=True,
+                                                      value=list(d.get("universe_sectors") or []),
+                                                      placeholder="pick one or more", **persist),
+              help_text("universe_sectors")),
+        _number("min_history_months", "min-history", d["min_history_months"], persist),
+        _number("min_breadth", "min-breadth", d["min_breadth"], persist),
+        field(label("horizons"), dcc.Checklist(id=f"{P}-horizons", value=d["horizons"], inline=True,
+                                               options=[{"label": str(h), "value": h} for h in HORIZON_CHOICES],
+                                               **persist),
+              help_text("horizons") + " All chosen horizons are computed in one study."),
+        field(label("n_quantiles"), dcc.Dropdown(id=f"{P}-quantiles", value=d["n_quantiles"], clearable=False,
+                                                 options=[{"label": str(k), "value": k}
+                                                          for k in range(int(q.lo or 2), int(q.hi or 10) + 1)],
+                                                 **persist), help_text("n_quantiles")),
+        field(label("outlier_rule"), dcc.Dropdown(id=f"{P}-outliers", value=d["outlier_rule"], clearable=False,
+                                                  options=options("outlier_rule"), **persist), help_text("outlier_rule")),
+        field(label("winsor_percentiles") + ": lower", dcc.Input(id=f"{P}-winsor", type="number", min=0, max=49,
+                                                                 step=0.5, value=d["winsor_lower"], debounce=True,
+                                                                 **persist),
+              help_text("winsor_percentiles") + " The upper one mirrors it (1 means 1st and 99th)."),
+        field(label("zscore_method"), dcc.RadioItems(id=f"{P}-zscore", value=d["zscore_method"],
+                                                     options=options("zscore_method"), **persist),
+              help_text("zscore_method")),
+        field(label("sector_neutral"), dcc.Checklist(id=f"{P}-neutral", value=["on"] if d.get("sector_neutral") else [],
+                                                     options=[{"label": "on", "value": "on"}], **persist),
+              help_text("sector_neutral")),
+        _number("reporting_lag_months", "lag", d["reporting_lag_months"], persist),
+        field(label("dividend_treatment"), dcc.RadioItems(id=f"{P}-dividends", value=d["dividend_treatment"],
+                                                          options=options("dividend_treatment"), **persist),
+              help_text("dividend_treatment")),
+        field(label("excess_over"), dcc.RadioItems(id=f"{P}-excess", value=d["excess_over"],
+                                                   options=options("excess_over"), **persist), help_text("excess_over")),
+        _number("holding_months", "holding", d["holding_months"], persist),
+        _number("transaction_cost_bps", "cost", d["transaction_cost_bps"], persist),
     ])
 
 
 def layout(**query: Any) -> html.Div:
     # Hook for the Sweep page: /study?sweep=NAME&point=ID opens that sweep configuration's settings
     # (own persistence key, so values kept from earlier visits do not override them).
-    from valuesift.app.pages.sweep import settings_from_query
-
     opened = settings_from_query(state().workspace.root, query) if query.get("sweep") else None
     return html.Div(className="vs-page vs-two-col", children=[
         html.Aside(_controls(opened, dict(persistence=f"sweep-{query.get('point')}", persistence_type="local"))
@@ -114,17 +123,19 @@ register_job_callbacks(P, controls_id=f"{P}-controls")
     Input(f"{P}-outliers", "value"), Input(f"{P}-winsor", "value"), Input(f"{P}-zscore", "value"),
     Input(f"{P}-neutral", "value"), Input(f"{P}-lag", "value"), Input(f"{P}-dividends", "value"),
     Input(f"{P}-excess", "value"), Input(f"{P}-holding", "value"), Input(f"{P}-cost", "value"),
+    Input(f"{P}-min-breadth", "value"),
     State("vs-settings", "data"),
 )
 def _settings(signal: Any, universe: Any, sectors: Any, min_hist: Any, horizons: Any, n_q: Any, outliers: Any,
               winsor: Any, zscore: Any, neutral: Any, lag: Any, dividends: Any, excess: Any, holding: Any,
-              cost: Any, old: Any) -> Any:
+              cost: Any, min_breadth: Any, old: Any) -> Any:
     new = {
         "signal": signal, "universe": universe, "universe_sectors": list(sectors or []),
         "min_history_months": min_hist, "horizons": sorted(horizons or []), "n_quantiles": n_q,
         "outlier_rule": outliers, "winsor_lower": winsor, "zscore_method": zscore,
         "sector_neutral": bool(neutral), "reporting_lag_months": lag, "dividend_treatment": dividends,
         "excess_over": excess, "holding_months": holding, "transaction_cost_bps": cost,
+        "min_breadth": min_breadth,
     }
     return no_update if new == old else new
 
@@ -155,7 +166,7 @@ def _horizons(job: Any, current: Any) -> Any:
     if res is None:
         return no_update, no_update, no_update
     hs = list(res.config.horizons)
-    value = current if current in hs else (12 if 12 in hs else hs[0])
+    value = shown_horizon(hs, current)
     dates = [d for d in res.rank_ic.index[res.rank_ic.notna().any(axis=1)]]
     opts = [{"label": "all dates pooled (binned)", "value": "pooled"}] + [
         {"label": month(d), "value": d.date().isoformat()} for d in reversed(dates)]
@@ -174,7 +185,7 @@ def _figures(job: Any, horizon: Any) -> Any:
             return (no_update,) * (len(_CHARTS) + 3)
         # No result (no data, or the study failed: the alert says why): show no stale charts.
         return (*([no_update] * len(_CHARTS)), None, None, True)
-    h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]
+    h = shown_horizon(res.config.horizons, horizon)
     built = study_figures(job["key"], res, h)
     warm_study(job["key"], res)  # the other horizons, in the background: later changes are look-ups
     if dash.ctx.triggered_id == f"{P}-horizon":
@@ -193,17 +204,18 @@ def _scatter(job: Any, horizon: Any, date: Any) -> Any:
     res = finished_result(job)
     if res is None:
         return no_update
-    h = int(horizon) if horizon in res.config.horizons else res.config.horizons[0]
+    h = shown_horizon(res.config.horizons, horizon)
     return scatter_for(job["key"], res, h, None if date in (None, "pooled") else str(date))
 
 
 def _summary(res: Any, h: int) -> Any:
     row = res.ic_summary.loc[h]
-    uni = res.universe.sum(axis=1)
-    uni = uni[uni > 0]
+    present = res.universe.index[res.universe.any(axis=1).to_numpy()]
+    cov = res.coverage
     return html.P([
-        html.Strong(fs.signal_label(res)), f" over {len(uni)} month-ends ({month(uni.index.min())} to ",
-        f"{month(uni.index.max())}), {uni.mean():.0f} names on average. At {h} months the mean rank IC is ",
+        html.Strong(fs.signal_label(res)), f" over {int(cov['n_universe_dates'])} month-ends "
+        f"({month(present.min())} to {month(present.max())}), {cov['mean_universe_names']:.0f} names on average. "
+        f"At {h} months the mean rank IC is ",
         html.Strong(f"{row['mean_ic']:.3f}"), f" (Newey-West t = {row['t_hac']:.2f}, 95% interval ",
         f"{row['ci_low']:.3f} to {row['ci_high']:.3f}, {int(row['n_dates'])} dates).",
     ])

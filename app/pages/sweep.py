@@ -18,14 +18,18 @@ from urllib.parse import urlencode
 import dash
 from dash import Input, Output, State, dash_table, dcc, html, no_update
 
+from dash.dash_table.Format import Format, Scheme
+
+from valuesift.app.figures.sweep import sweep_heatmap_figure
 from valuesift.app.services import normalise_selection, state
+from valuesift.app.sweeps import list_sweeps, load_named_sweep, sweep_root
+from valuesift.core.settings import SETTINGS
 
 dash.register_page(__name__, path="/sweep", name="Sweep", order=3, title="ValueSift - Sweep")
 
 P = "sweep"
 
-__all__ = ["sweep_root", "list_sweeps", "table_columns", "table_records", "study_settings", "settings_from_query",
-           "layout"]
+__all__ = ["table_columns", "table_records", "layout"]
 
 #: Display columns: (id, header); the adjusted ones sit right after the raw t.
 _METRICS: tuple[tuple[str, str], ...] = (
@@ -37,34 +41,17 @@ _METRICS: tuple[tuple[str, str], ...] = (
 )
 
 
-def sweep_root(workspace_root: Path) -> Path:
-    """The folder of finished sweeps inside a workspace."""
-    return Path(workspace_root) / "sweeps"
-
-
-def list_sweeps(workspace_root: Path) -> list[str]:
-    """Names of the finished sweep folders (newest first)."""
-    root = sweep_root(workspace_root)
-    if not root.is_dir():
-        return []
-    found = [d for d in root.iterdir() if (d / "sweep.json").is_file() and (d / "comparison.parquet").is_file()]
-    return [d.name for d in sorted(found, key=lambda d: (d / "sweep.json").stat().st_mtime, reverse=True)]
-
-
-def _load(workspace_root: Path, name: Any) -> Any:
-    from valuesift.core.sweep import load_sweep
-
-    names = list_sweeps(workspace_root)
-    if not isinstance(name, str) or name not in names:  # only folders we listed: no path from the browser
-        return None
-    return load_sweep(sweep_root(workspace_root) / name)
+def _dimension_label(dim: str) -> str:
+    """A grid dimension's header: the label of the first setting it sets in the settings table."""
+    for st in SETTINGS:
+        if st.grid == dim:
+            return st.label
+    return dim.replace("_", " ")
 
 
 def table_columns(result: Any) -> list[dict[str, Any]]:
-    from dash.dash_table.Format import Format, Scheme
-
     cols: list[dict[str, Any]] = [{"id": "point_id", "name": "Configuration"}]
-    cols += [{"id": d, "name": d.replace("_", " ")} for d in result.dimensions]
+    cols += [{"id": d, "name": _dimension_label(d)} for d in result.dimensions]
     cols += [{"id": "horizon", "name": "Horizon (m)", "type": "numeric"}, {"id": "status", "name": "Status"}]
     for cid, name in _METRICS:
         fmt = Format(precision=0 if cid == "n_dates" else 3, scheme=Scheme.fixed)
@@ -79,46 +66,6 @@ def table_records(result: Any) -> list[dict[str, Any]]:
     t = result.table[keep].astype(object)
     t = t.where(t.notna(), None)
     return t.to_dict("records")
-
-
-def study_settings(config: dict[str, Any]) -> tuple[dict[str, Any], list[str]]:
-    """The Study page's settings for a sweep configuration, and the settings that page cannot show.
-
-    Returns ``(settings, not_shown)``: ``settings`` has the keys of
-    ``app.settings.DEFAULT_SETTINGS``; ``not_shown`` names the configuration's
-    settings that differ from the defaults but have no control on the Study page.
-    """
-    from valuesift.app.settings import DEFAULT_SETTINGS
-    from valuesift.core.config import StudyConfig
-
-    s = dict(DEFAULT_SETTINGS)
-    for k in s:
-        if k in config:
-            s[k] = config[k]
-    s["universe_sectors"] = list(config.get("universe_sectors") or [])
-    s["horizons"] = sorted(int(h) for h in config.get("horizons", s["horizons"]))
-    lo, hi = config.get("winsor_percentiles", (1.0, 99.0))
-    s["winsor_lower"] = float(lo)
-    default = StudyConfig().to_dict()
-    shown = set(DEFAULT_SETTINGS) | {"winsor_percentiles"}
-    not_shown = sorted(k for k, v in config.items() if k not in shown and default.get(k) != v)
-    if float(hi) != 100.0 - float(lo):
-        not_shown.append("winsor_percentiles (the page mirrors the lower one)")
-    return s, not_shown
-
-
-def settings_from_query(workspace_root: Path, query: dict[str, Any]) -> dict[str, Any] | None:
-    """Study settings for ``/study?sweep=NAME&point=ID`` (None when the query names no sweep point)."""
-    name, point = query.get("sweep"), query.get("point")
-    if not name or not point:
-        return None
-    try:
-        res = _load(workspace_root, name)
-    except Exception:  # a damaged folder: open the study page with its usual settings
-        return None
-    if res is None or point not in res.configs:
-        return None
-    return study_settings(res.configs[point])[0]
 
 
 def layout(**_: Any) -> html.Div:
@@ -151,10 +98,8 @@ def layout(**_: Any) -> html.Div:
     Input(f"{P}-pick", "value"), State("vs-selection", "data"),
 )
 def _show(name: Any, sel: Any) -> Any:
-    from valuesift.app.figures.sweep import sweep_heatmap_figure
-
     st = state()
-    res = _load(st.workspace.root, name)
+    res = load_named_sweep(st.workspace.root, name)
     if res is None:
         msg = ("No finished sweep in this workspace yet." if not list_sweeps(st.workspace.root)
                else "Choose a sweep above.")
@@ -164,7 +109,7 @@ def _show(name: Any, sel: Any) -> Any:
 
 
 def _data_note(st: Any, sel: Any, res: Any) -> str:
-    from valuesift.core.sweep import panel_fingerprint
+    from valuesift.core.sweep import panel_fingerprint  # statsmodels via core.sweep: ~2 s start-up (importtime)
 
     try:
         sel = normalise_selection(sel)
@@ -189,7 +134,7 @@ def _open(cell: Any, rows: Any, name: Any) -> Any:
     if not isinstance(i, int) or not 0 <= i < len(rows):
         return no_update, no_update
     point = rows[i].get("point_id")
-    res = _load(state().workspace.root, name)
+    res = load_named_sweep(state().workspace.root, name)
     if res is None or point not in res.configs:
         return no_update, "That configuration is no longer in the sweep folder."
     return "/study?" + urlencode({"sweep": name, "point": point}), None

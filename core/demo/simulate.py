@@ -19,7 +19,7 @@ from valuesift.core.demo import _constants as C
 from valuesift.core.demo._names import invent_names
 from valuesift.core.errors import ConfigError
 
-__all__ = ["DemoMarket", "DemoRoles", "DividendEvent", "simulate_demo", "month_end_dates"]
+__all__ = ["DemoMarket", "DemoRoles", "DividendEvent", "simulate_demo", "month_end_dates", "random_stream"]
 
 FloatArray = npt.NDArray[np.float64]
 BoolArray = npt.NDArray[np.bool_]
@@ -129,7 +129,8 @@ def month_end_dates(start: str = C.START_MONTH, n_months: int = C.N_MONTHS) -> t
     return tuple(dt.date.fromisoformat(str(d)) for d in ends)
 
 
-def _stream(seed: int, key: int) -> np.random.Generator:
+def random_stream(seed: int, key: int) -> np.random.Generator:
+    """The independent random generator of one part of the demo (``key``) for ``seed`` (NumPy SeedSequence spawn key)."""
     return np.random.default_rng(np.random.SeedSequence(seed, spawn_key=(key,)))
 
 
@@ -199,14 +200,14 @@ def simulate_demo(seed: int = C.DEFAULT_SEED) -> DemoMarket:
 
     # -- who is who -------------------------------------------------------------------
     sectors_unsorted = tuple(np.repeat(np.array(C.SECTOR_NAMES), C.SECTOR_SIZES).tolist())
-    names_u, codes_u = invent_names(sectors_unsorted, _stream(seed, _NAMES))
+    names_u, codes_u = invent_names(sectors_unsorted, random_stream(seed, _NAMES))
     order = np.argsort(np.array(codes_u), kind="stable")
     codes = tuple(codes_u[i] for i in order)
     names = tuple(names_u[i] for i in order)
     sectors = tuple(sectors_unsorted[i] for i in order)
     sector_index = np.array([C.SECTOR_NAMES.index(s) for s in sectors], dtype=np.int64)
 
-    rr = _stream(seed, _ROLES)
+    rr = random_stream(seed, _ROLES)
     pick = rr.permutation(N)
     late, delist, split, near0, cutter, prehist = (int(i) for i in pick[:6])
     loss = np.sort(pick[6 : 6 + C.N_LOSS_MAKERS])
@@ -228,14 +229,14 @@ def simulate_demo(seed: int = C.DEFAULT_SEED) -> DemoMarket:
     listed = (month_idx[:, None] >= first[None, :]) & (month_idx[:, None] < stop[None, :])
 
     # -- starting prices --------------------------------------------------------------
-    rp = _stream(seed, _PRICES0)
+    rp = random_stream(seed, _PRICES0)
     p0 = np.exp(rp.uniform(np.log(12.0), np.log(150.0), size=N))
     p0[heavy] = rp.uniform(1000.0, 3000.0, size=len(heavy))
     p0[split] = rp.uniform(550.0, 900.0)               # quoted at 2x before the split: above 1,000
     p0 = np.round(p0, 2)
 
     # -- latent earnings yield ---------------------------------------------------------
-    ry = _stream(seed, _YIELDS)
+    ry = random_stream(seed, _YIELDS)
     mu = np.array(C.SECTOR_MEAN_YIELD)[sector_index] + ry.normal(0.0, C.YIELD_COMPANY_SD, size=N)
     mu[loss] = C.LOSS_MAKER_YIELD
     phi = C.YIELD_PERSISTENCE
@@ -248,7 +249,7 @@ def simulate_demo(seed: int = C.DEFAULT_SEED) -> DemoMarket:
     y[:, near0] = np.linspace(0.06, -0.04, T) + 0.2 * (y[:, near0] - mu[near0])
 
     # -- return components -------------------------------------------------------------
-    rret = _stream(seed, _RETURNS)
+    rret = random_stream(seed, _RETURNS)
     market = rret.normal(C.MARKET_MEAN, C.MARKET_SD, size=T)
     sector_eff = rret.normal(0.0, C.SECTOR_SD, size=(T, len(C.SECTOR_NAMES)))
     idio = rret.normal(0.0, C.IDIO_SD, size=(T, N))
@@ -256,7 +257,7 @@ def simulate_demo(seed: int = C.DEFAULT_SEED) -> DemoMarket:
     sector_eff[0] = np.nan
     idio[0] = np.nan
 
-    rd = _stream(seed, _DIVIDENDS)
+    rd = random_stream(seed, _DIVIDENDS)
     ex_day = rd.integers(2, 29, size=(T, N))
 
     price = np.full((T, N), np.nan)
@@ -336,7 +337,7 @@ def simulate_demo(seed: int = C.DEFAULT_SEED) -> DemoMarket:
     events.sort(key=lambda e: (e.code, e.ex_date))
 
     index_level, bench = _levels(price, div, listed)
-    holdings = _holdings(codes, listed[-1], _stream(seed, _HOLDINGS))
+    holdings = _holdings(codes, listed[-1], random_stream(seed, _HOLDINGS))
     roles = DemoRoles(
         late_lister=codes[late], delister=codes[delist], split=codes[split], near_zero_eps=codes[near0],
         dividend_cutter=codes[cutter], pre_history_payer=codes[prehist],

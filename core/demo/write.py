@@ -19,7 +19,7 @@ import numpy as np
 
 from valuesift.core.demo import _constants as C
 from valuesift.core.demo._readme import readme_text
-from valuesift.core.demo.simulate import MESS_STREAM, DemoMarket, _stream, simulate_demo
+from valuesift.core.demo.simulate import MESS_STREAM, DemoMarket, random_stream, simulate_demo
 from valuesift.core.errors import ConfigError
 
 __all__ = [
@@ -155,7 +155,7 @@ def _regular_columns(m: DemoMarket) -> np.ndarray:
 
 
 def _prices_text(m: DemoMarket) -> str:
-    rng = _stream(m.seed, MESS_STREAM)
+    rng = random_stream(m.seed, MESS_STREAM)
     T, N = m.price.shape
     raw = _raw_prices(m)
     cells = np.where(np.isfinite(raw), np.vectorize(_money, otypes=[object])(np.nan_to_num(raw)), "").astype(object)
@@ -191,7 +191,7 @@ def _prices_text(m: DemoMarket) -> str:
 
 # -- earnings.csv --------------------------------------------------------------------------
 def _earnings_text(m: DemoMarket) -> str:
-    rng = _stream(m.seed, MESS_STREAM + 1)
+    rng = random_stream(m.seed, MESS_STREAM + 1)
     T, N = m.eps.shape
     cells = np.full((T, N), "", dtype=object)
     for t, j in zip(*np.nonzero(m.listed)):

@@ -8,7 +8,12 @@ import pandas as pd
 from valuesift.core.intake.options import PanelOptions
 from valuesift.core.intake.report import FileReport
 
-__all__ = ["security_table", "longest_flat_run"]
+__all__ = ["security_table", "longest_flat_run", "SECURITY_FLAGS"]
+
+
+#: The security flag codes a report lists, in the order it lists them (the app holds their words).
+SECURITY_FLAGS: tuple[str, ...] = ("late_listing", "delisted", "suspected_split", "split_adjusted", "stale",
+                                   "extreme_pe", "negative_earnings", "no_earnings", "looks_like_index")
 
 
 def longest_flat_run(values: np.ndarray) -> int:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import codecs
 import re
 from dataclasses import dataclass
 from typing import Any, get_args
@@ -89,8 +90,6 @@ class ReadOptions:
         if self.delimiter is not None and len(self.delimiter) != 1:
             raise ConfigError(f"Setting delimiter={self.delimiter!r} is not allowed.", hint="Give one character.")
         if self.encoding is not None:
-            import codecs
-
             try:
                 codecs.lookup(self.encoding)
             except LookupError as err:

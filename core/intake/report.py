@@ -133,23 +133,9 @@ class IntakeReport:
         hit = self.securities["flags"].fillna("").str.split(";").map(lambda xs: flag in xs)
         return sorted(self.securities.index[hit.to_numpy(dtype=bool)].tolist())
 
-    def to_text(self) -> str:
-        """The terminal report."""
-        parts = [f.to_text() for f in self.files]
-        sec = self.securities
-        parts.append(f"Securities: {len(sec)}")
-        if len(sec):
-            for flag in ("late_listing", "delisted", "suspected_split", "split_adjusted", "stale", "extreme_pe",
-                         "negative_earnings", "no_earnings", "looks_like_index"):
-                names = self.flagged(flag)
-                if names:
-                    shown = ", ".join(names[:8]) + (f" and {len(names) - 8} more" if len(names) > 8 else "")
-                    parts.append(f"  {flag}: {len(names)} ({shown})")
-            parts.append(f"  median coverage {float(sec['coverage'].median()):.1%}")
-        for _, r in self.suspected_splits.iterrows():
-            parts.append(f"  split? {r['security']} at {_d(r['date'])}: ratio {r['ratio']:g}, "
-                         f"{'applied' if r['applied'] else 'not applied (confirm to adjust)'}")
-        for _, r in self.alignment.iterrows():
-            parts.append(f"  alignment {r['file']}: {r['reason']} {int(r['count'])}")
-        parts.extend(f"  note: {n}" for n in self.panel_notes)
-        return "\n".join(parts)
+    @property
+    def median_coverage(self) -> float:
+        """Median over securities of their price coverage (NaN without securities)."""
+        if self.securities.empty or "coverage" not in self.securities:
+            return float("nan")
+        return float(self.securities["coverage"].median())

@@ -7,13 +7,14 @@ from typing import TYPE_CHECKING
 import numpy as np
 import pandas as pd
 
+from valuesift.core.correlation.pearson import pearson_with_t
 from valuesift.core.errors import ConfigError
 from valuesift.core.signals.clean import zscore_rows
 
 if TYPE_CHECKING:  # pragma: no cover
     from valuesift.core.result import StudyResult
 
-__all__ = ["screen_table", "security_history", "quantile_label", "SINGLE_NAME_CAUTION", "STALE_MONTHS",
+__all__ = ["screen_table", "security_history", "SCREEN_FLAGS", "SINGLE_NAME_CAUTION", "STALE_MONTHS",
            "STALE_EPS_MONTHS"]
 
 #: Months without a new price after which a name is flagged stale.
@@ -21,25 +22,15 @@ STALE_MONTHS = 3
 #: Months since the last EPS stamp after which the EPS is flagged old.
 STALE_EPS_MONTHS = 12
 
+#: The screen's flag codes, in the order they are listed (the app holds their words).
+SCREEN_FLAGS: tuple[str, ...] = ("outside_universe", "eps_not_positive", "stale_price", "old_eps", "no_quantile",
+                                 "no_signal")
+
 SINGLE_NAME_CAUTION = (
     "A single security's signal against its own later returns is a noisy relation: "
     "one name gives one observation per date, so patterns here prove little on their own. "
     "Judge the signal on the cross-sectional results."
 )
-
-
-def quantile_label(q: float, n_q: int) -> str:
-    """Label a quantile on the study's numbering (1 = dearest .. n = cheapest).
-
-    ``"5 of 5 (cheapest)"`` for q = n_q = 5, ``"1 of 5 (dearest)"`` for q = 1, plain
-    ``"3 of 5"`` between; the same numbers as the quantile charts, so a holding's
-    label on the screen reads the same as the bar it falls in.
-    """
-    if not np.isfinite(q):
-        return ""
-    k = int(q)
-    tail = " (cheapest)" if k == n_q else " (dearest)" if k == 1 else ""
-    return f"{k} of {n_q}{tail}"
 
 
 def _row_at(frame: pd.DataFrame | None, i: int, n: int) -> np.ndarray:
@@ -72,22 +63,21 @@ def screen_table(result: "StudyResult", date: object | None = None) -> pd.DataFr
     -------
     DataFrame indexed by security (cheapest first), columns: ``sector``,
     ``in_universe``, ``signal`` (raw units), ``pe`` (NaN where not meaningful),
-    ``pe_display`` (text; "not meaningful" for EPS <= 0), ``zscore``,
-    ``sector_zscore``, ``quantile`` (1 = dearest .. n = cheapest),
-    ``quantile_label`` (from cheapest to dearest), ``z_change_3m``,
+    ``has_eps`` (an EPS is in use, so a missing P/E means "not meaningful"), ``zscore``,
+    ``sector_zscore``, ``quantile`` (1 = dearest .. n = cheapest), ``z_change_3m``,
     ``z_change_12m``, ``months_since_price``, ``months_since_eps``,
-    ``holding_weight``, ``flags`` (``; ``-separated text).
+    ``holding_weight``, ``flags`` (codes of :data:`SCREEN_FLAGS`, ``;``-joined; the
+    app words them).  Codes and numbers only.
 
     Notes
     -----
     Changes in z are ``z_t - z_{t-3}`` and ``z_t - z_{t-12}`` of the evaluated
     z-score.  Rows: every security with a valid price within the last 12
-    months of the date.  The table has ``attrs["date"]`` (ISO).
+    months of the date.  The table has ``attrs["date"]`` (ISO) and ``attrs["n_quantiles"]``.
     """
     i = _resolve_date(result, date)
     secs = result.signal_z.columns
     n = len(secs)
-    n_q = result.config.n_quantiles
     z = _row_at(result.signal_z, i, n)
     z3 = z - _row_at(result.signal_z, i - 3, n) if i >= 3 else np.full(n, np.nan)
     z12 = z - _row_at(result.signal_z, i - 12, n) if i >= 12 else np.full(n, np.nan)
@@ -100,35 +90,28 @@ def screen_table(result: "StudyResult", date: object | None = None) -> pd.DataFr
     info = result.security_info.reindex(secs)
     eps_now = _row_at(result.eps_used, i, n)
     with np.errstate(invalid="ignore"):
-        parts = [
-            np.where(~uni, "outside universe; ", ""),
-            np.where(np.isfinite(eps_now) & (eps_now <= 0), "EPS zero or negative; ", ""),
-            np.where(np.isfinite(pa) & (pa >= STALE_MONTHS),
-                     np.char.add(np.char.add("no price for ", np.nan_to_num(pa).astype(int).astype(str)), " months; "),
-                     ""),
-            np.where(np.isfinite(ea) & (ea >= STALE_EPS_MONTHS),
-                     np.char.add(np.char.add("EPS ", np.nan_to_num(ea).astype(int).astype(str)), " months old; "),
-                     ""),
-            np.where(uni & ~np.isfinite(q), "no quantile on this date; ", ""),
-            np.where(~np.isfinite(raw), "no signal; ", ""),
+        hits = [
+            ~uni,
+            np.isfinite(eps_now) & (eps_now <= 0),
+            np.isfinite(pa) & (pa >= STALE_MONTHS),
+            np.isfinite(ea) & (ea >= STALE_EPS_MONTHS),
+            uni & ~np.isfinite(q),
+            ~np.isfinite(raw),
         ]
-    joined = parts[0].astype(str)
-    for p_ in parts[1:]:
-        joined = np.char.add(joined, p_.astype(str))
-    flags = np.char.rstrip(joined, "; ").tolist()
-    pe_disp = np.where(np.isfinite(pe), np.char.mod("%.1f", np.where(np.isfinite(pe), pe, 0.0)), "not meaningful")
-    pe_disp = np.where(np.isfinite(ea) | np.isfinite(pe), pe_disp, "")
+    joined = np.full(n, "", dtype=object)
+    for code, hit in zip(SCREEN_FLAGS, hits):
+        joined = np.where(hit, np.where(joined == "", code, joined + ";" + code), joined)
+    flags = [str(x) for x in joined]
     out = pd.DataFrame(
         {
             "sector": info["sector"].to_numpy(),
             "in_universe": uni,
             "signal": raw,
             "pe": pe,
-            "pe_display": pe_disp.astype(str),
+            "has_eps": np.isfinite(ea) | np.isfinite(pe),
             "zscore": _row_at(result.zscore, i, n),
             "sector_zscore": _row_at(result.sector_zscore, i, n),
             "quantile": q,
-            "quantile_label": [quantile_label(v, n_q) for v in q],
             "z_change_3m": z3,
             "z_change_12m": z12,
             "months_since_price": pa,
@@ -143,6 +126,7 @@ def screen_table(result: "StudyResult", date: object | None = None) -> pd.DataFr
     order = np.lexsort((out.index.to_numpy().astype(str), -np.nan_to_num(out["zscore"].to_numpy(dtype=float), nan=-np.inf)))
     out = out.iloc[order]
     out.attrs["date"] = result.signal_z.index[i].date().isoformat()
+    out.attrs["n_quantiles"] = int(result.config.n_quantiles)
     return out
 
 
@@ -154,7 +138,10 @@ def security_history(result: "StudyResult", security: str, horizon: int | None =
     DataFrame (dates) with ``signal_z``, ``forward_return`` (h months) and
     ``return_z`` (the forward return's cross-sectional z-score on that date,
     ddof 1).  ``attrs["caution"]`` holds :data:`SINGLE_NAME_CAUTION`,
-    ``attrs["horizon"]`` the horizon.
+    ``attrs["horizon"]`` the horizon, ``attrs["correlation"]`` the Pearson r of
+    ``signal_z`` and ``return_z`` over the dates with both, ``attrs["correlation_t"]``
+    its t (:func:`valuesift.core.correlation.pearson.correlation_t`; overlapping dates
+    make it optimistic) and ``attrs["n_pairs"]`` the number of those dates.
 
     Notes
     -----
@@ -179,6 +166,10 @@ def security_history(result: "StudyResult", security: str, horizon: int | None =
         },
         index=result.signal_z.index,
     )
+    r, t, n = pearson_with_t(out["signal_z"].to_numpy(), out["return_z"].to_numpy())
     out.attrs["caution"] = SINGLE_NAME_CAUTION
     out.attrs["horizon"] = h
+    out.attrs["correlation"] = r
+    out.attrs["correlation_t"] = t
+    out.attrs["n_pairs"] = n
     return out

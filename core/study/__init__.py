@@ -14,6 +14,8 @@ Pipeline (:func:`run_study`, steps in :mod:`valuesift.core.study.steps`)
    standard errors.
 4. ``core.portfolio``: overlapping-cohort portfolios.
 5. ``core.reporting.screen``: the screen table for the latest date.
+6. :mod:`valuesift.core.study.derived`: the fields derived for display (fitted lines, bands,
+   rolling spread, Sharpe t, cohort and drawdown records, coverage).
 """
 
 from __future__ import annotations
@@ -29,6 +31,7 @@ from valuesift.core.panel import Panel
 from valuesift.core.reporting.screen import screen_table
 from valuesift.core.reporting.summary import ic_by_date_frame, summary_dict
 from valuesift.core.result import StudyResult
+from valuesift.core.study.derived import derived_fields
 from valuesift.core.study.steps import compute_study
 
 __all__ = ["StudyConfig", "StudyResult", "run_study", "summary_dict", "ic_by_date_frame", "BUILTIN_SIGNALS"]
@@ -81,6 +84,7 @@ def run_study(
     fields = compute_study(panel, config, progress)
     res = StudyResult(config=config, screen=pd.DataFrame(), **fields)
     res = replace(res, screen=screen_table(res))
+    res = replace(res, **derived_fields(res, panel))
     if progress is not None:
         progress("done", 1.0)
     return res

@@ -38,6 +38,7 @@ from typing import Any, Callable
 
 from valuesift.core.errors import ConfigError
 from valuesift.core.config import StudyConfig
+from valuesift.core.settings import SETTINGS
 
 __all__ = ["GridPoint", "SweepGrid", "DIMENSIONS", "parse_grid", "read_grid", "config_id", "MAX_POINTS"]
 
@@ -70,20 +71,22 @@ def _field(name: str) -> Callable[[Any], dict[str, Any]]:
     return f
 
 
-#: Plain dimension names of the grid file and the study settings each one sets.
-DIMENSIONS: dict[str, Callable[[Any], dict[str, Any]]] = {
-    "signal": _field("signal"),
-    "universe": _universe,
-    "quantiles": _field("n_quantiles"),
-    "outliers": _outliers,
-    "zscore": _field("zscore_method"),
-    "sector_neutral": _field("sector_neutral"),
-    "reporting_lag": _field("reporting_lag_months"),
-    "cost_bps": _field("transaction_cost_bps"),
-    "holding": _field("holding_months"),
-    "excess": _field("excess_over"),
-    "min_history": _field("min_history_months"),
-}
+#: Grid names that set more than one setting (the universe with its sectors, outliers with their percentiles).
+_COMBINED: dict[str, Callable[[Any], dict[str, Any]]] = {"universe": _universe, "outliers": _outliers}
+
+
+def _dimensions() -> dict[str, Callable[[Any], dict[str, Any]]]:
+    out: dict[str, Callable[[Any], dict[str, Any]]] = {}
+    for st in SETTINGS:
+        if st.grid is None or st.grid == "horizons":  # horizons are the tests of every point, not a dimension
+            continue
+        out.setdefault(st.grid, _COMBINED.get(st.grid) or _field(st.name))
+    return out
+
+
+#: Plain dimension names of the grid file and the study settings each one sets (from the settings table's
+#: ``grid`` names).
+DIMENSIONS: dict[str, Callable[[Any], dict[str, Any]]] = _dimensions()
 _CONFIG_FIELDS = {f.name for f in fields(StudyConfig)}
 
 

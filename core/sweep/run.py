@@ -22,6 +22,9 @@ import numpy as np
 import pandas as pd
 
 from valuesift.core.errors import ValueSiftError
+from valuesift.core.config import StudyConfig
+from valuesift.core.reporting.summary import summary_dict
+from valuesift.core.study import run_study
 from valuesift.core.panel import Panel
 from valuesift.core.sweep.grid import GridPoint, SweepGrid
 from valuesift.core.sweep.table import comparison_table
@@ -106,10 +109,6 @@ def evaluate_point(panel: Panel, settings: dict[str, Any]) -> dict[str, Any]:
     ``{"status": "failed", "error": message}``; an error never escapes, so one
     bad point cannot sink the sweep.
     """
-    from valuesift.core.config import StudyConfig
-    from valuesift.core.study import run_study
-    from valuesift.core.reporting.summary import summary_dict
-
     try:
         cfg = StudyConfig.from_dict(dict(settings))
         res = run_study(panel, cfg)

@@ -11,10 +11,12 @@ from scipy import stats
 
 from valuesift.app.figures import backtest as fb
 from valuesift.app.figures import company as fc
+from valuesift.core.regression.pooled import simple_ols
+from valuesift.core.study.derived import POOLED_BINS
 from valuesift.app.figures import study as fs
 from valuesift.app.figures.data import coverage_figure
 from valuesift.app.figures.theme import CHEAP, DEAR, TEMPLATE_NAME, diverging
-from valuesift.app.figures._common import message_figure
+from valuesift.app.figures.common import message_figure
 
 T_STAT = re.compile(r"\bt\s*[=~]\s*-?\d|t=-?\d")
 
@@ -95,7 +97,9 @@ def test_scatter_line_matches_scipy_linregress(small_result) -> None:  # type: i
     y = small_result.forward_returns[h].loc[d].to_numpy(dtype=float)
     ok = np.isfinite(x) & np.isfinite(y)
     ref = stats.linregress(x[ok], y[ok])
-    a, b, t = fs._ols(x[ok], y[ok])
+    a, b, t, _ = simple_ols(x[ok], y[ok])
+    fit = small_result.cross_section_fit[h].loc[d]  # the field the figure draws
+    assert (fit['intercept'], fit['slope'], fit['t_slope']) == pytest.approx((a, b, t), rel=1e-12)
     assert b == pytest.approx(ref.slope, rel=1e-10)
     assert a == pytest.approx(ref.intercept, rel=1e-10, abs=1e-12)
     assert t == pytest.approx(ref.slope / ref.stderr, rel=1e-9)
@@ -108,9 +112,9 @@ def test_scatter_line_matches_scipy_linregress(small_result) -> None:  # type: i
 
 
 def test_pooled_scatter_bins_hold_equal_counts(small_result) -> None:  # type: ignore[no-untyped-def]
-    fig = fs.scatter_figure(small_result, 1, bins=10)
+    fig = fs.scatter_figure(small_result, 1)
     counts = np.asarray(fig.data[0].customdata, dtype=float)
-    assert len(counts) == 10
+    assert len(counts) == POOLED_BINS
     assert counts.max() - counts.min() <= 0.02 * counts.mean() + 2   # equal-count bins (quantile edges)
 
 

@@ -12,6 +12,8 @@ import pytest
 import statsmodels.api as sm
 
 from valuesift.app.cli import main
+from valuesift.app.words import SECURITY_FLAG_WORDS
+from valuesift.core.settings import SETTING_BY_NAME
 
 ROOT = Path(__file__).resolve().parents[2]
 SAMPLE = ROOT / "sample_data"
@@ -34,8 +36,10 @@ def test_check_demo_files_prints_complete_report(capsys: pytest.CaptureFixture[s
     for name in ("prices.csv", "earnings.csv", "dividends.csv", "sectors.csv", "holdings.csv", "benchmark.csv"):
         assert f"File {name}" in out
     assert "Securities: 121" in out  # 120 companies plus the index column, flagged below
-    assert "suspected_split" in out and "LUD24" in out
-    assert "looks_like_index" in out  # the index column among the securities is pointed out
+    # flags in words, from the app's one table of words for the intake's flag codes
+    assert SECURITY_FLAG_WORDS["suspected_split"].capitalize() in out and "LUD24" in out
+    assert SECURITY_FLAG_WORDS["looks_like_index"].capitalize() in out  # the index column is pointed out
+    assert "looks_like_index" not in out and "suspected_split" not in out  # no codes on the terminal
     assert "skipped README.md" in err
 
 
@@ -105,7 +109,8 @@ def test_study_with_bad_setting_gives_plain_error(tmp_path: Path, capsys: pytest
     code = main(["study", *DEMO_ARGS, "--quantiles", "1", "--quiet", "--out", str(tmp_path)])
     assert code == 2
     err = capsys.readouterr().err
-    assert "Quantiles: 1 is not allowed" in err and "n_quantiles" not in err and "Traceback" not in err
+    # the setting by its label from the settings table (words, not the field name)
+    assert SETTING_BY_NAME["n_quantiles"].label in err and "n_quantiles" not in err and "Traceback" not in err
 
 
 def test_study_missing_file_gives_plain_error(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:

@@ -62,6 +62,7 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
     from valuesift.app.pages import study as study_page
     from valuesift.app.pages import sweep as page
     from valuesift.app.settings import config_from_settings
+    from valuesift.app.sweeps import settings_from_query
 
     app, res = app_with_sweep
     with app.server.test_request_context("/"):
@@ -73,7 +74,7 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
         assert note is None
         q = {k: v[0] for k, v in parse_qs(urlsplit(href).query).items()}
         assert urlsplit(href).path == "/study" and q == {"sweep": "first", "point": target["point_id"]}
-        settings = page.settings_from_query(app.server.extensions["valuesift"].workspace.root, q)
+        settings = settings_from_query(app.server.extensions["valuesift"].workspace.root, q)
         # the Study page's settings give back the sweep point's configuration
         from valuesift.core.config import StudyConfig
 
@@ -96,9 +97,13 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
 
 
 def test_settings_the_study_page_cannot_show_are_named() -> None:
-    from valuesift.app.pages.sweep import study_settings
+    from valuesift.app.settings import study_settings
     from valuesift.core.config import StudyConfig
+    from valuesift.core.settings import SETTING_BY_NAME
 
-    s, missing = study_settings(StudyConfig(min_breadth=7, winsor_percentiles=(1.0, 95.0), horizons=(3, 1)).to_dict())
-    assert s["horizons"] == [1, 3] and s["winsor_lower"] == 1.0
-    assert "min_breadth" in missing and any(m.startswith("winsor_percentiles") for m in missing)
+    s, missing = study_settings(StudyConfig(min_breadth=7, fm_log_market_cap=True, winsor_percentiles=(1.0, 95.0),
+                                            horizons=(3, 1)).to_dict())
+    assert s["horizons"] == [1, 3] and s["winsor_lower"] == 1.0 and s["min_breadth"] == 7
+    # named by their labels from the settings table
+    assert SETTING_BY_NAME["fm_log_market_cap"].label in missing
+    assert any(m.startswith(SETTING_BY_NAME["winsor_percentiles"].label) for m in missing)

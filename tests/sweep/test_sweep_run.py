@@ -132,11 +132,9 @@ def test_save_and_load_round_trip(panel: Any, grid: Any, tmp_path: Path) -> None
 
 
 def test_an_unexpected_error_in_a_point_is_recorded(panel: Any, monkeypatch: pytest.MonkeyPatch) -> None:
-    import valuesift.core.study as study_mod
-
     def boom(*_a: Any, **_k: Any) -> Any:
         raise ZeroDivisionError("planted")
 
-    monkeypatch.setattr(study_mod, "run_study", boom)
+    monkeypatch.setattr(run_mod, "run_study", boom)  # the name evaluate_point calls
     out = run_mod.evaluate_point(panel, StudyConfig(horizons=(1,)).to_dict())
     assert out == {"status": "failed", "error": "ZeroDivisionError: planted"}

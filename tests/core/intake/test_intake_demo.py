@@ -139,8 +139,7 @@ def test_demo_panel(parsed: dict) -> None:
     assert len(panel.sectors) == panel.prices.shape[1]
     assert panel.benchmark.notna().all()
     assert "Maren All-Share" not in panel.prices.columns
-    text = rep.to_text()
-    assert "LUD24" in text and "prices.csv" in text
+    assert "LUD24" in rep.flagged("split_adjusted") and rep.file("prices.csv").kind == "prices"
     # without confirmation the split is only suspected and prices are untouched
     p2 = build_panel(files, PanelOptions())
     assert "LUD24" in p2.report.flagged("suspected_split")

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import textwrap
 from typing import Iterable
 
 import numpy as np
@@ -54,8 +55,6 @@ def finite_dates(s: pd.Series) -> pd.DatetimeIndex:
 
 def wrap(text: str, width: int) -> tuple[str, int]:
     """Break ``text`` into lines of at most ``width`` characters (existing <br> kept); returns (text, lines)."""
-    import textwrap
-
     lines: list[str] = []
     # Keep "t = 2.31" and similar statements on one line (non-breaking spaces around "=").
     text = str(text).replace(" = ", "\u00a0=\u00a0")

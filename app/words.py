@@ -1,0 +1,162 @@
+"""The words a person reads for the codes the core returns: screen flags, quantiles, P/E, intake flags, settings.
+
+One table per kind of code, used by every page, the command line and the bundle, so that a
+flag or a setting reads the same everywhere.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from valuesift.core.config import StudyConfig
+from valuesift.core.intake.flags import SECURITY_FLAGS
+from valuesift.core.reporting.screen import SCREEN_FLAGS
+from valuesift.core.settings import SETTINGS, describe_value
+
+__all__ = [
+    "SCREEN_FLAG_WORDS",
+    "SECURITY_FLAG_WORDS",
+    "GROUP_WORDS",
+    "quantile_words",
+    "pe_words",
+    "screen_flag_words",
+    "screen_in_words",
+    "security_flag_words",
+    "settings_in_words",
+    "intake_report_text",
+    "intake_report_lines",
+    "SECURITY_COLUMN_WORDS",
+]
+
+#: Screen flag code -> words (``{price}`` / ``{eps}``: months since the last price / EPS).
+SCREEN_FLAG_WORDS: dict[str, str] = {
+    "outside_universe": "outside universe",
+    "eps_not_positive": "EPS zero or negative",
+    "stale_price": "no price for {price} months",
+    "old_eps": "EPS {eps} months old",
+    "no_quantile": "no quantile on this date",
+    "no_signal": "no signal",
+}
+
+#: Intake flag code of a security -> words.
+SECURITY_FLAG_WORDS: dict[str, str] = {
+    "no_valid_price": "no valid price",
+    "late_listing": "listed after the first month",
+    "delisted": "prices end before the last month",
+    "gaps": "months missing between first and last price",
+    "suspected_split": "suspected split",
+    "split_adjusted": "split adjusted",
+    "stale": "stale prices",
+    "extreme_pe": "extreme P/E",
+    "negative_earnings": "negative earnings",
+    "no_earnings": "no earnings",
+    "looks_like_index": "looks like an index",
+}
+
+#: Column of the intake's security table -> words.
+SECURITY_COLUMN_WORDS: dict[str, str] = {
+    "first_valid": "first valid price", "last_valid": "last valid price", "n_valid": "months with a valid price",
+    "coverage": "price coverage", "stale_months": "months set missing as stale",
+    "max_flat_run": "longest run of unchanged prices (months)", "n_gaps": "months missing inside the range",
+    "flags": "flags", "split_date": "suspected split date", "split_ratio": "suspected split ratio",
+    "extreme_pe_months": "months with an extreme P/E", "max_abs_pe": "largest P/E (absolute)",
+}
+
+#: Section of a setting -> heading.
+GROUP_WORDS: dict[str, str] = {"signal": "Signal", "universe": "Universe", "returns": "Returns",
+                               "evaluation": "Evaluation", "backtest": "Backtest"}
+
+assert set(SCREEN_FLAG_WORDS) == set(SCREEN_FLAGS), "every screen flag code needs its words"
+assert set(SECURITY_FLAGS) <= set(SECURITY_FLAG_WORDS), "every intake flag code needs its words"
+
+
+def quantile_words(q: float, n_q: int) -> str:
+    """A quantile on the study's numbering (1 = dearest .. n = cheapest): ``"5 of 5 (cheapest)"``, ``"3 of 5"``."""
+    if not np.isfinite(q):
+        return ""
+    k = int(q)
+    tail = " (cheapest)" if k == n_q else " (dearest)" if k == 1 else ""
+    return f"{k} of {n_q}{tail}"
+
+
+def pe_words(pe: float, has_eps: bool) -> str:
+    """P/E to one decimal; "not meaningful" when an EPS is in use but the P/E is not (EPS of 0 or below)."""
+    if np.isfinite(pe):
+        return f"{pe:.1f}"
+    return "not meaningful" if has_eps else ""
+
+
+def screen_flag_words(codes: str, months_since_price: float = np.nan, months_since_eps: float = np.nan) -> str:
+    """A screen row's ``;``-joined flag codes in words, ``; ``-joined."""
+    price = int(months_since_price) if np.isfinite(months_since_price) else "?"
+    eps = int(months_since_eps) if np.isfinite(months_since_eps) else "?"
+    out = [SCREEN_FLAG_WORDS.get(c, c.replace("_", " ")).format(price=price, eps=eps)
+           for c in str(codes or "").split(";") if c]
+    return "; ".join(out)
+
+
+def screen_in_words(screen: pd.DataFrame, n_quantiles: int | None = None) -> pd.DataFrame:
+    """The screen with its codes in words: ``pe_display``, ``quantile_label`` and ``flags`` as text.
+
+    ``n_quantiles`` defaults to the screen's ``attrs["n_quantiles"]``.  The numbers are left as
+    they are; ``attrs`` (the date) are kept.  A screen already in words is returned unchanged.
+    """
+    if "quantile_label" in screen.columns:
+        return screen
+    n_quantiles = int(n_quantiles if n_quantiles is not None else screen.attrs["n_quantiles"])
+    out = screen.copy()
+    pe = pd.to_numeric(out["pe"], errors="coerce").to_numpy(dtype=float)
+    has = out["has_eps"].to_numpy(dtype=bool) if "has_eps" in out.columns else np.isfinite(pe)
+    q = pd.to_numeric(out["quantile"], errors="coerce").to_numpy(dtype=float)
+    pa = pd.to_numeric(out["months_since_price"], errors="coerce").to_numpy(dtype=float)
+    ea = pd.to_numeric(out["months_since_eps"], errors="coerce").to_numpy(dtype=float)
+    out["pe_display"] = [pe_words(a, b) for a, b in zip(pe, has)]
+    out["quantile_label"] = [quantile_words(v, n_quantiles) for v in q]
+    out["flags"] = [screen_flag_words(c, a, b) for c, a, b in zip(out["flags"], pa, ea)]
+    out.attrs = dict(screen.attrs)
+    return out
+
+
+def security_flag_words(codes: str) -> str:
+    """An intake row's ``;``-joined flag codes in words."""
+    return "; ".join(SECURITY_FLAG_WORDS.get(c, c.replace("_", " ")) for c in str(codes or "").split(";") if c)
+
+
+def settings_in_words(config: StudyConfig) -> list[tuple[str, str, str]]:
+    """Every setting of ``config`` as (section, label, value in words), in the order of the settings table."""
+    return [(GROUP_WORDS.get(s.group, s.group.title()), s.label, describe_value(s, getattr(config, s.name)))
+            for s in SETTINGS]
+
+
+def intake_report_lines(report: Any, *, max_names: int = 10) -> list[str]:
+    """The intake's securities in sentences: each flag with its count and names, coverage, splits, alignment, notes."""
+    lines: list[str] = []
+    sec = report.securities
+    lines.append(f"Securities: {len(sec)}" + (
+        f"; median price coverage {report.median_coverage:.1%}" if len(sec) and np.isfinite(report.median_coverage)
+        else ""))
+    for flag in SECURITY_FLAGS:
+        names = report.flagged(flag)
+        if names:
+            shown = ", ".join(names[:max_names]) + (f" and {len(names) - max_names} more" if len(names) > max_names else "")
+            lines.append(f"{SECURITY_FLAG_WORDS[flag].capitalize()}: {len(names)} ({shown})")
+    for _, r in report.suspected_splits.iterrows():
+        lines.append(f"Suspected split: {r['security']} at {pd.Timestamp(r['date']).date()}, ratio "
+                     f"{float(r['ratio']):g}, {'applied' if bool(r['applied']) else 'not applied (confirm to adjust)'}")
+    for _, r in report.alignment.iterrows():
+        lines.append(f"Set aside while aligning to month-ends: {r['file']}, {str(r['reason']).replace('_', ' ')}: "
+                     f"{int(r['count'])}")
+    lines.extend(f"Panel note: {n}" for n in report.panel_notes)
+    if getattr(report, "holdings_total", None) is not None:
+        lines.append(f"Holdings weights as read sum to {report.holdings_total:.4f}")
+    return lines
+
+
+def intake_report_text(report: Any) -> str:
+    """The terminal account of an intake: each file's report, then :func:`intake_report_lines`."""
+    parts = [f.to_text() for f in report.files]
+    parts.extend(intake_report_lines(report, max_names=8))
+    return "\n".join(parts)
