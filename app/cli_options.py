@@ -74,6 +74,13 @@ def add_intake_options(p: argparse.ArgumentParser) -> None:
                    help="apply every suspected unadjusted split the report lists (after you checked them)")
     g.add_argument("--confirm-split", action="append", default=[], metavar="SECURITY",
                    help="apply the suspected split of this security only; repeatable")
+    g.add_argument("--keep-suspect-dividends", action="store_true",
+                   help="keep dividends that fall in a month without a price or exceed 10 % of the month's price "
+                        "(default: they are set aside and listed in the report)")
+    g.add_argument("--earnings-date-column", default=None, metavar="COLUMN",
+                   help="long earnings file: the column with the date each figure became public (announcement, "
+                        "report or release date); each EPS is then used from the first month-end on or after it, "
+                        "with no fixed reporting lag (default: such a column is detected by its name)")
 
 
 def read_options_from_args(args: argparse.Namespace, kind: str | None = None, **extra: Any) -> ReadOptions:
@@ -88,6 +95,7 @@ def read_options_from_args(args: argparse.Namespace, kind: str | None = None, **
         id_regex=args.id_regex,
         exclude_columns=tuple(args.exclude),
         duplicate_rule=args.duplicates,
+        earnings_date_column=getattr(args, "earnings_date_column", None) if kind == "earnings" else None,
         **extra,
     )
 
@@ -98,6 +106,7 @@ def panel_options_from_args(args: argparse.Namespace) -> PanelOptions:
         staleness_days=args.staleness_days,
         confirmed_splits=frozenset(args.confirm_split),
         apply_all_suspected_splits=args.apply_splits,
+        keep_suspect_dividends=bool(getattr(args, "keep_suspect_dividends", False)),
     )
 
 

@@ -49,6 +49,11 @@ class ReadOptions:
     exclude_columns : tuple of str
         Columns that are not securities (for example a market index level).
     earnings_form : {"auto", "eps", "pe"}
+    earnings_date_column : str or None
+        Long-layout earnings: the column holding the date each figure became public
+        (announcement, report, release or availability date).  ``None`` detects such a
+        column by its name.  When one is used, each EPS counts from the first month-end
+        on or after its own date and the study applies no fixed reporting lag.
     duplicate_rule : {"last", "first", "error"}
     signal_name : str or None
     higher_is_cheaper : bool
@@ -71,6 +76,7 @@ class ReadOptions:
     id_regex: str | None = None
     exclude_columns: tuple[str, ...] = ()
     earnings_form: EarningsForm = "auto"
+    earnings_date_column: str | None = None
     duplicate_rule: DuplicateRule = "last"
     signal_name: str | None = None
     higher_is_cheaper: bool = True
@@ -176,6 +182,13 @@ class PanelOptions:
         ``|P/E|`` above this is flagged ``extreme_pe``.
     flat_run_months : int
         A run of at least this many identical consecutive month-end prices is flagged ``stale``.
+    dividend_plausible_share : float
+        A dividend above this share of its month's price is implausible for a regular payment
+        (common practice, no source: regular quarterly dividends are a few per cent of the price;
+        larger ones are usually special payments, unadjusted splits or typing slips).
+    keep_suspect_dividends : bool
+        Keep dividends in a month without a price, or above the plausible share, in the returns
+        (default: they are set aside, counted and flagged).
     """
 
     staleness_days: int = 10
@@ -184,6 +197,8 @@ class PanelOptions:
     apply_all_suspected_splits: bool = False
     extreme_pe: float = 200.0
     flat_run_months: int = 6
+    dividend_plausible_share: float = 0.10
+    keep_suspect_dividends: bool = False
 
     def __post_init__(self) -> None:
         if not isinstance(self.staleness_days, int) or self.staleness_days < 0:
