@@ -256,6 +256,22 @@ def test_a_session_beyond_its_queue_is_told_so() -> None:
     assert blocker.status == "done" and second.status == "done"
 
 
+def test_uploads_are_admitted_against_one_memory_budget() -> None:
+    from valuesift.app.jobs import Busy
+    from valuesift.app.services import UploadBudget
+
+    budget = UploadBudget(100 * UploadBudget.COST)
+    first = budget.admit(60)
+    with pytest.raises(Busy, match="reading other uploads"):
+        budget.admit(60)                                 # would exceed the budget while the first is read
+    second = budget.admit(40)
+    budget.release(first)
+    budget.release(second)
+    big = budget.admit(500)                              # alone, any upload within the size limit is read
+    budget.release(big)
+    assert budget.in_use == 0
+
+
 # -- 10. bearer access across sessions --------------------------------------------------------------------
 def test_results_and_exports_are_served_to_their_owner_only(demo: Server) -> None:
     a, b = DashClient(demo.base), DashClient(demo.base)
