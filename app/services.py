@@ -132,7 +132,7 @@ class AppState:
         self.panels = LRU(4)
         self._owners = LRU(2048)        # study key -> sessions that asked for it
         self._owners_lock = threading.Lock()
-        self.runner = runner or JobRunner(workers=2, max_queued=12, max_per_owner=3)
+        self.runner = runner or JobRunner(workers=2, max_queued=32, max_per_owner=3)
         self.uploads = UploadBudget(upload_budget_bytes if upload_budget_bytes is not None else default_upload_budget())
         self.instance = uuid.uuid4().hex[:8]
 
