@@ -198,8 +198,10 @@ def _drop_suspects(clicks: Any, sel_raw: Any, version: Any) -> Any:
 
 def _reread_with(did: str, opts: Any, sel_raw: Any, version: Any) -> Any:
     st = state()
+    owner = current_owner() or ""
     try:
-        rec = st.workspace.reread(did, opts, owner=current_owner() or "")
+        was_shared = st.workspace.get(did, owner=owner).owner != owner
+        rec = st.workspace.reread(did, opts, owner=owner)
     except KeyError:
         raise PreventUpdate
     if not rec.ok:   # nothing changed: the dataset stays as it was read before
@@ -207,7 +209,7 @@ def _reread_with(did: str, opts: Any, sel_raw: Any, version: Any) -> Any:
                                            + " The file stays as it was read before.")
     sel = normalise_selection(sel_raw)
     sel = _with({"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}, rec)
-    copy = " (your own copy: the shared file stays as it was for everyone)" if rec.id != did and rec.owner else ""
+    copy = " (your own copy: the shared file stays as it was for everyone)" if was_shared else ""
     return _out(sel), int(version or 0) + 1, alert(f"{rec.name} was read again{copy}.", "info")
 
 
