@@ -11,7 +11,7 @@ from valuesift.core.config import StudyConfig
 from valuesift.core.sweep import config_id, parse_grid, read_grid
 from valuesift.core.sweep import grid as grid_mod
 
-ROOT = Path(__file__).resolve().parents[2]
+ROOT = Path(__file__).resolve().parents[3]
 
 
 def test_dimensions_cross_in_file_order_and_horizons_stay_inside_each_study() -> None:
