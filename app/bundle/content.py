@@ -15,7 +15,7 @@ from valuesift.app.bundle.text import CHART_READINGS, headline_sentences, share_
 from valuesift.app.caution import CAUTION
 from valuesift.app.figures.common import fmt_num, fmt_pct, span
 from valuesift.app.figures.study import return_label, signal_label
-from valuesift.app.words import intake_report_lines, screen_in_words
+from valuesift.app.words import intake_report_lines, screen_in_words, settings_in_words
 from valuesift.core.result import StudyResult
 
 __all__ = ["report_input", "summary_rows", "screen_frames"]
@@ -110,11 +110,8 @@ def _facts(result: StudyResult, panel: Any, horizon: int, created: datetime, stu
 
 
 def _config_rows(result: StudyResult) -> list[tuple[str, str]]:
-    out = []
-    for k, v in result.config.to_dict().items():
-        text = ", ".join(str(x) for x in v) if isinstance(v, list) else str(v)
-        out.append((k, text if text else "(none)"))
-    return out
+    """Every setting in words: its label and its value as a person reads it (from the settings table)."""
+    return [(label, value) for _, label, value in settings_in_words(result.config)]
 
 
 def _quality(panel: Any, result: StudyResult) -> tuple[pd.DataFrame, list[str], pd.DataFrame]:
