@@ -8,7 +8,7 @@ import dash
 from dash import Input, Output, State, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
-from valuesift.app.bundle import CHARTS, NO_BROWSER_HINT, TABLES, default_horizon, find_browser
+from valuesift.app.bundle import CHARTS, NO_BROWSER_HINT, TABLES, find_browser
 from valuesift.app.bundle.jobs import get_export, start_export
 from valuesift.app.components.common import field
 from valuesift.app.figures.common import span

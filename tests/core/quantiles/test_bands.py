@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-import pytest
 from scipy import stats
 
 from valuesift.core.quantiles.bands import equal_count_bins, row_breakpoints
