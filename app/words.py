@@ -20,12 +20,14 @@ __all__ = [
     "SCREEN_FLAG_WORDS",
     "SECURITY_FLAG_WORDS",
     "GROUP_WORDS",
+    "SIGNAL_WORDS",
     "quantile_words",
     "pe_words",
     "screen_flag_words",
     "screen_in_words",
     "security_flag_words",
     "settings_in_words",
+    "settings_frame",
     "intake_report_text",
     "intake_report_lines",
     "SECURITY_COLUMN_WORDS",
@@ -63,6 +65,13 @@ SECURITY_COLUMN_WORDS: dict[str, str] = {
     "max_flat_run": "longest run of unchanged prices (months)", "n_gaps": "months missing inside the range",
     "flags": "flags", "split_date": "suspected split date", "split_ratio": "suspected split ratio",
     "extreme_pe_months": "months with an extreme P/E", "max_abs_pe": "largest P/E (absolute)",
+}
+
+#: Built-in signal code -> words (a signal of the user's own is shown by its name).
+SIGNAL_WORDS: dict[str, str] = {
+    "earnings_yield": "earnings yield",
+    "dividend_yield": "dividend yield",
+    "composite": "composite of yields",
 }
 
 #: Section of a setting -> heading.
@@ -126,9 +135,27 @@ def security_flag_words(codes: str) -> str:
 
 
 def settings_in_words(config: StudyConfig) -> list[tuple[str, str, str]]:
-    """Every setting of ``config`` as (section, label, value in words), in the order of the settings table."""
-    return [(GROUP_WORDS.get(s.group, s.group.title()), s.label, describe_value(s, getattr(config, s.name)))
-            for s in SETTINGS]
+    """Every setting of ``config`` as (section, label, value in words), in the order of the settings table.
+
+    Signals are named in words (:data:`SIGNAL_WORDS`); every other value as
+    :func:`valuesift.core.settings.describe_value` words it.
+    """
+    out = []
+    for s in SETTINGS:
+        v = getattr(config, s.name)
+        if s.name == "signal":
+            words = SIGNAL_WORDS.get(v, v)
+        elif s.name == "composite_of":
+            words = ", ".join(SIGNAL_WORDS.get(x, x) for x in v)
+        else:
+            words = describe_value(s, v)
+        out.append((GROUP_WORDS.get(s.group, s.group.title()), s.label, words))
+    return out
+
+
+def settings_frame(config: StudyConfig) -> pd.DataFrame:
+    """:func:`settings_in_words` as a table (``Section``, ``Setting``, ``Value``) for the workbook's settings sheet."""
+    return pd.DataFrame(settings_in_words(config), columns=["Section", "Setting", "Value"])
 
 
 def intake_report_lines(report: Any, *, max_names: int = 10) -> list[str]:

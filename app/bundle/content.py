@@ -9,14 +9,13 @@ import numpy as np
 import pandas as pd
 
 from valuesift import core
-from valuesift.core.settings import SETTINGS, describe_value
 from valuesift.app.bundle.charts import CHARTS
 from valuesift.app.bundle.pdf import ReportInput
 from valuesift.app.bundle.text import CHART_READINGS, headline_sentences, share_word, signal_definition, universe_words
 from valuesift.app.caution import CAUTION
 from valuesift.app.figures.common import fmt_num, fmt_pct, span
 from valuesift.app.figures.study import return_label, signal_label
-from valuesift.app.words import intake_report_lines, screen_in_words
+from valuesift.app.words import intake_report_lines, screen_in_words, settings_in_words
 from valuesift.core.result import StudyResult
 
 __all__ = ["report_input", "summary_rows", "screen_frames"]
@@ -112,7 +111,7 @@ def _facts(result: StudyResult, panel: Any, horizon: int, created: datetime, stu
 
 def _config_rows(result: StudyResult) -> list[tuple[str, str]]:
     """Every setting in words: its label and its value as a person reads it (from the settings table)."""
-    return [(st.label, describe_value(st, getattr(result.config, st.name))) for st in SETTINGS]
+    return [(label, value) for _, label, value in settings_in_words(result.config)]
 
 
 def _quality(panel: Any, result: StudyResult) -> tuple[pd.DataFrame, list[str], pd.DataFrame]:

@@ -25,7 +25,7 @@ from valuesift.core.reporting.summary import summary_dict
 from valuesift.core.result import StudyResult
 from valuesift.core.reporting.summary import ic_by_date_frame
 
-__all__ = ["TABLES", "TABLE_KEYS", "result_tables", "write_csv", "xlsx_bytes", "FIXED_ZIP_TIME"]
+__all__ = ["TABLES", "TABLE_KEYS", "result_tables", "write_csv", "xlsx_bytes", "FIXED_ZIP_TIME", "SETTINGS_SHEET"]
 
 #: Zip entry time used for every archive the bundle writes (the zip format's earliest date).
 FIXED_ZIP_TIME = (1980, 1, 1, 0, 0, 0)
@@ -207,13 +207,21 @@ def write_csv(df: pd.DataFrame, path: Path, *, raw: bool = False) -> None:
     path.write_bytes(text.encode("utf-8"))
 
 
-def xlsx_bytes(tables: dict[str, pd.DataFrame], *, stamp: str) -> bytes:
+#: Name of the workbook sheet holding the study's settings in words.
+SETTINGS_SHEET = "settings"
+
+
+def xlsx_bytes(tables: dict[str, pd.DataFrame], *, stamp: str, settings: pd.DataFrame | None = None) -> bytes:
     """One workbook, one sheet per table (sheet = table key), with reproducible bytes.
 
-    ``stamp`` (ISO date) is written as the document's created and modified dates.
+    ``stamp`` (ISO date) is written as the document's created and modified dates; ``settings``
+    (a table such as :func:`valuesift.app.words.settings_frame` gives) becomes the first sheet,
+    :data:`SETTINGS_SHEET`.
     """
     buf = io.BytesIO()
     with pd.ExcelWriter(buf, engine="openpyxl") as xw:
+        if settings is not None:
+            _safe(settings).to_excel(xw, index=False, sheet_name=SETTINGS_SHEET)
         for key, df in tables.items():
             _safe(df).to_excel(xw, index=False, sheet_name=key[:31])
         props = xw.book.properties

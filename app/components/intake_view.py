@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Any
 
 from dash import dcc, html
@@ -165,8 +166,6 @@ def options_from_controls(base: Any, kind: Any, layout: Any, header: Any, dates:
                           idclean: Any, idregex: Any, exclude: Any, signal_name: Any = None,
                           direction: Any = "cheaper") -> Any:
     """New ReadOptions from the card's controls (ConfigError names a bad choice)."""
-    from dataclasses import replace
-
     cols = tuple(c.strip() for c in str(exclude or "").split(",") if c.strip())
     return replace(
         base,

@@ -15,6 +15,7 @@ import plotly.graph_objects as go
 from valuesift.app.escape import chart_text, chart_texts
 from valuesift.app.figures.common import base_figure, finite_dates, fmt_num, fmt_pct, fmt_t, message_figure, month, span
 from valuesift.app.figures.theme import CHEAP, MUTED, SERIES, diverging
+from valuesift.app.words import SIGNAL_WORDS
 from valuesift.core.result import StudyResult
 from valuesift.core.study.derived import POOLED_BINS
 
@@ -29,16 +30,11 @@ __all__ = [
     "fm_slopes_figure",
 ]
 
-_SIGNAL_LABELS = {
-    "earnings_yield": "earnings yield",
-    "dividend_yield": "dividend yield",
-    "composite": "composite of yields",
-}
 
 
 def signal_label(result: StudyResult) -> str:
     """The evaluated signal in words (with 'within sector' when sector-neutral)."""
-    name = _SIGNAL_LABELS.get(result.signal_name, result.signal_name)
+    name = SIGNAL_WORDS.get(result.signal_name, result.signal_name)
     return f"{name}, within sector" if result.config.sector_neutral else name
 
 

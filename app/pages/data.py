@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import base64
 import binascii
+from dataclasses import replace
 from typing import Any
 
 import dash
@@ -12,6 +13,7 @@ from dash.exceptions import PreventUpdate
 
 from valuesift.app.components.common import GRAPH_CONFIG, text_table
 from valuesift.app.components.intake_view import card_order, dataset_card, options_from_controls
+from valuesift.app.figures.common import message_figure
 from valuesift.app.figures.data import coverage_figure
 from valuesift.app.jobs_ui import alert
 from valuesift.app.services import current_owner, normalise_selection, selection_key, state
@@ -191,8 +193,6 @@ def _drop_suspects(clicks: Any, sel_raw: Any, version: Any) -> Any:
     sus = rep.get("suspect_columns") or {}
     sus = sus.get("__tuple__", []) if isinstance(sus, dict) else list(sus)
     cols = tuple(dict.fromkeys([*old.options.exclude_columns, *map(str, sus)]))
-    from dataclasses import replace
-
     return _reread_with(did, replace(old.options, exclude_columns=cols), sel_raw, version)
 
 
@@ -265,8 +265,6 @@ def _use(values: Any, ids: Any, sel_raw: Any) -> Any:
     Input("vs-selection", "data"), Input(f"{P}-version", "data"),
 )
 def _panel_view(sel_raw: Any, _v: Any) -> Any:
-    from valuesift.app.figures.common import message_figure
-
     st = state()
     sel = normalise_selection(sel_raw)
     empty = message_figure("Coverage", "Put a price file in use to see the coverage of the panel.")

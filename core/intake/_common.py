@@ -8,6 +8,7 @@ from typing import Callable, Sequence
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 
 from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake import numbers as nb
@@ -135,8 +136,6 @@ def number_profile(s: pd.Series, decimal: str = "point") -> tuple[float, int]:
 
 def number_profiles(ctx: Ctx, cols: Sequence[int], decimal: str, k: int = 200) -> dict[int, tuple[float, int]]:
     """:func:`number_profile` of many columns at once, on their first ``k`` rows (one parse for all)."""
-    import pyarrow as pa
-
     out: dict[int, tuple[float, int]] = {}
     pieces: list[tuple[int, pa.Array | pa.ChunkedArray]] = []
     for j in cols:

@@ -1,4 +1,5 @@
-"""Fixtures of the sweep tests: a small invented panel and a 2-worker Dask cluster on this machine."""
+"""Fixtures shared by the sweep tests of the core and of the app: a small invented panel and a 2-worker Dask
+cluster on this machine (imported by tests/core/sweep/conftest.py and tests/app/pages/conftest.py)."""
 
 from __future__ import annotations
 

@@ -10,7 +10,7 @@ import pytest
 from _panels import make_panel
 
 from valuesift.core.errors import ConfigError, InsufficientDataError
-from valuesift.core.reporting.screen import SINGLE_NAME_CAUTION, screen_table, security_history
+from valuesift.core.reporting.screen import SCREEN_FLAGS, SINGLE_NAME_CAUTION, screen_table, security_history
 from valuesift.core.config import StudyConfig
 from valuesift.core.result import StudyResult
 from valuesift.core.reporting.summary import ic_by_date_frame, summary_dict
@@ -172,7 +172,8 @@ def test_screen_table(result: StudyResult, panel) -> None:  # type: ignore[no-un
     sc = result.screen
     assert sc.attrs["date"] == panel.prices.index[-1].date().isoformat()
     assert sc["zscore"].is_monotonic_decreasing
-    assert sc["quantile"].iloc[0] == 5 and sc["quantile"].iloc[-1] == 1  # codes and numbers; the app words them
+    assert sc["quantile"].iloc[0] == 5 and sc["quantile"].iloc[-1] == 1  # numbers; the app words them
+    assert sc.attrs["n_quantiles"] == 5
     other = screen_table(result, "2002-06-15")
     assert other.attrs["date"] == "2002-06-30"
     with pytest.raises(ConfigError, match="outside"):
@@ -189,11 +190,12 @@ def test_screen_pe_not_meaningful_and_freshness() -> None:
     res = run_study(p.with_(eps=eps, prices=prices), StudyConfig(horizons=(1,), min_breadth=5))
     sc = res.screen
     s0, s1, s2 = p.prices.columns[:3]
-    assert sc.loc[s0, "pe_display"] == "not meaningful" and np.isnan(sc.loc[s0, "pe"])
+    assert sc.loc[s0, "has_eps"] and np.isnan(sc.loc[s0, "pe"])  # an EPS, but no meaningful P/E
     assert sc.loc[s0, "signal"] < 0  # earnings yield stays defined for a loss
-    assert "EPS zero or negative" in sc.loc[s0, "flags"]
+    assert "eps_not_positive" in sc.loc[s0, "flags"].split(";")   # codes only (core/reporting/screen.py)
+    assert set(sc["flags"].str.split(";").explode().dropna()) - {""} <= set(SCREEN_FLAGS)
     assert sc.loc[s1, "months_since_eps"] == 6
-    assert sc.loc[s2, "months_since_price"] == 4 and "no price for 4 months" in sc.loc[s2, "flags"]
+    assert sc.loc[s2, "months_since_price"] == 4 and "stale_price" in sc.loc[s2, "flags"].split(";")
     assert not sc.loc[s2, "in_universe"]
 
 

@@ -11,7 +11,7 @@ from valuesift.core.config import StudyConfig
 from valuesift.core.sweep import config_id, parse_grid, read_grid
 from valuesift.core.sweep import grid as grid_mod
 
-ROOT = Path(__file__).resolve().parents[2]
+ROOT = Path(__file__).resolve().parents[3]
 
 
 def test_dimensions_cross_in_file_order_and_horizons_stay_inside_each_study() -> None:
@@ -74,3 +74,13 @@ def test_too_many_points_and_file_errors(tmp_path: Path, monkeypatch: pytest.Mon
     bad.write_text("[vary\nsignal = 1\n", encoding="utf-8")
     with pytest.raises(ConfigError, match="bad.toml: not a valid TOML"):
         read_grid(bad)
+
+
+def test_dimensions_are_the_grid_names_of_the_settings_table() -> None:
+    from valuesift.core.settings import SETTINGS
+    from valuesift.core.sweep.grid import DIMENSIONS
+
+    assert set(DIMENSIONS) == {s.grid for s in SETTINGS if s.grid is not None} - {"horizons"}
+    for s in SETTINGS:   # a one-setting dimension sets exactly its row's setting
+        if s.grid and s.grid not in ("horizons", "universe", "outliers"):
+            assert list(DIMENSIONS[s.grid](s.default)) == [s.name], s.name

@@ -14,6 +14,7 @@ from typing import Any
 import numpy as np
 import pytest
 
+from valuesift.app.words import settings_in_words
 from valuesift.app.bundle import INCLUDE_CHOICES, write_bundle
 from valuesift.app.bundle.text import CHART_READINGS, headline_sentences, verdict
 from valuesift.app.caution import CAUTION
@@ -39,20 +40,20 @@ def _flat(text: str) -> str:
 def test_cover_carries_configuration_inputs_and_caution(built: Any, demo_result: Any, demo_panel: Any) -> None:
     paths, _ = built
     cover = _flat(_text(paths.folder / "report.pdf", 1, 1))
-    cover_raw = _flat(subprocess.run([str(PDFTOTEXT), "-raw", "-f", "1", "-l", "1", str(paths.folder / "report.pdf"),
-                                      "-"], check=True, capture_output=True, timeout=60).stdout.decode("utf-8"))
-    from valuesift.core.settings import SETTINGS, describe_value
-
-    for st in SETTINGS:  # every setting in words: its label and its value as a person reads it, never the code
-        assert _flat(st.label) in cover_raw, st.name  # raw order keeps a wrapped table cell together
-        assert _flat(describe_value(st, getattr(demo_result.config, st.name))).split(",")[0] in cover_raw, st.name
-    assert "hac_lag_rule" not in cover and "overlap_or_auto" not in cover
+    # every setting in words: its label and its value as a person reads it (the settings table), never the code;
+    # read in drawing order (-raw), so that a label wrapped inside its cell reads as one phrase
+    drawn = _flat(subprocess.run([str(PDFTOTEXT), "-raw", "-f", "1", "-l", "1", str(paths.folder / "report.pdf"), "-"],
+                                 check=True, capture_output=True, timeout=60).stdout.decode("utf-8"))
+    for _, label, value in settings_in_words(demo_result.config):
+        assert _flat(label) in drawn, label
+        assert _flat(value).split(",")[0] in drawn, label
+    assert "hac_lag_rule" not in cover and "overlap_or_auto" not in cover and "earnings_yield" not in cover
     for src in demo_panel.sources:
         assert src["name"] in cover and src["sha256"] in cover, src["name"]
     assert _flat(CAUTION) in cover
     assert "Committee demo" in cover and "2024-12-31" in cover
     assert "Prepared for the spring meeting." in cover
-    assert "119 names on the as-of date" in cover_raw      # the demo universe: 120 companies, one delisted by then
+    assert "119 names on the as-of date" in drawn      # the demo universe: 120 companies, one delisted by then
 
 
 @poppler

@@ -1,6 +1,6 @@
 """Timing of a full study on 3,000 securities x 360 months, 6 horizons (run by hand; not a test).
 
-    /work/main/.venv/bin/python tests/core/engine/bench_engine.py
+    /work/main/.venv/bin/python tests/core/bench_engine.py
 """
 
 from __future__ import annotations

@@ -11,7 +11,7 @@ import pytest
 
 from valuesift.app.cli import main
 
-from tests.cli.test_cli import DEMO_ARGS as _DEMO_FILES
+from tests.app.cli.test_cli import DEMO_ARGS as _DEMO_FILES
 
 DEMO_ARGS = [*_DEMO_FILES, "--horizons", "1,3,12", "--quiet"]
 

@@ -15,7 +15,7 @@ from valuesift.app.cli import main
 from valuesift.app.words import SECURITY_FLAG_WORDS
 from valuesift.core.settings import SETTING_BY_NAME
 
-ROOT = Path(__file__).resolve().parents[2]
+ROOT = Path(__file__).resolve().parents[3]
 SAMPLE = ROOT / "sample_data"
 DEMO_ARGS = [
     "--prices", str(SAMPLE / "prices.csv"),

@@ -38,7 +38,7 @@ from valuesift.core.demo import (
 )
 from valuesift.core.errors import ConfigError
 
-ROOT = pathlib.Path(__file__).resolve().parents[2]
+ROOT = pathlib.Path(__file__).resolve().parents[3]
 SAMPLE = ROOT / "sample_data"
 FILES = ("prices.csv", "earnings.csv", "dividends.csv", "sectors.csv", "holdings.csv", "benchmark.csv", "README.md")
 PriceSeries = dict[str, list[tuple[dt.date, float | None]]]

@@ -10,7 +10,7 @@ from typing import Any
 import pandas as pd
 import pytest
 
-from tests.bundle.conftest import CREATED
+from tests.app.bundle.conftest import CREATED
 
 
 @pytest.fixture(scope="module")

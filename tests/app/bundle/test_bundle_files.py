@@ -16,7 +16,9 @@ import pytest
 
 from valuesift.app.bundle import CHART_KEYS, TABLE_KEYS, bundle_name, find_browser
 from valuesift.app.bundle.charts import plotly_js_path
-from valuesift.app.bundle.tables import result_tables
+from valuesift.app.bundle.tables import SETTINGS_SHEET, result_tables
+from valuesift.app.words import SIGNAL_WORDS
+from valuesift.core.settings import SETTING_BY_NAME, SETTINGS, describe_value
 from valuesift.core.reporting.summary import ic_by_date_frame, summary_dict
 
 needs_browser = pytest.mark.skipif(find_browser() is None, reason="no Chrome/Chromium: images are not rendered "
@@ -145,10 +147,28 @@ def test_csv_tables_read_back_equal_to_the_result(built: Any, demo_result: Any, 
                 np.testing.assert_array_equal(got[c].to_numpy(dtype=float), w.to_numpy(dtype=float), err_msg=f"{key}.{c}")
 
 
+def test_xlsx_settings_sheet_holds_every_setting_in_words(built: Any, demo_result: Any) -> None:
+    paths, _ = built
+    sheet = pd.read_excel(paths.folder / "tables" / "tables.xlsx", sheet_name=SETTINGS_SHEET, engine="openpyxl",
+                          dtype=str, keep_default_na=False)
+    assert list(sheet.columns) == ["Section", "Setting", "Value"]
+    # one row per row of the settings table, by its label, with the value as describe_value words it
+    assert sheet["Setting"].tolist() == [s.label for s in SETTINGS]
+    words = dict(zip(sheet["Setting"], sheet["Value"]))
+    for s in SETTINGS:
+        if s.name not in ("signal", "composite_of"):
+            assert words[s.label] == describe_value(s, getattr(demo_result.config, s.name)), s.name
+    assert words[SETTING_BY_NAME["signal"].label] == SIGNAL_WORDS[demo_result.config.signal]
+    codes = {"overlap_or_auto", "mean_std", "set_aside", "winsorise", "hac_lag_rule", "earnings_yield"}
+    assert not codes & set(sheet["Value"]) and not codes & set(sheet["Setting"])
+
+
 def test_xlsx_sheets_read_back_equal_to_the_csv(built: Any) -> None:
     paths, _ = built
     book = pd.read_excel(paths.folder / "tables" / "tables.xlsx", sheet_name=None, engine="openpyxl")
-    assert set(book) == set(TABLE_KEYS)
+    assert set(book) == set(TABLE_KEYS) | {SETTINGS_SHEET}
+    assert list(book)[0] == SETTINGS_SHEET
+    book.pop(SETTINGS_SHEET)
     for key, sheet in book.items():
         csv = pd.read_csv(paths.folder / "tables" / f"{key}.csv")
         assert list(sheet.columns) == list(csv.columns), key
