@@ -106,7 +106,9 @@ def add_serve(sub: Any) -> None:
     p.add_argument("--host", default="127.0.0.1",
                    help="address to listen on; anything but loopback needs --allow-remote and prints a token")
     p.add_argument("--allow-remote", action="store_true", help="permit a non-loopback --host (token required)")
-    p.add_argument("--token", default=None, help=argparse.SUPPRESS)   # refused: the process list would show it
+    p.add_argument("--token", default=None, metavar="TOKEN",
+                   help="not accepted: a token on the command line is visible to every user of the machine in "
+                        "the process list; use --token-file or VALUESIFT_TOKEN instead")
     p.add_argument("--token-file", default=None, metavar="FILE",
                    help="file (private to you) whose first line is the access token for a non-loopback bind; "
                         "or set the VALUESIFT_TOKEN environment variable (default: a token is generated)")

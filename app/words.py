@@ -18,6 +18,8 @@ from valuesift.core.settings import SETTINGS, describe_value
 
 __all__ = [
     "SCREEN_FLAG_WORDS",
+    "EVIDENCE_WORDS",
+    "evidence_words",
     "SECURITY_FLAG_WORDS",
     "GROUP_WORDS",
     "SIGNAL_WORDS",
@@ -187,3 +189,28 @@ def intake_report_text(report: Any) -> str:
     parts = [f.to_text() for f in report.files]
     parts.extend(intake_report_lines(report, max_names=8))
     return "\n".join(parts)
+
+
+#: The evidence codes in words (codes from valuesift.core.inference.evidence).
+EVIDENCE_WORDS: dict[str, str] = {
+    "strong": "strong evidence by the usual standard, |t| of 3 or more",
+    "moderate": "some evidence: distinguishable from zero at the usual 5% level, not by a wide margin",
+    "no_evidence": "no evidence either way at this sample size",
+    "moderate_reverse": "some evidence in the reverse direction: the dear names out-earned the cheap ones",
+    "strong_reverse": "strong evidence in the reverse direction: the dear names out-earned the cheap ones",
+    "too_short": "too short to judge",
+    "not_available": "cannot be judged (too few dates)",
+}
+
+
+def evidence_words(code: Any, independent_periods: Any = None) -> str:
+    """The verdict code in words; a too-short horizon says how many independent periods it rests on."""
+    c = str(code)
+    if c == "too_short":
+        try:
+            ip = float(independent_periods)
+        except (TypeError, ValueError):
+            ip = float("nan")
+        return ("too short to judge: only " + (f"{ip:.1f} " if np.isfinite(ip) else "a few ") +
+                "independent periods, so no verdict is given")
+    return EVIDENCE_WORDS.get(c, EVIDENCE_WORDS["not_available"])

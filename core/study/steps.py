@@ -379,8 +379,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
         eps_age = months_since_valid(np.isfinite(stamped))
     sec_lab = [sector_names[c] for c in codes] if panel.sectors is not None else [NO_SECTOR] * n_sec
     hold = panel.holdings.reindex(secs).to_numpy(dtype=float) if panel.holdings is not None else np.full(n_sec, np.nan)
-    notes.append("Standard errors: Hansen-Hodrick (every overlap lag weighted fully) for horizons above one "
-                 "month, Newey-West for one month; the Bartlett figure is kept beside it (see the methodology).")
+    notes.append("Standard errors: Hansen-Hodrick above one month, Newey-West at one month (see the methodology).")
     uses_eps = cfg.signal == "earnings_yield" or (cfg.signal == "composite" and "earnings_yield" in cfg.composite_of)
     efile = _earnings_file(panel)
     ey_u = None

@@ -15,7 +15,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "engine"))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from _panels import make_panel  # noqa: E402
 
 from valuesift.core.errors import ConfigError  # noqa: E402
