@@ -88,8 +88,8 @@ def test_upload_the_demo_files(page, server: str, demo_dir: Path) -> None:  # ty
     bad.write_bytes(b"")
     page.locator("#data-upload input[type=file]").set_input_files([str(bad)])
     expect(page.locator("#data-upload-alert .vs-alert-error")).to_contain_text("broken-prices.csv")
-    expect(page.locator(".vs-dataset")).to_have_count(7)
-    expect(page.locator(".vs-dataset-failed")).to_have_count(1)
+    expect(page.locator(".vs-dataset")).to_have_count(6)          # a rejected file is not kept (issue 14, item 11)
+    expect(page.locator(".vs-dataset-failed")).to_have_count(0)
     _shot(page, "data")
     assert not page.errors
 
