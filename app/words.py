@@ -112,21 +112,26 @@ def screen_flag_words(codes: str, months_since_price: float = np.nan, months_sin
 def screen_in_words(screen: pd.DataFrame, n_quantiles: int | None = None) -> pd.DataFrame:
     """The screen with its codes in words: ``pe_display``, ``quantile_label`` and ``flags`` as text.
 
-    ``n_quantiles`` defaults to the screen's ``attrs["n_quantiles"]``.  The numbers are left as
+    ``n_quantiles`` defaults to the screen's ``attrs["n_quantiles"]``; missing columns read as
+    blank.  The numbers are left as
     they are; ``attrs`` (the date) are kept.  A screen already in words is returned unchanged.
     """
     if "quantile_label" in screen.columns:
         return screen
-    n_quantiles = int(n_quantiles if n_quantiles is not None else screen.attrs["n_quantiles"])
+    nan = pd.Series(np.nan, index=screen.index)
+
+    def col(name: str) -> np.ndarray:
+        return pd.to_numeric(screen[name] if name in screen.columns else nan, errors="coerce").to_numpy(dtype=float)
+
+    pe, q, pa, ea = col("pe"), col("quantile"), col("months_since_price"), col("months_since_eps")
+    if n_quantiles is None:  # a screen without its attrs (a hand-made table): the highest quantile present
+        n_quantiles = screen.attrs.get("n_quantiles") or (int(np.nanmax(q)) if np.isfinite(q).any() else 0)
+    has = screen["has_eps"].to_numpy(dtype=bool) if "has_eps" in screen.columns else np.isfinite(pe)
+    codes = screen["flags"] if "flags" in screen.columns else pd.Series("", index=screen.index)
     out = screen.copy()
-    pe = pd.to_numeric(out["pe"], errors="coerce").to_numpy(dtype=float)
-    has = out["has_eps"].to_numpy(dtype=bool) if "has_eps" in out.columns else np.isfinite(pe)
-    q = pd.to_numeric(out["quantile"], errors="coerce").to_numpy(dtype=float)
-    pa = pd.to_numeric(out["months_since_price"], errors="coerce").to_numpy(dtype=float)
-    ea = pd.to_numeric(out["months_since_eps"], errors="coerce").to_numpy(dtype=float)
     out["pe_display"] = [pe_words(a, b) for a, b in zip(pe, has)]
-    out["quantile_label"] = [quantile_words(v, n_quantiles) for v in q]
-    out["flags"] = [screen_flag_words(c, a, b) for c, a, b in zip(out["flags"], pa, ea)]
+    out["quantile_label"] = [quantile_words(v, int(n_quantiles)) for v in q]
+    out["flags"] = [screen_flag_words(c, a, b) for c, a, b in zip(codes, pa, ea)]
     out.attrs = dict(screen.attrs)
     return out
 

@@ -112,6 +112,15 @@ def test_study_updates_with_horizon_and_universe(page, server: str) -> None:  # 
     page.locator("#study-universe").get_by_text("The holdings", exact=True).click()
     expect(page.locator("#study-summary")).not_to_have_text(first_summary)
     expect(page.locator("#study-summary")).to_contain_text("30 names on average")
+    # The minimum-breadth control takes effect: above the 30 holdings no date has an IC, and the chart says so.
+    breadth = page.locator("#study-min-breadth input, input#study-min-breadth").first
+    breadth.fill("31")
+    breadth.press("Enter")
+    expect(page.locator("#study-ic-horizon .annotation-text")).to_contain_text("No horizon has enough dates")
+    breadth.fill("10")
+    breadth.press("Enter")
+    expect(page.locator("#study-ic-horizon .annotation-text")).to_have_count(0)
+    assert page.locator("#study-ic-horizon .trace.bars .point").count() == 6     # one bar per default horizon
     expect(_title(page, "study-growth")).to_contain_text("Growth of 1")
     # One date's scatter.
     page.locator("#study-scatter-date").click()
