@@ -43,6 +43,7 @@ SCREEN_FLAG_WORDS: dict[str, str] = {
     "old_eps": "EPS {eps} months old",
     "no_quantile": "no quantile on this date",
     "no_signal": "no signal",
+    "signal_not_meaningful": "signal of 0 or below: not meaningful for a lower-is-cheaper signal, set aside",
 }
 
 #: Intake flag code of a security -> words.

@@ -5,7 +5,7 @@ from __future__ import annotations
 import codecs
 import re
 from dataclasses import dataclass
-from typing import Any, get_args
+from typing import get_args
 
 from valuesift.core.choices import DateOrder, DecimalStyle, DuplicateRule, EarningsForm, FileKind, IdCleanup, Layout
 from valuesift.core.errors import ConfigError

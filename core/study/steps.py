@@ -140,22 +140,28 @@ def _lag(panel: Panel, cfg: "StudyConfig") -> int:
     return 0 if panel.eps_dated_by_availability else cfg.reporting_lag_months
 
 
-def _signal(panel: Panel, cfg: "StudyConfig", u0: np.ndarray) -> tuple[RawSignal, int]:
-    """The studied signal (oriented) and how many values of 0 or below were set aside."""
+def _signal(panel: Panel, cfg: "StudyConfig", u0: np.ndarray) -> tuple[RawSignal, np.ndarray, list[str]]:
+    """The studied signal (oriented), the cells set aside as not meaningful, and notes on what was done."""
     lag = _lag(panel, cfg)
-    if cfg.signal != "composite":
-        rs, n_aside = orient_lower_is_cheaper(raw_signal(panel, cfg.signal, lag, cfg.eps_max_age_months),
-                                              cfg.nonpositive_lower_is_cheaper, u0)
-        return rs, n_aside
+    names = (cfg.signal,) if cfg.signal != "composite" else cfg.composite_of
+    aside = np.zeros(u0.shape, dtype=bool)
+    notes: list[str] = []
     parts = []
-    total = 0
-    for name in cfg.composite_of:
-        rs, n_aside = orient_lower_is_cheaper(raw_signal(panel, name, lag, cfg.eps_max_age_months),
-                                              cfg.nonpositive_lower_is_cheaper, u0)
-        total += n_aside
+    for name in names:
+        raw = raw_signal(panel, name, lag, cfg.eps_max_age_months)
+        rs, _ = orient_lower_is_cheaper(raw, cfg.nonpositive_lower_is_cheaper, u0)
+        if raw.sign < 0:
+            with np.errstate(invalid="ignore"):
+                aside |= u0 & np.isfinite(raw.values) & ~np.isfinite(rs.values)
+            notes.append(f"The signal {name!r} is lower-is-cheaper: " + (
+                "it is studied as its reciprocal (higher = cheaper; values of 0 or below keep their order and rank "
+                "dearest)." if cfg.nonpositive_lower_is_cheaper == "reciprocal" else
+                "its values of 0 or below are not meaningful and are set aside (not ranked; flagged on the screen)."))
+        if cfg.signal != "composite":
+            return rs, aside, notes
         cl = clean_values(rs.values, u0, cfg.outlier_rule, cfg.winsor_percentiles, cfg.robust_z_limit)
         parts.append(standardise(cl, rs.sign, cfg.zscore_method))
-    return RawSignal("composite", composite_zmean(parts), 1.0), total
+    return RawSignal("composite", composite_zmean(parts), 1.0), aside, notes
 
 
 def _earnings_file(panel: Panel) -> Any:
@@ -231,7 +237,9 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
                                     f"universe filter ({cfg.universe!r}, minimum history {cfg.min_history_months} "
                                     "months)", "none", hint="Widen the universe filter or lower min_history_months.")
     tick("signals", 0.1)
-    sig, n_set_aside = _signal(panel, cfg, u0)
+    sig, set_aside, sig_notes = _signal(panel, cfg, u0)
+    notes.extend(sig_notes)
+    n_set_aside = int(set_aside.sum())
     universe = u0 & np.isfinite(sig.values)
     if not universe.any():
         raise InsufficientDataError(f"the signal {cfg.signal!r}", "at least one universe name with a signal value",
@@ -434,5 +442,6 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
         "date_notes": date_notes,
         "notes": tuple(notes),
         "ic_by_delay": delay_tab,
+        "signal_set_aside": _frame(set_aside, dates, secs),
         "warnings": tuple(warns),
     }
