@@ -30,7 +30,7 @@ from valuesift.core.study.steps import _per_horizon
 from valuesift.core.correlation.ic import ic_by_date
 from valuesift.core.panel import Panel
 from valuesift.core.returns import forward_returns, price_track
-from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.correlation.ranks import row_sort
 
 __all__ = ["dividend_dict", "notebook_forward_ic", "engine_forward_ic", "compare", "AGREEMENT_TOL"]
 
@@ -125,7 +125,7 @@ def engine_forward_ic(price: np.ndarray, valid: np.ndarray, div: np.ndarray, uni
         return np.where(universe, forward_returns(track, valid, h, "reinvest", delisting_return)[0], np.nan)
 
     fwd = dict(zip(horizons, _per_horizon(fwd_one, horizons, cells)))
-    zr = average_ranks(z)
+    zr = row_sort(z)  # as the study does
     ics = _per_horizon(lambda h: ic_by_date(z, fwd[h], min_breadth, zr), horizons, cells)
     return {"fwd": fwd, "rank_ic": {h: ics[j][0] for j, h in enumerate(horizons)},
             "pearson_ic": {h: ics[j][1] for j, h in enumerate(horizons)},
