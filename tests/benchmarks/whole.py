@@ -39,9 +39,15 @@ HEAVY_MODULES = ("scipy.stats", "statsmodels", "plotly", "dash", "reportlab", "m
 
 
 def _child(cmd: list[str]) -> dict[str, float]:
-    """Run ``cmd``; wall seconds, CPU seconds (user + system) and peak RSS (bytes) of the child."""
+    """Run ``cmd``; wall seconds, CPU seconds (user + system) and peak RSS (MB) of the child.
+
+    The peak comes from ``/usr/bin/time -f %M`` where it exists: a child forked straight from this
+    (large) process inherits its high-water mark, so ``ru_maxrss`` alone would report the parent's size.
+    """
+    timer = shutil.which("time", path="/usr/bin")
+    full = [timer, "-f", "VALUESIFT_PEAK_KB %M", *cmd] if timer else cmd
     t0 = time.perf_counter()
-    p = subprocess.Popen(cmd, cwd=ROOT, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    p = subprocess.Popen(full, cwd=ROOT, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
     _, status, ru = os.wait4(p.pid, 0)
     wall = time.perf_counter() - t0
     err = p.stderr.read().decode("utf-8", "replace") if p.stderr else ""
@@ -50,7 +56,11 @@ def _child(cmd: list[str]) -> dict[str, float]:
     p.returncode = os.waitstatus_to_exitcode(status)
     if p.returncode != 0:
         raise RuntimeError(f"{' '.join(cmd)} failed ({p.returncode}): {err[-1500:]}")
-    return {"wall_s": wall, "cpu_s": ru.ru_utime + ru.ru_stime, "peak_rss_mb": ru.ru_maxrss / 1024.0}
+    peak_kb = float(ru.ru_maxrss)
+    for line in err.splitlines():
+        if line.startswith("VALUESIFT_PEAK_KB "):
+            peak_kb = float(line.split()[1])
+    return {"wall_s": wall, "cpu_s": ru.ru_utime + ru.ru_stime, "peak_rss_mb": peak_kb / 1024.0}
 
 
 def _med(runs: list[dict[str, float]], key: str) -> float:
