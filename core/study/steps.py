@@ -16,10 +16,11 @@ from valuesift.core.arrays import row_mean
 from valuesift.core.correlation.ic import (
     ic_and_slope,
     ic_by_date,
+    rank_ic_grid,
     ic_summary,
     rolling_ic,
 )
-from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.correlation.ranks import row_sort
 from valuesift.core.diagnostics.delay import DELAYS, delayed_signal, ic_by_delay
 from valuesift.core.diagnostics.warnings import input_warnings, lookahead_warnings
 from valuesift.core.errors import ConfigError, InsufficientDataError
@@ -289,7 +290,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     ric = np.full((t_len, len(hcols)), np.nan)
     pic = np.full_like(ric, np.nan)
     brd = np.zeros((t_len, len(hcols)), dtype=int)
-    zranks = average_ranks(zeval)  # ranked once, shared by every horizon
+    zranks = row_sort(zeval)  # sorted once: every horizon ranks its own names from it (same numbers)
     # Without Fama-MacBeth controls the slope comes from the IC's own centred arrays (same numbers).
     fm_plain = not (cfg.fm_log_market_cap or cfg.fm_sector_dummies)
 
@@ -314,11 +315,13 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     h0 = min(cfg.horizons)
     drop_t: dict[int, float] = {}
     persistence: dict[int, float] = {}
+    # each delayed signal and both targets sorted once (rank_ic_grid: the same ICs as ic_by_date per pair)
+    late = rank_ic_grid({d: delayed_signal(zeval, universe, d) for d in DELAYS[1:]},
+                        {"h0": fwd[h0], "now": np.where(universe, zeval, np.nan)}, cfg.min_breadth)
     for d in DELAYS[1:]:
-        zd = delayed_signal(zeval, universe, d)
-        ric_d = ic_by_date(zd, fwd[h0], cfg.min_breadth)[0]
+        ric_d = late[(d, "h0")]
         # how much of the signal's ranking survives d months: the IC may fall that much without any look-ahead
-        rho_d = ic_by_date(zd, np.where(universe, zeval, np.nan), cfg.min_breadth)[0]
+        rho_d = late[(d, "now")]
         with np.errstate(invalid="ignore"):
             persistence[d] = float(np.nanmean(rho_d)) if np.isfinite(rho_d).any() else float("nan")
         drop_t[d] = float(headline_inference(ric_by_h[h0] * persistence[d] - ric_d, h0, cfg.hac_lag_rule)["t"])
