@@ -20,6 +20,8 @@ __all__ = [
     "SCREEN_FLAG_WORDS",
     "EVIDENCE_WORDS",
     "evidence_words",
+    "SE_METHOD_WORDS",
+    "t_name",
     "SECURITY_FLAG_WORDS",
     "GROUP_WORDS",
     "SIGNAL_WORDS",
@@ -220,3 +222,14 @@ def evidence_words(code: Any, independent_periods: Any = None) -> str:
         return ("too short to judge: only " + (f"{ip:.1f} " if np.isfinite(ip) else "a few ") +
                 "independent periods, so no verdict is given")
     return EVIDENCE_WORDS.get(c, EVIDENCE_WORDS["not_available"])
+
+
+#: The standard-error method codes of the summaries in words.
+SE_METHOD_WORDS: dict[str, str] = {"hansen_hodrick": "Hansen-Hodrick", "newey_west": "Newey-West",
+                                   "newey_west_fallback": "Newey-West"}
+
+
+def t_name(method: Any) -> str:
+    """``"Hansen-Hodrick t"`` or ``"Newey-West t"`` for a method code (``"t"`` when unknown)."""
+    name = SE_METHOD_WORDS.get(str(method))
+    return f"{name} t" if name else "t"

@@ -102,7 +102,7 @@ def test_study_updates_with_horizon_and_universe(page, server: str) -> None:  # 
     expect(_title(page, "study-ic-time")).to_contain_text("12-month horizon")
     expect(page.locator("#study-ic-time .gtitle-subtitle, #study-ic-time .gtitle")).not_to_have_count(0)
     assert page.locator("#study-ic-time .trace.bars .point").count() > 100
-    expect(page.locator("#study-summary")).to_contain_text("Newey-West t")
+    expect(page.locator("#study-summary")).to_contain_text("Hansen-Hodrick t")
     first_summary = page.locator("#study-summary").inner_text()
     page.locator("#study-horizon").get_by_text("3 m", exact=True).click()
     expect(_title(page, "study-ic-time")).to_contain_text("3-month horizon")

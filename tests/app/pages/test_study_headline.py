@@ -39,7 +39,7 @@ def test_a_leaked_signal_is_called_out_above_the_headline(study_page, small_pane
     assert alerts and "Possible look-ahead" in _text(alerts[0])
     assert out.index(alerts[0]) == 0  # the warnings come first
     head = _text(out[-1])
-    assert "Newey-West t =" in head and "independent periods" in head and "nan" not in head
+    assert "Newey-West t =" in head and "independent periods" in head and "nan" not in head  # 1 month: Newey-West
 
 
 def test_a_too_short_horizon_gets_no_verdict_and_no_nan(study_page, small_panel) -> None:  # type: ignore[no-untyped-def]
