@@ -24,15 +24,20 @@ from typing import Any, Iterable
 
 import dash
 import flask
+import waitress  # called as waitress.serve, so a test can stand in for the real server
+
 # Dash offers no public way to reset its process-wide callback registry, and the framework supports one
 # app per process; create_app clears it so that a second app in the same process (the tests) gets the
 # pages' callbacks once. The one private name of another library the project uses (tests/architecture.py).
 from dash import _callback
-from waitress import serve as waitress_serve
-
 from valuesift import app as _app_pkg
 from valuesift.app import shell
-from valuesift.app.services import SESSION_COOKIE, AppState, normalise_selection, selection_key
+from valuesift.app.services import (
+    SESSION_COOKIE,
+    AppState,
+    normalise_selection,
+    selection_key,
+)
 from valuesift.app.settings import config_from_settings
 from valuesift.app.workspace import Workspace
 from valuesift.core.demo import write_demo
@@ -389,7 +394,7 @@ def serve(host: str = "127.0.0.1", port: int = 8750, demo: bool = False, workspa
         app.run(host=host, port=port, debug=True)
         return 0
 
-    waitress_serve(app.server, host=host, port=port, threads=threads, ident="ValueSift",
+    waitress.serve(app.server, host=host, port=port, threads=threads, ident="ValueSift",
                    max_request_body_size=server_body_limit(app))
     return 0
 
