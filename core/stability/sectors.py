@@ -1,0 +1,73 @@
+"""The signal's information coefficient and spread within each sector."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pandas as pd
+
+from valuesift.core.choices import HacLagRule
+from valuesift.core.correlation.ic import ic_by_date
+from valuesift.core.inference.nonoverlap import headline_block
+
+__all__ = ["sector_ic_table", "within_group_spread"]
+
+
+def within_group_spread(q: np.ndarray, fwd: np.ndarray, member: np.ndarray, n_q: int) -> np.ndarray:
+    """Per date: mean forward return of quantile ``n_q`` minus quantile 1 among ``member`` names (NaN if either is empty)."""
+    top = member & (q == n_q) & np.isfinite(fwd)
+    bot = member & (q == 1) & np.isfinite(fwd)
+    nt, nb = top.sum(axis=1), bot.sum(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mt = np.where(top, fwd, 0.0).sum(axis=1) / nt
+        mb = np.where(bot, fwd, 0.0).sum(axis=1) / nb
+    return np.where((nt > 0) & (nb > 0), mt - mb, np.nan)
+
+
+def sector_ic_table(z: np.ndarray, fwd: dict[int, np.ndarray], codes: np.ndarray, names: list[str],
+                    q_within: np.ndarray, n_q: int, min_breadth: int, rule: HacLagRule) -> pd.DataFrame:
+    """Mean rank IC (headline t), spread within the sector (headline t) and breadth per sector and horizon.
+
+    Parameters
+    ----------
+    z : ndarray (D x S)
+        The evaluated signal.
+    fwd : dict horizon -> ndarray (D x S)
+    codes : ndarray (S,) of int
+        Sector code of each security; ``names[code]`` its name.
+    q_within : ndarray (D x S)
+        Quantiles assigned within each sector.
+    min_breadth : int
+        A sector-date needs this many names with a signal and a return for an IC.
+
+    Returns
+    -------
+    DataFrame
+        ``sector, horizon, mean_ic, ic_t, spread, spread_t, mean_breadth, n_dates, too_short,
+        evidence, judged`` (``judged`` False: the sector never reached ``min_breadth`` names, too small to judge).
+
+    Notes
+    -----
+    Within a sector the IC is the Spearman correlation over that sector's names only (so it measures
+    the ranking inside the sector, not the sector bet); t-statistics are the headline of
+    :func:`headline_block`.
+    """
+    rows = []
+    for c in np.unique(codes):
+        member_cols = codes == c
+        zs = np.where(member_cols[None, :], z, np.nan)
+        for h in sorted(fwd):
+            ric, _, brd = ic_by_date(zs, fwd[h], min_breadth)
+            inf = headline_block(ric, int(h), rule)
+            sp = within_group_spread(q_within, fwd[h], member_cols[None, :] & np.isfinite(z), n_q)
+            sp = np.where(np.isfinite(ric), sp, np.nan)
+            spi = headline_block(sp, int(h), rule)
+            used = np.isfinite(ric)
+            rows.append({"sector": names[int(c)], "horizon": int(h), "mean_ic": inf["mean"], "ic_t": inf["t"],
+                         "spread": spi["mean"], "spread_t": spi["t"],
+                         "mean_breadth": float(brd[used].mean()) if used.any() else math.nan,
+                         "n_dates": int(inf["n_dates"]), "too_short": bool(inf["too_short"]),
+                         "evidence": inf["evidence"], "judged": bool(used.any())})
+    return pd.DataFrame(rows, columns=["sector", "horizon", "mean_ic", "ic_t", "spread", "spread_t", "mean_breadth",
+                                       "n_dates", "too_short", "evidence", "judged"])
