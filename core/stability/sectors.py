@@ -57,6 +57,8 @@ def sector_ic_table(z: np.ndarray, fwd: dict[int, np.ndarray], codes: np.ndarray
     for c in np.unique(codes):
         member_cols = codes == c
         zs = np.where(member_cols[None, :], z, np.nan)
+        if not np.isfinite(zs).any():  # no name of this sector ever had a signal: nothing to show
+            continue
         for h in sorted(fwd):
             ric, _, brd = ic_by_date(zs, fwd[h], min_breadth)
             inf = headline_block(ric, int(h), rule)

@@ -42,7 +42,7 @@ from valuesift.core.study.steps import to_month_grid
 if TYPE_CHECKING:  # pragma: no cover
     from valuesift.core.result import StudyResult
 
-__all__ = ["stability_fields", "RELATIVE_PORTFOLIOS", "CONTROL_WORDS"]
+__all__ = ["stability_fields", "comparison_column", "RELATIVE_PORTFOLIOS", "CONTROL_WORDS"]
 
 #: The backtest portfolios measured against the comparison.
 RELATIVE_PORTFOLIOS: tuple[str, ...] = ("cheapest", "long_short")
@@ -55,14 +55,20 @@ def _on_dates(s: pd.Series, dates: pd.DatetimeIndex) -> np.ndarray:
     return pd.to_numeric(s, errors="coerce").reindex(dates).to_numpy(dtype=float)
 
 
+def comparison_column(result: "StudyResult") -> str:
+    """The series the relative figures, regimes and betas are measured against: the benchmark when a
+    benchmark file was given, else the equal-weight universe."""
+    return "benchmark" if "benchmark" in result.backtest.returns.columns else "universe"
+
+
 def _relative(result: "StudyResult") -> pd.DataFrame:
     bt = result.backtest
-    comp = bt.returns[bt.comparison].to_numpy(dtype=float)
+    col = comparison_column(result)
+    comp = bt.returns[col].to_numpy(dtype=float)
     rows = {}
     for p in RELATIVE_PORTFOLIOS:
         if p in bt.returns.columns:
-            rows[p] = relative_performance(bt.returns[p].to_numpy(dtype=float), comp, result.config.hac_lag_rule,
-                                           bt.comparison)
+            rows[p] = relative_performance(bt.returns[p].to_numpy(dtype=float), comp, result.config.hac_lag_rule, col)
     out = pd.DataFrame.from_dict(rows, orient="index", columns=[*RELATIVE_KEYS, "comparison"])
     out.index.name = "portfolio"
     return out
@@ -96,8 +102,7 @@ def _periods(result: "StudyResult", split: pd.Timestamp) -> tuple[pd.DataFrame, 
 
 def _comparison_monthly(result: "StudyResult", dates: pd.DatetimeIndex) -> np.ndarray:
     """The comparison's monthly return on the date axis, dated at the end of the month earned."""
-    bt = result.backtest
-    return _on_dates(bt.returns[bt.comparison], dates)
+    return _on_dates(result.backtest.returns[comparison_column(result)], dates)
 
 
 def _regimes(result: "StudyResult") -> pd.DataFrame:
@@ -265,7 +270,13 @@ def stability_fields(result: "StudyResult", panel: Panel) -> dict[str, Any]:
     periods, diff = _periods(result, _split(result))
     decay, facts = _decay(result, _one_month(result, grid, track, valid))
     cw, cwb = _capweighted(result, grid)
+    col = comparison_column(result)
+    note = ("Relative figures, market regimes and betas are measured against the benchmark file."
+            if col == "benchmark" else
+            "No benchmark file was given: relative figures, market regimes and betas are measured against the "
+            "equal-weight universe.")
     return {
+        "notes": tuple(result.notes) + (note,),
         "relative": _relative(result),
         "ic_by_period": periods,
         "period_difference": diff,
