@@ -233,7 +233,7 @@ SETTINGS: tuple[Setting, ...] = (
     Setting("fm_log_market_cap", "bool", False, "Log market cap in Fama-MacBeth",
             "Add the logarithm of market capitalisation to each date's regression.",
             choices=_YES_NO, flag="--fm-log-cap", group="evaluation"),
-    Setting("split_month", "month", "", "Split of the history",
+    Setting("split_month", "month", "", "Split month",
             "The month from which the second half of the history is counted when the two halves are compared "
             "(empty: the middle of the dates with an information coefficient).",
             flag="--split-month", group="evaluation"),
@@ -323,7 +323,7 @@ def describe_value(setting: Setting, value: object) -> str:
         if isinstance(value, (tuple, list)):
             return ", ".join(SIGNAL_WORDS.get(str(v), str(v)) for v in value)
     if setting.kind == "month":
-        return str(value) if value else "the middle of the history"
+        return str(value) if value else "middle"
     if setting.kind == "bool":
         return "on" if value else "off"
     if setting.kind == "choice":

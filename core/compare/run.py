@@ -31,7 +31,8 @@ from valuesift.core.returns import monthly_returns, price_track
 from valuesift.core.study import run_study
 from valuesift.core.study.steps import to_month_grid
 
-__all__ = ["COMPARE_COLUMNS", "CompareResult", "run_compare", "signal_correlation", "MIN_SIGNALS", "MAX_SIGNALS"]
+__all__ = ["COMPARE_COLUMNS", "CompareResult", "run_compare", "compare_results", "signal_correlation", "MIN_SIGNALS",
+           "MAX_SIGNALS"]
 
 MIN_SIGNALS, MAX_SIGNALS = 2, 8
 
@@ -172,54 +173,78 @@ def run_compare(panel: Panel, signals: tuple[str, ...] | list[str], config: Stud
     sigs = tuple(str(s) for s in signals)
     _check(sigs, panel)
     base = config or StudyConfig()
+    results: dict[str, StudyResult] = {}
+    for i, s in enumerate(sigs):
+        if progress is not None:
+            progress(f"studying {s}", i / (len(sigs) + 1))
+        results[s] = run_study(panel, replace(base, signal=s), detail=False)
+    if progress is not None:
+        progress("correlations and the joint regression", len(sigs) / (len(sigs) + 1))
+    out = compare_results(panel, results)
+    if progress is not None:
+        progress("done", 1.0)
+    return out
+
+
+def compare_results(panel: Panel, results: dict[str, StudyResult]) -> CompareResult:
+    """Put finished studies of the same panel side by side (labels are the keys of ``results``).
+
+    The studies may be saved studies with settings of their own; the table then reports each with its
+    own settings (horizons, holding period), and the correlation and joint regression use the
+    dates and names they share.  Composites (``signal == "composite"``) stay out of the joint regression.
+    """
+    if len(results) < MIN_SIGNALS or len(results) > MAX_SIGNALS:
+        raise ConfigError(f"A comparison needs {MIN_SIGNALS} to {MAX_SIGNALS} signals; {len(results)} given.",
+                          hint="Choose two to eight signals or saved studies.", setting="signal")
+    labels = tuple(results)
+    base = results[labels[0]].config
     grid = to_month_grid(panel, [])
     price = grid.prices.to_numpy(dtype=float)
     valid = grid.valid_price_mask()
     div = grid.dividend_matrix().to_numpy(dtype=float) if grid.dividends is not None else np.zeros_like(price)
-    monthly = monthly_returns(price_track(price, valid, div), base.delisting_return)
+    track = price_track(price, valid, div)
     bench = grid.benchmark.to_numpy(dtype=float) if grid.benchmark is not None else None
     rows: list[dict[str, object]] = []
     zs: dict[str, np.ndarray] = {}
     fwd: dict[int, np.ndarray] = {}
     ics: dict[str, pd.DataFrame] = {}
-    for i, s in enumerate(sigs):
-        if progress is not None:
-            progress(f"studying {s}", i / (len(sigs) + 1))
-        res = run_study(panel, replace(base, signal=s), detail=False)
-        ics[s] = res.rank_ic
-        zs[s] = res.signal_z.to_numpy(dtype=float)
-        if s != "composite":
-            for h in base.horizons:
+    for label, res in results.items():
+        cfg = res.config
+        monthly = monthly_returns(track, cfg.delisting_return)
+        ics[label] = res.rank_ic
+        zs[label] = res.signal_z.to_numpy(dtype=float)
+        if cfg.signal != "composite":
+            for h in cfg.horizons:
                 f = res.forward_returns[h].to_numpy(dtype=float)
                 fwd[h] = f if h not in fwd else np.where(np.isfinite(fwd[h]), fwd[h], f)
         q = res.quantile.to_numpy(dtype=float)
         uni = res.universe.to_numpy(dtype=bool)
-        for h in base.horizons:
-            if int(h) == base.holding_months:
+        for h in cfg.horizons:
+            if int(h) == cfg.holding_months:
                 bt = res.backtest
             else:
-                bt = run_backtest(q, base.n_quantiles, uni, monthly, pd.DatetimeIndex(grid.prices.index),
+                bt = run_backtest(q, cfg.n_quantiles, uni, monthly, pd.DatetimeIndex(grid.prices.index),
                                   pd.Index(grid.prices.columns), holding_months=int(h),
-                                  cost_bps=base.transaction_cost_bps, risk_free_annual=base.risk_free_annual,
-                                  comparison=base.comparison, benchmark_level=bench)
+                                  cost_bps=cfg.transaction_cost_bps, risk_free_annual=cfg.risk_free_annual,
+                                  comparison=cfg.comparison, benchmark_level=bench)
             tov = bt.turnover["cheapest"].to_numpy(dtype=float)[1:]
-            rows.append(_row(res, int(h), bt.stats.loc["cheapest"], float(np.nanmean(tov)) if tov.size else math.nan,
-                             int(h)))
-    if progress is not None:
-        progress("correlations and the joint regression", len(sigs) / (len(sigs) + 1))
+            row = _row(res, int(h), bt.stats.loc["cheapest"], float(np.nanmean(tov)) if tov.size else math.nan, int(h))
+            row["signal"] = label
+            rows.append(row)
     corr, corr_n = signal_correlation(zs)
-    joint_sigs = [s for s in sigs if s != "composite"]
-    left = tuple(s for s in sigs if s == "composite")
+    joint = [k for k in labels if results[k].config.signal != "composite"]
+    left = tuple(k for k in labels if results[k].config.signal == "composite")
     notes = []
     if left:
         notes.append("The composite is left out of the joint regression: it is a combination of the other signals.")
     jrows = []
-    if len(joint_sigs) >= 2:
-        for h in base.horizons:
-            coefs, _ = fm_multi(fwd[h], [zs[s] for s in joint_sigs])
-            for j, s in enumerate(joint_sigs):
+    shared = sorted(set.intersection(*[set(results[k].config.horizons) for k in joint])) if joint else []
+    if len(joint) >= 2:
+        for h in shared:
+            coefs, _ = fm_multi(fwd[h], [zs[k] for k in joint])
+            for j, k in enumerate(joint):
                 inf = headline_block(coefs[:, j], int(h), base.hac_lag_rule)
-                jrows.append({"signal": s, "horizon": int(h), "mean_slope": inf["mean"], "t": inf["t"],
+                jrows.append({"signal": k, "horizon": int(h), "mean_slope": inf["mean"], "t": inf["t"],
                               "se_method": inf["method"], "n_dates": int(inf["n_dates"]),
                               "too_short": bool(inf["too_short"]), "evidence": inf["evidence"]})
     else:
@@ -227,8 +252,6 @@ def run_compare(panel: Panel, signals: tuple[str, ...] | list[str], config: Stud
     notes.append("Each signal keeps its own dates, as its own study would (a trailing yield starts later); the "
                  "joint regression uses the dates and names where every signal in it has a value.")
     table = pd.DataFrame(rows, columns=list(COMPARE_COLUMNS))
-    joint = pd.DataFrame(jrows, columns=["signal", "horizon", "mean_slope", "t", "se_method", "n_dates", "too_short",
-                                         "evidence"])
-    if progress is not None:
-        progress("done", 1.0)
-    return CompareResult(sigs, base, table, corr, corr_n, joint, left, ics, tuple(notes))
+    jf = pd.DataFrame(jrows, columns=["signal", "horizon", "mean_slope", "t", "se_method", "n_dates", "too_short",
+                                      "evidence"])
+    return CompareResult(labels, base, table, corr, corr_n, jf, left, ics, tuple(notes))
