@@ -31,6 +31,7 @@ __all__ = [
     "describe_value",
     "failure_message",
     "SIGNAL_WORDS",
+    "is_month",
 ]
 
 SettingKind = Literal["int", "float", "bool", "choice", "int_list", "name", "name_list", "percentile_pair", "month"]
@@ -274,7 +275,7 @@ def _in_range(s: Setting, v: float) -> bool:
     return lo_ok and (s.hi is None or v <= s.hi)
 
 
-def _is_month(v: str) -> bool:
+def is_month(v: str) -> bool:
     """``YYYY-MM`` with a month 01..12 and a year 1800..2200."""
     if len(v) != 7 or v[4] != "-" or not (v[:4].isdigit() and v[5:].isdigit()):
         return False
@@ -301,7 +302,7 @@ def check_value(setting: Setting, value: object) -> Failure | None:
     elif s.kind == "name_list":
         ok = isinstance(v, (tuple, list)) and all(isinstance(x, str) and x for x in v)
     elif s.kind == "month":
-        ok = isinstance(v, str) and (v == "" or _is_month(v))
+        ok = isinstance(v, str) and (v == "" or is_month(v))
     elif s.kind == "percentile_pair":
         ok = (isinstance(v, (tuple, list)) and len(v) == 2 and all(_is_num(x) and math.isfinite(float(x)) for x in v)
               and 0.0 <= float(v[0]) < 50.0 < float(v[1]) <= 100.0)

@@ -24,12 +24,10 @@ from valuesift.core.correlation.rowwise import row_spearman
 from valuesift.core.errors import ConfigError
 from valuesift.core.inference.nonoverlap import headline_block
 from valuesift.core.panel import Panel
-from valuesift.core.portfolio.backtest import run_backtest
+from valuesift.core.portfolio.holding import backtest_at_holding, monthly_inputs
 from valuesift.core.regression.multi import fm_multi
 from valuesift.core.result import StudyResult
-from valuesift.core.returns import monthly_returns, price_track
 from valuesift.core.study import run_study
-from valuesift.core.study.steps import to_month_grid
 
 __all__ = ["COMPARE_COLUMNS", "CompareResult", "run_compare", "compare_results", "signal_correlation", "MIN_SIGNALS",
            "MAX_SIGNALS"]
@@ -198,35 +196,21 @@ def compare_results(panel: Panel, results: dict[str, StudyResult]) -> CompareRes
                           hint="Choose two to eight signals or saved studies.", setting="signal")
     labels = tuple(results)
     base = results[labels[0]].config
-    grid = to_month_grid(panel, [])
-    price = grid.prices.to_numpy(dtype=float)
-    valid = grid.valid_price_mask()
-    div = grid.dividend_matrix().to_numpy(dtype=float) if grid.dividends is not None else np.zeros_like(price)
-    track = price_track(price, valid, div)
-    bench = grid.benchmark.to_numpy(dtype=float) if grid.benchmark is not None else None
+    inputs = monthly_inputs(panel)
     rows: list[dict[str, object]] = []
     zs: dict[str, np.ndarray] = {}
     fwd: dict[int, np.ndarray] = {}
     ics: dict[str, pd.DataFrame] = {}
     for label, res in results.items():
         cfg = res.config
-        monthly = monthly_returns(track, cfg.delisting_return)
         ics[label] = res.rank_ic
         zs[label] = res.signal_z.to_numpy(dtype=float)
         if cfg.signal != "composite":
             for h in cfg.horizons:
                 f = res.forward_returns[h].to_numpy(dtype=float)
                 fwd[h] = f if h not in fwd else np.where(np.isfinite(fwd[h]), fwd[h], f)
-        q = res.quantile.to_numpy(dtype=float)
-        uni = res.universe.to_numpy(dtype=bool)
         for h in cfg.horizons:
-            if int(h) == cfg.holding_months:
-                bt = res.backtest
-            else:
-                bt = run_backtest(q, cfg.n_quantiles, uni, monthly, pd.DatetimeIndex(grid.prices.index),
-                                  pd.Index(grid.prices.columns), holding_months=int(h),
-                                  cost_bps=cfg.transaction_cost_bps, risk_free_annual=cfg.risk_free_annual,
-                                  comparison=cfg.comparison, benchmark_level=bench)
+            bt = backtest_at_holding(res, inputs, int(h))
             tov = bt.turnover["cheapest"].to_numpy(dtype=float)[1:]
             row = _row(res, int(h), bt.stats.loc["cheapest"], float(np.nanmean(tov)) if tov.size else math.nan, int(h))
             row["signal"] = label

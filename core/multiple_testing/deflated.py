@@ -15,7 +15,8 @@ import math
 import numpy as np
 from scipy import stats as _st
 
-__all__ = ["EULER_GAMMA", "probabilistic_sharpe", "expected_max_sharpe", "deflated_sharpe"]
+__all__ = ["EULER_GAMMA", "probabilistic_sharpe", "psr_from_moments", "sharpe_moments", "expected_max_sharpe",
+           "deflated_sharpe"]
 
 #: The Euler-Mascheroni constant.
 EULER_GAMMA = 0.5772156649015329
@@ -40,17 +41,27 @@ def probabilistic_sharpe(returns: np.ndarray, sr_star: float = 0.0) -> float:
     >>> round(probabilistic_sharpe(r, 0.0), 8)
     0.6884495
     """
+    sr, g3, g4, t = sharpe_moments(returns)
+    return psr_from_moments(sr, g3, g4, t, sr_star)
+
+
+def sharpe_moments(returns: np.ndarray) -> tuple[float, float, float, int]:
+    """``(SR, g3, g4, T)``: per-period Sharpe ratio (sd ddof 1), population skewness and non-excess kurtosis."""
     x = np.asarray(returns, dtype=float)
     x = x[np.isfinite(x)]
-    t = x.size
+    t = int(x.size)
     if t < 3:
-        return math.nan
+        return math.nan, math.nan, math.nan, t
     sd = float(x.std(ddof=1))
     if not sd > 0:
+        return math.nan, math.nan, math.nan, t
+    return float(x.mean()) / sd, float(_st.skew(x)), float(_st.kurtosis(x, fisher=False)), t
+
+
+def psr_from_moments(sr: float, g3: float, g4: float, t: int, sr_star: float = 0.0) -> float:
+    """:func:`probabilistic_sharpe` from the moments (so a sweep can keep four numbers per trial, not the series)."""
+    if t < 3 or not all(math.isfinite(v) for v in (sr, g3, g4)):
         return math.nan
-    sr = float(x.mean()) / sd
-    g3 = float(_st.skew(x))
-    g4 = float(_st.kurtosis(x, fisher=False))
     den = 1.0 - g3 * sr + (g4 - 1.0) / 4.0 * sr * sr
     if not den > 0:
         return math.nan
