@@ -198,6 +198,10 @@ def panel_fingerprint(panel: Panel) -> str:
     return h.hexdigest()[:16]
 
 
+#: Layout of the cached rows (2: per-horizon Sharpe, its t and moments, hold-out columns).
+_LAYOUT = 2
+
+
 def _cache_file(cache_dir: Path, input_key: str, point: GridPoint) -> Path:
     return cache_dir / input_key / f"{point.id}.json"
 
@@ -207,8 +211,8 @@ def _read_cached(path: Path, point: GridPoint) -> dict[str, Any] | None:
         data = json.loads(path.read_text(encoding="utf-8"))
     except (OSError, ValueError):
         return None
-    if data.get("config") != point.config.to_dict() or data.get("status") != "ok":
-        return None
+    if data.get("config") != point.config.to_dict() or data.get("status") != "ok" or data.get("layout") != _LAYOUT:
+        return None  # another configuration, a failure, or rows of an older table layout
     return {"status": "ok", "rows": data["rows"]}
 
 
@@ -216,7 +220,7 @@ def _write_cached(path: Path, point: GridPoint, out: dict[str, Any]) -> None:
     if out.get("status") != "ok":
         return  # failures are tried again on the next run
     path.parent.mkdir(parents=True, exist_ok=True)
-    blob = json.dumps({"config": point.config.to_dict(), **out}, sort_keys=True)  # NaN kept as NaN
+    blob = json.dumps({"config": point.config.to_dict(), "layout": _LAYOUT, **out}, sort_keys=True)  # NaN kept as NaN
     fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".json")
     with os.fdopen(fd, "w", encoding="utf-8") as fh:
         fh.write(blob)
@@ -277,8 +281,7 @@ def run_sweep(
     n_dup = len(grid.points) - len(points) + int(getattr(grid, "duplicates", 0))
     shipped = panel.with_(report=None)
     key = panel_fingerprint(shipped)
-    # the cache folder names the table layout (v2: per-horizon Sharpe, hold-out columns): older caches are not mixed in
-    ckey = key + "-v2" + (f"-holdout-{holdout}" if holdout else "")
+    ckey = key + (f"-holdout-{holdout}" if holdout else "")
     cdir = Path(cache_dir) if cache_dir is not None else None
     outcome: dict[str, dict[str, Any]] = {}
     total = len(points)
