@@ -208,7 +208,9 @@ def compare_sentences(cmp: CompareResult, horizon: int) -> list[str]:
         out.append(f"The most alike pair is {_words(a)} and {_words(b)} (mean rank correlation {v:.2f}).")
     j = cmp.joint_fm[cmp.joint_fm["horizon"] == int(horizon)]
     if not j.empty:
-        parts = [f"{_words(r['signal'])} {fmt_num(r['mean_slope'], 4)} (t = {fmt_num(r['t'], 2)}"
+        parts = [f"{_words(r['signal'])} not estimable (the signals move together too closely)"
+                 if int(r["n_dates"]) == 0 else
+                 f"{_words(r['signal'])} {fmt_num(r['mean_slope'], 4)} (t = {fmt_num(r['t'], 2)}"
                  + (", too short to judge" if bool(r["too_short"]) else "") + ")" for _, r in j.iterrows()]
         out.append("In one regression with the others, the slopes are: " + "; ".join(parts) + ". A signal whose slope "
                    "stays clear of zero carries information the others do not (in-sample association).")

@@ -29,9 +29,8 @@ def correlation_heatmap_figure(cmp: CompareResult) -> go.Figure:
     names = [chart_text(signal_words(s)) for s in c.index]
     z = c.to_numpy(dtype=float)
     n = cmp.correlation_dates.to_numpy(dtype=float)
-    fig = base_figure("How alike are the signals? Mean rank correlation",
-                      "Time-mean of each month's cross-sectional Spearman correlation between two signals' z-scores; "
-                      "near 1: the same bet, near 0: different information", height=460)
+    fig = base_figure("How alike are the signals?",
+                      "Mean monthly rank correlation of their z-scores; near 1: the same bet", height=460)
     text = [[f"{v:.2f}" if np.isfinite(v) else "n/a" for v in row] for row in z]
     fig.add_trace(go.Heatmap(
         z=z, x=names, y=names, zmin=-1, zmax=1, text=text, texttemplate="%{text}", textfont=dict(size=15),
@@ -48,20 +47,20 @@ def compare_ic_figure(cmp: CompareResult, horizon: int) -> go.Figure:
     title = f"Mean rank IC by signal, {int(horizon)} months"
     if t.empty:
         return message_figure(title, "No signal was studied at this horizon.")
-    fig = base_figure(title, "Bars: mean of monthly rank ICs (each signal on its own dates); labels: headline t "
-                             "and dates; a horizon too short to judge gets no verdict")
+    fig = base_figure(title, "Each signal on its own dates; labels: headline t and dates")
     ic = t["mean_ic"].to_numpy(dtype=float)
     labels = chart_texts([signal_words(s) for s in t["signal"]])
     notes = [("too short to judge" if bool(s) else f"t = {fmt_num(v, 1)}") + f", {int(n)} dates"
              for v, s, n in zip(t["ic_t"], t["too_short"], t["n_dates"])]
     fig.add_trace(go.Bar(x=labels, y=ic, marker_color=[CHEAP if v >= 0 else DEAR for v in np.nan_to_num(ic)],
                          text=notes, textposition="outside", cliponaxis=False, name="mean rank IC",
+                         textfont=dict(size=13), constraintext="none",
                          hovertemplate="%{x}: mean IC %{y:.3f}<extra></extra>"))
     fig.add_hline(y=0, line_color=MUTED, line_width=1)
     top = float(np.nanmax(np.r_[ic, 0.0]))
     bottom = float(np.nanmin(np.r_[ic, 0.0]))
     fig.update_yaxes(title="mean rank IC", range=[bottom - 0.15 * max(top - bottom, 1e-3),
-                                                  top + 0.25 * max(top - bottom, 1e-3)])
+                                                  top + 0.35 * max(top - bottom, 1e-3)])
     return fig
 
 
@@ -72,8 +71,11 @@ def joint_fm_figure(cmp: CompareResult, horizon: int) -> go.Figure:
     if j.empty:
         return message_figure(title, " ".join(n for n in cmp.notes if "joint" in n) or
                               "The joint regression needs two signals that are not composites.")
-    fig = base_figure(title, "Fama-MacBeth slope on each signal's z-score with the other signals in the same monthly "
-                             "regression (return per unit of z); labels: headline t. Association, not cause")
+    if not np.isfinite(j["mean_slope"].to_numpy(dtype=float)).any():
+        return message_figure(title, "The joint regression could not be estimated: the signals move together too "
+                                     "closely on every date.")
+    fig = base_figure(title, "Fama-MacBeth slope on each z-score with the other signals in the same regressions; "
+                             "association, not cause", wide=True)
     sl = j["mean_slope"].to_numpy(dtype=float)
     labels = chart_texts([signal_words(s) for s in j["signal"]])
     txt = ["too short to judge" if bool(s) else f"t = {fmt_num(v, 1)}" for v, s in zip(j["t"], j["too_short"])]

@@ -130,7 +130,7 @@ def decay_figure(result: StudyResult) -> go.Figure:
                              hovertemplate="months 1-%{x}: %{y:.3f}<extra></extra>"), secondary_y=True)
     fig.update_xaxes(title="month ahead", dtick=2)
     fig.update_yaxes(title="marginal rank IC", secondary_y=False, zeroline=True, zerolinecolor=MUTED)
-    fig.update_yaxes(title="running sum", secondary_y=True, showgrid=False)
+    fig.update_yaxes(title="running sum", secondary_y=True, showgrid=False, tickformat=".2f")
     fig.update_layout(template=TEMPLATE_NAME, legend=dict(orientation="h", y=-0.2))
     return fig
 

@@ -65,7 +65,8 @@ class CompareResult:
         ``signal, horizon, mean_slope, t, se_method, n_dates, too_short, evidence``: the slope on each
         signal's z-score in one cross-sectional regression with all the non-composite signals.
     joint_left_out : tuple of str
-        Signals left out of the joint regression (composites: combinations of the others).
+        Signals left out of the joint regression (composites: combinations of the others; an entry with
+        the same z-scores as an earlier one).
     rank_ic : dict signal -> DataFrame (D x H)
         Each signal's per-date rank IC (for the cumulative-IC chart).
     notes : tuple of str
@@ -216,11 +217,21 @@ def compare_results(panel: Panel, results: dict[str, StudyResult]) -> CompareRes
             row["signal"] = label
             rows.append(row)
     corr, corr_n = signal_correlation(zs)
-    joint = [k for k in labels if results[k].config.signal != "composite"]
-    left = tuple(k for k in labels if results[k].config.signal == "composite")
+    joint: list[str] = []
     notes = []
-    if left:
-        notes.append("The composite is left out of the joint regression: it is a combination of the other signals.")
+    same: list[str] = []
+    for k in labels:
+        if results[k].config.signal == "composite":
+            continue
+        twin = next((j for j in joint if np.array_equal(zs[j], zs[k], equal_nan=True)), None)
+        if twin is not None:  # the same z-scores twice would make the regression singular
+            same.append(k)
+            notes.append(f"{k} has the same z-scores as {twin}: it is left out of the joint regression.")
+            continue
+        joint.append(k)
+    left = tuple(k for k in labels if results[k].config.signal == "composite") + tuple(same)
+    if any(results[k].config.signal == "composite" for k in labels):
+        notes.insert(0, "The composite is left out of the joint regression: it is a combination of the other signals.")
     jrows = []
     shared = sorted(set.intersection(*[set(results[k].config.horizons) for k in joint])) if joint else []
     if len(joint) >= 2:

@@ -88,3 +88,14 @@ def test_joint_regression_matches_linearmodels(panel, cmp) -> None:
 def test_bad_signal_lists_are_refused(panel, sigs, match) -> None:
     with pytest.raises(ConfigError, match=match):
         run_compare(panel, sigs)
+
+
+def test_an_entry_with_the_same_z_scores_stays_out_of_the_joint_regression(panel) -> None:
+    from valuesift.core.compare import compare_results
+
+    a = run_study(panel, StudyConfig(horizons=(1,)))
+    b = run_study(panel, StudyConfig(signal="dividend_yield", horizons=(1,)))
+    cmp = compare_results(panel, {"earnings_yield": a, "dividend_yield": b, "saved: same": a})
+    assert "saved: same" in cmp.joint_left_out and set(cmp.joint_fm["signal"]) == {"earnings_yield", "dividend_yield"}
+    assert np.isfinite(cmp.joint_fm["mean_slope"]).all()
+    assert cmp.correlation.at["earnings_yield", "saved: same"] == pytest.approx(1.0)
