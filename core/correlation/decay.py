@@ -10,6 +10,7 @@ horizon: the IC of a signal against returns further ahead, and the signal's own 
 from __future__ import annotations
 
 import math
+from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
 import pandas as pd
@@ -26,7 +27,7 @@ DECAY_MONTHS = 24
 
 
 def ic_decay(z: np.ndarray, r1: np.ndarray, min_breadth: int, rule: HacLagRule = "overlap_or_auto",
-             months: int = DECAY_MONTHS, z_ranks: np.ndarray | None = None) -> pd.DataFrame:
+             months: int = DECAY_MONTHS, z_ranks: np.ndarray | None = None, workers: int = 1) -> pd.DataFrame:
     """The marginal rank IC of the signal at ``t`` against the one-month return of month ``t + k``.
 
     Parameters
@@ -40,6 +41,8 @@ def ic_decay(z: np.ndarray, r1: np.ndarray, min_breadth: int, rule: HacLagRule =
     rule : {"overlap", "overlap_or_auto"}
     months : int
         ``k = 1..months``.
+    workers : int
+        Threads for the months on large panels (same numbers, any order of work).
 
     Returns
     -------
@@ -56,16 +59,24 @@ def ic_decay(z: np.ndarray, r1: np.ndarray, min_breadth: int, rule: HacLagRule =
     """
     d = z.shape[0]
     ranks = average_ranks(z) if z_ranks is None else z_ranks
-    rows = []
-    cum = 0.0
-    for k in range(1, int(months) + 1):
+
+    def one(k: int) -> np.ndarray:
         y = np.full_like(r1, np.nan)
         if k - 1 < d:
             y[: d - (k - 1)] = r1[k - 1:]
         both = np.isfinite(z) & np.isfinite(y)
         n = both.sum(axis=1)
-        rho = masked_spearman(z, y, both, n, ranks)
-        rho = np.where(n < min_breadth, np.nan, rho)
+        return np.where(n < min_breadth, np.nan, masked_spearman(z, y, both, n, ranks))
+
+    ks = list(range(1, int(months) + 1))
+    if workers > 1 and z.size >= 200_000:  # numpy's sorts release the GIL: the months run side by side
+        with ThreadPoolExecutor(max_workers=workers, thread_name_prefix="valuesift-decay") as pool:
+            per_k = list(pool.map(one, ks))
+    else:
+        per_k = [one(k) for k in ks]
+    rows = []
+    cum = 0.0
+    for k, rho in zip(ks, per_k):
         inf = headline_block(rho, 1, rule)
         m = float(inf["mean"])
         cum = cum + m if math.isfinite(m) else math.nan

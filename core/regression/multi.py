@@ -22,13 +22,13 @@ def _group_demean(x: np.ndarray, mask: np.ndarray, codes: np.ndarray | None) -> 
         n = mask.sum(axis=1)
         mu = xm.sum(axis=1) / np.maximum(n, 1)
         return np.where(mask, xm - mu[:, None], 0.0)
-    out = np.zeros_like(xm)
-    for c in np.unique(codes):
-        m = mask & (codes == c)[None, :]
-        n = m.sum(axis=1)
-        mu = np.where(m, xm, 0.0).sum(axis=1) / np.maximum(n, 1)
-        out = np.where(m, xm - mu[:, None], out)
-    return out
+    uniq, idx = np.unique(codes, return_inverse=True)
+    onehot = np.zeros((codes.size, uniq.size))
+    onehot[np.arange(codes.size), idx] = 1.0
+    sums = xm @ onehot                                  # D x groups, over the masked names
+    counts = mask.astype(float) @ onehot
+    mu = sums / np.maximum(counts, 1.0)
+    return np.where(mask, xm - mu[:, idx], 0.0)
 
 
 def _groups_present(mask: np.ndarray, codes: np.ndarray | None) -> np.ndarray:

@@ -9,6 +9,8 @@ import pandas as pd
 
 from valuesift.core.choices import HacLagRule
 from valuesift.core.correlation.ic import ic_by_date
+from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.quantiles.assign import assign_quantiles
 from valuesift.core.inference.nonoverlap import headline_block
 
 __all__ = ["sector_ic_table", "within_group_spread"]
@@ -26,7 +28,7 @@ def within_group_spread(q: np.ndarray, fwd: np.ndarray, member: np.ndarray, n_q:
 
 
 def sector_ic_table(z: np.ndarray, fwd: dict[int, np.ndarray], codes: np.ndarray, names: list[str],
-                    q_within: np.ndarray, n_q: int, min_breadth: int, rule: HacLagRule) -> pd.DataFrame:
+                    n_q: int, min_breadth: int, rule: HacLagRule, tiebreak: np.ndarray | None = None) -> pd.DataFrame:
     """Mean rank IC (headline t), spread within the sector (headline t) and breadth per sector and horizon.
 
     Parameters
@@ -36,8 +38,9 @@ def sector_ic_table(z: np.ndarray, fwd: dict[int, np.ndarray], codes: np.ndarray
     fwd : dict horizon -> ndarray (D x S)
     codes : ndarray (S,) of int
         Sector code of each security; ``names[code]`` its name.
-    q_within : ndarray (D x S)
-        Quantiles assigned within each sector.
+    n_q : int
+        Quantiles, assigned within each sector (:func:`valuesift.core.quantiles.assign.assign_quantiles`
+        on the sector's names, ties by ``tiebreak``).
     min_breadth : int
         A sector-date needs this many names with a signal and a return for an IC.
 
@@ -54,15 +57,19 @@ def sector_ic_table(z: np.ndarray, fwd: dict[int, np.ndarray], codes: np.ndarray
     :func:`headline_block`.
     """
     rows = []
+    tb = np.arange(z.shape[1]) if tiebreak is None else np.asarray(tiebreak)
     for c in np.unique(codes):
-        member_cols = codes == c
-        zs = np.where(member_cols[None, :], z, np.nan)
+        cols = np.flatnonzero(codes == c)  # the sector's own columns: each pass costs its size, not the universe's
+        zs = z[:, cols]
         if not np.isfinite(zs).any():  # no name of this sector ever had a signal: nothing to show
             continue
+        qs = assign_quantiles(zs, n_q, tiebreak=tb[cols])
+        ranks = average_ranks(zs)
         for h in sorted(fwd):
-            ric, _, brd = ic_by_date(zs, fwd[h], min_breadth)
+            fs = fwd[h][:, cols]
+            ric, _, brd = ic_by_date(zs, fs, min_breadth, ranks)
             inf = headline_block(ric, int(h), rule)
-            sp = within_group_spread(q_within, fwd[h], member_cols[None, :] & np.isfinite(z), n_q)
+            sp = within_group_spread(qs, fs, np.isfinite(zs), n_q)
             sp = np.where(np.isfinite(ric), sp, np.nan)
             spi = headline_block(sp, int(h), rule)
             used = np.isfinite(ric)

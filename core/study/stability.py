@@ -10,6 +10,7 @@ every number comes from a public function of its domain folder (``core.portfolio
 from __future__ import annotations
 
 import math
+import os
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -21,7 +22,6 @@ from valuesift.core.panel import Panel
 from valuesift.core.portfolio.capweight import cap_weighted_monthly, cap_weighted_quantile_means
 from valuesift.core.portfolio.performance import max_drawdown, sharpe_ratio
 from valuesift.core.portfolio.relative import RELATIVE_KEYS, relative_performance
-from valuesift.core.quantiles.assign import assign_quantiles
 from valuesift.core.regression.factors import log_market_cap, momentum_12_1, rolling_beta
 from valuesift.core.regression.multi import fm_multi, residualise
 from valuesift.core.correlation.rowwise import row_spearman
@@ -46,6 +46,9 @@ __all__ = ["stability_fields", "comparison_column", "RELATIVE_PORTFOLIOS", "CONT
 
 #: The backtest portfolios measured against the comparison.
 RELATIVE_PORTFOLIOS: tuple[str, ...] = ("cheapest", "long_short")
+#: Threads for the decay table on large panels: ``VALUESIFT_THREADS`` (as the study's steps), else up to 2.
+_THREADS_SETTING = os.environ.get("VALUESIFT_THREADS", "")
+_WORKERS = int(_THREADS_SETTING) if _THREADS_SETTING.isdigit() and int(_THREADS_SETTING) > 0 else min(2, os.cpu_count() or 1)
 #: How a person reads each Fama-MacBeth control.
 CONTROL_WORDS: dict[str, str] = {"log_market_cap": "log market capitalisation", "momentum": "momentum (12-1)",
                                  "beta": "market beta (60 months)", "sector": "sector dummies"}
@@ -156,7 +159,7 @@ def _one_month(result: "StudyResult", grid: Panel, track: Any, valid: np.ndarray
 
 def _decay(result: "StudyResult", r1: np.ndarray) -> tuple[pd.DataFrame, pd.Series]:
     z = result.signal_z.to_numpy(dtype=float)
-    tab = ic_decay(z, r1, result.config.min_breadth, result.config.hac_lag_rule)
+    tab = ic_decay(z, r1, result.config.min_breadth, result.config.hac_lag_rule, workers=_WORKERS)
     ac1, n1 = rank_autocorrelation(z, 1, result.config.min_breadth)
     ac12, _ = rank_autocorrelation(z, 12, result.config.min_breadth)
     facts = pd.Series({"half_life_months": half_life(tab["marginal_ic"].to_numpy(dtype=float)),
@@ -187,9 +190,11 @@ def _fm_controls(result: "StudyResult", grid: Panel, track: Any, valid: np.ndarr
         groups = codes if np.unique(codes).size > 1 else None
     used = [CONTROL_WORDS[k] for k in ctrl] + ([CONTROL_WORDS["sector"]] if groups is not None else [])
     resid = residualise(z, list(ctrl.values()), groups)
+    plain_is_study = not (cfg.fm_log_market_cap or cfg.fm_sector_dummies)
     rows = []
     for h in cfg.horizons:
-        plain = fm_multi(fwd[h], [z])[0][:, 0]
+        # without controls: the study's own slopes when it ran none (the same regression), else computed here
+        plain = (result.fm_slopes[h].to_numpy(dtype=float) if plain_is_study else fm_multi(fwd[h], [z])[0][:, 0])
         full, _ = fm_multi(fwd[h], [z, *ctrl.values()], groups)
         a, b = headline_block(plain, h, cfg.hac_lag_rule), headline_block(full[:, 0], h, cfg.hac_lag_rule)
         rho, n = row_spearman(resid, fwd[h])
@@ -250,8 +255,7 @@ def _sectors(result: "StudyResult", grid: Panel) -> pd.DataFrame:
     codes, names = sector_codes(pd.Index(grid.prices.columns), grid.sectors)
     tiebreak = np.argsort(np.argsort(np.asarray(pd.Index(grid.prices.columns).astype(str)), kind="stable"),
                           kind="stable")
-    qw = assign_quantiles(z, cfg.n_quantiles, codes, tiebreak)
-    return sector_ic_table(z, fwd, codes, names, qw, cfg.n_quantiles, cfg.min_breadth, cfg.hac_lag_rule)
+    return sector_ic_table(z, fwd, codes, names, cfg.n_quantiles, cfg.min_breadth, cfg.hac_lag_rule, tiebreak)
 
 
 def _split(result: "StudyResult") -> pd.Timestamp:

@@ -77,8 +77,8 @@ def test_sector_ic_matches_scipy_within_each_sector() -> None:
     codes[-3:] = 3  # a sector of three names: too small for min_breadth 5
     from valuesift.core.quantiles.assign import assign_quantiles
 
-    q = assign_quantiles(z, 3, codes)
-    tab = sector_ic_table(z, {1: y}, codes, ["A", "B", "C", "D"], q, 3, 5, "overlap_or_auto")
+    q = assign_quantiles(z, 3, codes)  # the quantiles within each sector, as the study's within-sector backtest forms them
+    tab = sector_ic_table(z, {1: y}, codes, ["A", "B", "C", "D"], 3, 5, "overlap_or_auto")
     a = tab[tab["sector"] == "A"].iloc[0]
     cols = codes == 0
     want = np.mean([stats.spearmanr(z[t, cols], y[t, cols]).statistic for t in range(30)])
@@ -89,6 +89,7 @@ def test_sector_ic_matches_scipy_within_each_sector() -> None:
     t0 = (q[0] == 3) & cols
     b0 = (q[0] == 1) & cols
     assert sp[0] == pytest.approx(y[0, t0].mean() - y[0, b0].mean())
+    assert a["spread"] == pytest.approx(np.nanmean(sp), abs=1e-12)  # the table's spread: the same within-sector split
 
 
 def test_study_fields_on_an_invented_panel() -> None:
