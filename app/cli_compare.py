@@ -73,6 +73,8 @@ def run_compare_command(args: argparse.Namespace) -> int:
     h = max([x for x in cmp.config.horizons if x <= 12] or [min(cmp.config.horizons)])
     for s in compare_sentences(cmp, h):
         print(s)
+    for n in cmp.notes:
+        print(f"Note: {n}")
     if not args.no_bundle:
         b = write_compare_bundle(cmp, out, name=args.name, title=args.title)
         print(f"Wrote the comparison bundle to {b.folder} ({len(b.files)} files) and {b.zip}")

@@ -96,6 +96,11 @@ def summary_dict(result: "StudyResult") -> dict[str, Any]:
     facts = getattr(result, "decay_facts", None)
     if facts is not None and len(facts):
         out["decay"] = _jsonable({str(k): float(v) for k, v in facts.items()})
+    cw = getattr(result, "cap_weighted", None)
+    if cw is not None and not cw.empty:
+        out["cap_weighted"] = {str(int(r["horizon"])): _jsonable({k: (bool(v) if isinstance(v, (bool, np.bool_)) else v)
+                                                                 for k, v in r.items() if k != "horizon"})
+                               for r in cw.to_dict("records")}
     pdiff = getattr(result, "period_difference", None)
     if pdiff is not None and not pdiff.empty:
         out["period_difference"] = {str(int(r["horizon"])): _jsonable({k: (bool(v) if isinstance(v, (bool, np.bool_))
