@@ -7,11 +7,8 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from valuesift.core.demo import write_demo
 from valuesift.core.errors import ConfigError, IntakeError
-from valuesift.core.intake import build_panel, read_table
 from valuesift.app.cli_options import add_intake_options, panel_options_from_args, read_options_from_args
-from valuesift.app.words import intake_report_text
 
 #: File name endings read as data by ``check``; anything else (a README, say) is skipped with a note.
 DATA_SUFFIXES = frozenset({".csv", ".tsv", ".tab", ".txt", ".dat", ".xlsx", ".xlsm", ".parquet", ".pq"})
@@ -25,7 +22,7 @@ def add_check(sub: Any) -> None:
                        description="Read price, earnings, dividend, sector, holdings and benchmark files and "
                                    "print what was read, what was dropped and why. Exits 2 when a file "
                                    "cannot be read.")
-    p.add_argument("files", nargs="+", metavar="FILE")
+    p.add_argument("files", nargs="+", metavar="FILE", help="files to read (a folder is skipped; see --kind)")
     p.add_argument("--kind", action="append", default=[], metavar="FILE=KIND",
                    help="say what a file holds when its name does not (kinds: prices, earnings, dividends, "
                         "sectors, holdings, benchmark, market_cap, signal)")
@@ -44,6 +41,11 @@ def _kind_overrides(pairs: list[str]) -> dict[str, str]:
 
 
 def run_check(args: argparse.Namespace) -> int:
+    # intake and the report words (pandas) load when `check` runs, not with the parser:
+    # `python -X importtime -m valuesift.app.cli --help` measured pandas at about 0.5 s of start-up
+    from valuesift.core.intake import build_panel, read_table
+    from valuesift.app.words import intake_report_text
+
     kinds = _kind_overrides(args.kind)
     parsed = []
     failures: list[str] = []
@@ -84,12 +86,15 @@ def add_demo(sub: Any) -> None:
     p = sub.add_parser("demo", help="write the invented demo universe files",
                        description="Write the invented demo market (about 120 fictional companies, 15 years of "
                                    "month-ends, with deliberate real-world mess) to a folder.")
-    p.add_argument("--out", required=True, metavar="DIR")
+    p.add_argument("--out", required=True, metavar="DIR", help="folder to write the demo files to")
     p.add_argument("--seed", type=int, default=None, help="random seed (default: the one behind sample_data/)")
     p.set_defaults(func=run_demo)
 
 
 def run_demo(args: argparse.Namespace) -> int:
+    # the demo writer imports scipy.stats (its README's check figures): measured 1.3 s of every command's start-up
+    from valuesift.core.demo import write_demo
+
     kwargs = {} if args.seed is None else {"seed": args.seed}
     paths = write_demo(args.out, **kwargs)
     for path in paths:
@@ -106,7 +111,9 @@ def add_serve(sub: Any) -> None:
     p.add_argument("--host", default="127.0.0.1",
                    help="address to listen on; anything but loopback needs --allow-remote and prints a token")
     p.add_argument("--allow-remote", action="store_true", help="permit a non-loopback --host (token required)")
-    p.add_argument("--token", default=None, help=argparse.SUPPRESS)   # refused: the process list would show it
+    p.add_argument("--token", default=None, metavar="TOKEN",
+                   help="not accepted: a token on the command line is visible to every user of the machine in "
+                        "the process list; use --token-file or VALUESIFT_TOKEN instead")
     p.add_argument("--token-file", default=None, metavar="FILE",
                    help="file (private to you) whose first line is the access token for a non-loopback bind; "
                         "or set the VALUESIFT_TOKEN environment variable (default: a token is generated)")
@@ -122,7 +129,8 @@ def add_serve(sub: Any) -> None:
 
 
 def run_serve(args: argparse.Namespace) -> int:
-    # Dash and the pages load only for `serve` (start-up of the other commands: about 1 s, python -X importtime)
+    # Dash and the pages load only for `serve`: 0.78 s more start-up for every other command
+    # (python -X importtime, cumulative after valuesift.app.cli).
     from valuesift.app.server import read_token, serve
     from valuesift.core.errors import ConfigError
 

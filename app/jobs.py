@@ -86,7 +86,7 @@ class Job:
 class JobRunner:
     """A bounded queue and a fixed pool of worker threads (see the module notes)."""
 
-    def __init__(self, *, workers: int = 2, max_queued: int = 12, max_per_owner: int = 3,
+    def __init__(self, *, workers: int = 2, max_queued: int = 32, max_per_owner: int = 3,
                  keep_finished: int = 200, name: str = "valuesift-job") -> None:
         self.workers = max(1, int(workers))
         self.max_queued = int(max_queued)

@@ -8,6 +8,7 @@ import dash
 from dash import Input, Output, State, dcc, html
 
 from valuesift.app.caution import CAUTION
+from valuesift.app.services import current_owner, normalise_selection, selection_key, state
 
 __all__ = ["layout", "register_shell_callbacks", "nav_links"]
 
@@ -58,8 +59,6 @@ def register_shell_callbacks(app: dash.Dash) -> None:
         State("vs-selection", "data"),
     )
     def _boot(_path: str | None, sel: Any) -> Any:
-        from valuesift.app.services import current_owner, normalise_selection, selection_key, state
-
         st = state()
         if isinstance(sel, dict) and sel.get("instance") == st.instance:
             raise dash.exceptions.PreventUpdate

@@ -12,6 +12,7 @@ import numpy as np
 import pandas as pd
 
 from valuesift.app.settings import study_settings
+from valuesift.core.sweep import load_sweep
 
 __all__ = ["sweep_root", "list_sweeps", "load_named_sweep", "settings_from_query", "judged_best"]
 
@@ -32,10 +33,6 @@ def list_sweeps(workspace_root: Path) -> list[str]:
 
 def load_named_sweep(workspace_root: Path, name: Any) -> Any:
     """The finished sweep called ``name`` (only a folder :func:`list_sweeps` lists; None otherwise)."""
-    # core.sweep pulls in statsmodels' multiple-testing module: about 2 s of start-up measured with
-    # `python -X importtime`, paid only when a sweep is opened.
-    from valuesift.core.sweep import load_sweep
-
     names = list_sweeps(workspace_root)
     if not isinstance(name, str) or name not in names:  # only folders we listed: no path from the browser
         return None

@@ -64,6 +64,9 @@ class Reason(str, Enum):
     PRICE_FILE_COUNT = "price_file_count"
     BAD_OPTION = "bad_option"
     DUPLICATE_KIND = "duplicate_kind"
+    # dividends that cannot safely enter returns (set aside unless the user keeps them)
+    DIVIDEND_WITHOUT_PRICE = "dividend_without_price"
+    DIVIDEND_IMPLAUSIBLE = "dividend_implausible"
 
 
 class ValueSiftError(Exception):

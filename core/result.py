@@ -103,6 +103,8 @@ class StudyResult:
     warnings : tuple of dict
         Each with ``code``, ``message`` and the numbers behind it
         (:mod:`valuesift.core.diagnostics.warnings`).
+    signal_set_aside : DataFrame (D x S, bool)
+        Universe cells of a lower-is-cheaper signal set aside as not meaningful (values of 0 or below).
     rolling_spread : DataFrame (D x MultiIndex (horizon, window))
         Rolling mean of ``spread`` over 12 and 36 dates, by the rule of ``rolling_ic``
         (a window needs all its dates).
@@ -205,6 +207,7 @@ class StudyResult:
     notes: tuple[str, ...] = field(default_factory=tuple)
     ic_by_delay: pd.DataFrame = field(default_factory=pd.DataFrame)
     warnings: tuple[dict[str, Any], ...] = field(default_factory=tuple)
+    signal_set_aside: pd.DataFrame = field(default_factory=pd.DataFrame)
     rolling_spread: pd.DataFrame = field(default_factory=pd.DataFrame)
     spread_facts: pd.DataFrame = field(default_factory=pd.DataFrame)
     pooled_fit: pd.DataFrame = field(default_factory=pd.DataFrame)

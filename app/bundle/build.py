@@ -23,6 +23,7 @@ import pandas as pd
 
 import valuesift.core as valuesift_core
 from valuesift.app.settings import shown_horizon
+from valuesift.app.words import settings_frame
 from valuesift.app.bundle import charts as bc
 from valuesift.app.bundle import tables as bt
 from valuesift.app.bundle.content import report_input
@@ -228,7 +229,8 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
         written.append(f"tables/{k}.csv")
     asof = str(result.screen.attrs.get("date") or "")
     if chosen:
-        (folder / "tables" / "tables.xlsx").write_bytes(bt.xlsx_bytes(chosen, stamp=asof or "2000-01-01"))
+        (folder / "tables" / "tables.xlsx").write_bytes(bt.xlsx_bytes(chosen, stamp=asof or "2000-01-01",
+                                                                           settings=settings_frame(result.config)))
         written.append("tables/tables.xlsx")
     summary = summary_dict(result)
     summary["study_name"] = study_name
@@ -314,7 +316,7 @@ _FILE_TEXT = {
                      "every other file",
     "README.txt": "this file",
     "charts/plotly.min.js": "the plotly.js library, shared by every interactive chart (works with no network)",
-    "tables/tables.xlsx": "every table below as one sheet each",
+    "tables/tables.xlsx": "the study's settings in words (first sheet), then every table below as one sheet each",
 }
 
 
@@ -335,7 +337,8 @@ def _readme(files: Sequence[str], tables: dict[str, pd.DataFrame], note: str | N
             text = ""
         lines.append(f"  {rel}\n      {text}")
     lines += ["", "Numbers: returns and spreads are decimal fractions (0.01 = 1 %); ICs are Spearman rank "
-              "correlations; t-statistics use Newey-West standard errors with the lags stated in the tables.",
+              "correlations; t-statistics use Hansen-Hodrick standard errors above one month and Newey-West at one month, "
+              "with the lags stated in the tables; horizons with fewer than ten independent periods get no verdict.",
               "Text cells of the tables that could start a spreadsheet formula carry a leading apostrophe."]
     if note:
         lines += ["", "Images: " + note]

@@ -18,7 +18,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
 
+import plotly
 import plotly.graph_objects as go
+from PIL import Image
 
 from valuesift.app.browser import find_browser
 
@@ -72,7 +74,7 @@ CHARTS: tuple[ChartSpec, ...] = (
               True),
     ChartSpec("stability_sectors", "Stability: inside each sector", lambda r, h, p: fst.sectors_figure(r, h), True),
     ChartSpec("ic_decay", "Decay: information coefficient by month ahead", lambda r, h, p: fst.decay_figure(r), False),
-    ChartSpec("relative_capweight", "Equal weight against cap weight", lambda r, h, p: fst.cap_weight_figure(r),
+    ChartSpec("relative", "Against the comparison: active return and alpha", lambda r, h, p: fst.relative_figure(r),
               False),
 )
 CHART_KEYS: tuple[str, ...] = tuple(c.key for c in CHARTS)
@@ -125,8 +127,6 @@ def _rewrap_for_slide(fig: go.Figure) -> None:
 
 def plotly_js_path() -> Path:
     """The plotly.min.js shipped inside the installed plotly package (used offline)."""
-    import plotly
-
     return Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
 
 
@@ -211,7 +211,7 @@ def _render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] |
     browser = find_browser()
     if browser is None:
         return RenderOutcome({}, {}, NO_BROWSER_HINT)
-    try:
+    try:  # kaleido may be missing from an environment: the guard turns that into a sentence
         import kaleido
     except ImportError:  # pragma: no cover - kaleido is a dependency
         return RenderOutcome({}, {}, "The chart images could not be rendered: the kaleido package is not "
@@ -248,8 +248,6 @@ def _render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] |
 
 def print_jpeg(png: bytes) -> bytes:
     """A chart's print copy: JPEG at quality 92 without chroma subsampling (the PDF embeds it as it is)."""
-    from PIL import Image
-
     buf = io.BytesIO()
     Image.open(io.BytesIO(png)).convert("RGB").save(buf, format="JPEG", quality=92, subsampling=0, optimize=False)
     return buf.getvalue()

@@ -15,8 +15,11 @@ from typing import Any, Sequence
 from xml.sax.saxutils import escape
 
 import pandas as pd
+import reportlab
+from PIL import Image as PILImage
 from reportlab import rl_config
 from reportlab.lib import colors
+from reportlab.lib.fonts import addMapping
 from reportlab.lib.pagesizes import A4, landscape
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
@@ -45,8 +48,6 @@ _SHADE = colors.HexColor("#f1eee8")
 
 
 def _register_fonts() -> None:
-    import reportlab
-
     if FONT in pdfmetrics.getRegisteredFontNames():
         return
     base = Path(reportlab.__file__).parent / "fonts"
@@ -54,8 +55,6 @@ def _register_fonts() -> None:
     pdfmetrics.registerFont(TTFont(FONT + "-Bold", str(base / "VeraBd.ttf")))
     pdfmetrics.registerFont(TTFont(FONT + "-Italic", str(base / "VeraIt.ttf")))
     pdfmetrics.registerFont(TTFont(FONT + "-BoldItalic", str(base / "VeraBI.ttf")))
-    from reportlab.lib.fonts import addMapping
-
     addMapping(FONT, 0, 0, FONT)
     addMapping(FONT, 1, 0, FONT + "-Bold")
     addMapping(FONT, 0, 1, FONT + "-Italic")
@@ -75,6 +74,7 @@ def _styles() -> dict[str, ParagraphStyle]:
         "reading": ParagraphStyle("reading", parent=body, fontSize=10.5, leading=14),
         "small": ParagraphStyle("small", parent=body, fontSize=7.6, leading=9.4, spaceAfter=1.5),
         "cell": ParagraphStyle("cell", parent=body, fontSize=7.6, leading=9.2),
+        "tiny": ParagraphStyle("tiny", parent=body, fontSize=6.6, leading=7.6),
         "cellb": ParagraphStyle("cellb", parent=body, fontName=FONT + "-Bold", fontSize=7.6, leading=9.2),
         "mono": ParagraphStyle("mono", parent=body, fontName="Courier", fontSize=7, leading=9),
         "caution": ParagraphStyle("caution", parent=body, fontSize=9, leading=12, borderColor=_DEAR_BORDER,
@@ -149,15 +149,15 @@ class _NumberedCanvas(rl_canvas.Canvas):
 
 
 def _table(rows: list[list[Any]], widths: Sequence[float], *, header: bool = True, zebra: bool = True,
-           align_right_from: int | None = None) -> Table:
+           align_right_from: int | None = None, pad: float = 2) -> Table:
     t = Table(rows, colWidths=list(widths), repeatRows=1 if header else 0)
     style = [
         ("FONT", (0, 0), (-1, -1), FONT, 7.6),
         ("TEXTCOLOR", (0, 0), (-1, -1), _INK),
         ("VALIGN", (0, 0), (-1, -1), "TOP"),
         ("LINEBELOW", (0, 0), (-1, 0 if header else -1), 0.6 if header else 0.25, _RULE),
-        ("TOPPADDING", (0, 0), (-1, -1), 2),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+        ("TOPPADDING", (0, 0), (-1, -1), pad),
+        ("BOTTOMPADDING", (0, 0), (-1, -1), pad),
         ("LEFTPADDING", (0, 0), (-1, -1), 3),
         ("RIGHTPADDING", (0, 0), (-1, -1), 3),
     ]
@@ -181,8 +181,6 @@ def _frame_rows(df: pd.DataFrame, st: dict[str, ParagraphStyle], wrap: Sequence[
 
 def _image(image: bytes, max_w: float, max_h: float) -> Image:
     """A chart for print: JPEG bytes as they are (a PNG is converted first); the 2x PNG is in charts/."""
-    from PIL import Image as PILImage
-
     if image[:8] == b"\x89PNG\r\n\x1a\n":
         image = print_jpeg(image)
     with PILImage.open(io.BytesIO(image)) as im:
@@ -204,12 +202,12 @@ def build_pdf(data: ReportInput, path: Path) -> int:
     story.append(_p(data.title, st["title"]))
     story.append(_p(f"Study {data.study_name!s}: the committee report", st["subtitle"]))
     facts = [[_p(k, st["cellb"]), _p(v, st["cell"])] for k, v in data.facts]
-    conf = [[_p(k, st["cell"]), _p(v, st["cell"])] for k, v in data.configuration]
-    third = (len(conf) + 2) // 3  # three columns of settings keep the cover on one page
-    left = _table(facts, [22 * mm, usable_w - 170 * mm - 22 * mm], header=False, zebra=False)
-    cols = [_table(conf[k * third:(k + 1) * third], [29 * mm, 25 * mm], header=False) for k in range(3)]
+    conf = [[_p(k, st["tiny"]), _p(v, st["tiny"])] for k, v in data.configuration]
+    third = (len(conf) + 2) // 3  # three columns of settings in small type keep the cover on one page
+    left = _table(facts, [26 * mm, usable_w - 152 * mm - 26 * mm], header=False, zebra=False)
+    cols = [_table(conf[k * third:(k + 1) * third], [27 * mm, 21 * mm], header=False, pad=1.2) for k in range(3)]
     conf_block = [[_p("Every setting", st["h2"]), "", ""], cols]
-    right = Table(conf_block, colWidths=[55 * mm, 55 * mm, 55 * mm])
+    right = Table(conf_block, colWidths=[48.5 * mm, 48.5 * mm, 48.5 * mm])
     right.setStyle(TableStyle([("SPAN", (0, 0), (2, 0)), ("VALIGN", (0, 0), (-1, -1), "TOP"),
                                ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
     top = Table([[left, right]], colWidths=[usable_w - 166 * mm, 166 * mm])
@@ -269,9 +267,9 @@ def build_pdf(data: ReportInput, path: Path) -> int:
     story.append(_p(data.screen_title, st["h2"]))
     sw = [20 * mm, 26 * mm, 16 * mm, 24 * mm, 14 * mm, 15 * mm, 27 * mm, 17 * mm, 17 * mm]
     sw.append(usable_w - sum(sw))
-    for label, df in (("Cheapest", data.screen_cheap), ("Dearest", data.screen_dear)):
+    for label, df in (("Highest-ranked (cheapest)", data.screen_cheap), ("Lowest-ranked", data.screen_dear)):
         story.append(CondPageBreak(60 * mm))
-        story.append(_p(f"{label} {len(df)}", st["h2"]))
+        story.append(_p(f"The {len(df)} {label.lower()}", st["h2"]))
         t = _table(_frame_rows(df, st, wrap=["Security", "Sector", "P/E", "Quantile", "Flags"]), sw, align_right_from=2)
         t.setStyle(TableStyle([("TOPPADDING", (0, 0), (-1, -1), 1), ("BOTTOMPADDING", (0, 0), (-1, -1), 1),
                                ("ALIGN", (6, 1), (6, -1), "LEFT"), ("ALIGN", (9, 1), (9, -1), "LEFT")]))

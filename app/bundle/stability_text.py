@@ -227,5 +227,5 @@ STABILITY_READINGS = {
     "stability_periods": lambda r, h, p: period_sentences(r, h) or ["No period table."],
     "stability_sectors": lambda r, h, p: sector_sentences(r, h),
     "ic_decay": lambda r, h, p: decay_sentences(r) or ["No decay table."],
-    "relative_capweight": lambda r, h, p: (relative_sentences(r) + cap_sentences(r, h))[:3],
+    "relative": lambda r, h, p: (relative_sentences(r) + cap_sentences(r, h))[:3],
 }

@@ -26,7 +26,7 @@ from valuesift.core.reporting.summary import summary_dict
 from valuesift.core.result import StudyResult
 from valuesift.core.reporting.summary import ic_by_date_frame
 
-__all__ = ["TABLES", "TABLE_KEYS", "result_tables", "write_csv", "xlsx_bytes", "FIXED_ZIP_TIME"]
+__all__ = ["TABLES", "TABLE_KEYS", "result_tables", "write_csv", "xlsx_bytes", "FIXED_ZIP_TIME", "SETTINGS_SHEET"]
 
 #: Zip entry time used for every archive the bundle writes (the zip format's earliest date).
 FIXED_ZIP_TIME = (1980, 1, 1, 0, 0, 0)
@@ -34,15 +34,15 @@ FIXED_ZIP_TIME = (1980, 1, 1, 0, 0, 0)
 #: table key -> what it holds (for the README and the Export page).
 TABLES: dict[str, str] = {
     "ic_by_date": "rank and Pearson IC and breadth per signal date and horizon (as the study command writes it)",
-    "ic_summary": "IC statistics per horizon: mean, Newey-West t and interval, hit share, dates",
+    "ic_summary": "IC statistics per horizon: mean, headline t (Hansen-Hodrick above one month) and interval, Bartlett and non-overlapping checks, independent periods, verdict, hit share, dates",
     "rolling_ic": "rolling mean rank IC per date over 12 and 36 dates, per horizon",
     "quantile_returns": "mean forward return of each quantile per formation date and horizon (1 = dearest)",
     "quantile_means": "time-mean forward return per quantile and horizon, per period and annualised",
     "quantile_counts": "names in each quantile per date",
     "spreads": "cheapest-minus-dearest forward return per formation date and horizon",
-    "spread_summary": "spread statistics per horizon: mean, Newey-West t and interval, annualised, monotonicity",
+    "spread_summary": "spread statistics per horizon: mean, headline t and interval, Bartlett check, verdict, annualised, monotonicity",
     "fm_slopes": "Fama-MacBeth slope on the signal z-score per date and horizon",
-    "fm_summary": "Fama-MacBeth mean slope per horizon with Newey-West t",
+    "fm_summary": "Fama-MacBeth mean slope per horizon with its headline t",
     "backtest_returns": "monthly net returns, growth of 1 and drawdown of each backtest portfolio",
     "backtest_stats": "annual return, volatility, Sharpe ratio, worst drawdown, hit rate per portfolio",
     "cohorts": "each cohort of the cheapest quantile against the comparison over its holding period",
@@ -210,13 +210,21 @@ def write_csv(df: pd.DataFrame, path: Path, *, raw: bool = False) -> None:
     path.write_bytes(text.encode("utf-8"))
 
 
-def xlsx_bytes(tables: dict[str, pd.DataFrame], *, stamp: str) -> bytes:
+#: Name of the workbook sheet holding the study's settings in words.
+SETTINGS_SHEET = "settings"
+
+
+def xlsx_bytes(tables: dict[str, pd.DataFrame], *, stamp: str, settings: pd.DataFrame | None = None) -> bytes:
     """One workbook, one sheet per table (sheet = table key), with reproducible bytes.
 
-    ``stamp`` (ISO date) is written as the document's created and modified dates.
+    ``stamp`` (ISO date) is written as the document's created and modified dates; ``settings``
+    (a table such as :func:`valuesift.app.words.settings_frame` gives) becomes the first sheet,
+    :data:`SETTINGS_SHEET`.
     """
     buf = io.BytesIO()
     with pd.ExcelWriter(buf, engine="openpyxl") as xw:
+        if settings is not None:
+            _safe(settings).to_excel(xw, index=False, sheet_name=SETTINGS_SHEET)
         for key, df in tables.items():
             _safe(df).to_excel(xw, index=False, sheet_name=key[:31])
         props = xw.book.properties

@@ -19,7 +19,7 @@ from valuesift.app.figures.common import base_figure, fmt_num, message_figure
 from valuesift.app.figures.theme import CHEAP, DEAR, MUTED, NEUTRAL, SERIES, TEMPLATE_NAME
 from valuesift.core.result import StudyResult
 
-__all__ = ["periods_figure", "sectors_figure", "regimes_figure", "decay_figure", "cap_weight_figure"]
+__all__ = ["periods_figure", "sectors_figure", "regimes_figure", "decay_figure", "cap_weight_figure", "relative_figure"]
 
 
 def _colors(v: np.ndarray, short: np.ndarray) -> list[str]:
@@ -152,4 +152,28 @@ def cap_weight_figure(result: StudyResult) -> go.Figure:
                              hovertemplate="%{x}: %{y:.2%}<extra>" + chart_text(name) + "</extra>"))
     fig.update_layout(barmode="group")
     fig.update_yaxes(tickformat=".0%", title="spread per period")
+    return fig
+
+
+def relative_figure(result: StudyResult) -> go.Figure:
+    """Annualised active return and Jensen alpha of the cheapest quantile and the long-short, with IR and alpha t."""
+    rel = result.relative
+    title = "Against the comparison"
+    if rel is None or rel.empty:
+        return message_figure(title, "No backtest months to compare.")
+    comp = "the benchmark" if str(rel["comparison"].iloc[0]) == "benchmark" else "the equal-weight universe"
+    fig = base_figure(title, f"Measured against {comp}; a year, equal-weighted, in-sample; labels: information ratio "
+                             f"and the Newey-West t of alpha", wide=True)
+    names = {"cheapest": "cheapest quantile", "long_short": "long-short"}
+    x = [names.get(str(p), str(p)) for p in rel.index]
+    ir = [f"IR {fmt_num(v, 2)}" for v in rel["information_ratio"]]
+    at = ["too short to judge" if bool(s) else f"t = {fmt_num(v, 1)}" for v, s in zip(rel["alpha_t"], rel["too_short"])]
+    fig.add_trace(go.Bar(x=x, y=rel["active_return_ann"].to_numpy(dtype=float), name="active return", text=ir,
+                         marker_color=CHEAP, textposition="outside", cliponaxis=False,
+                         hovertemplate="%{x}: active return %{y:.1%}<extra></extra>"))
+    fig.add_trace(go.Bar(x=x, y=rel["alpha_ann"].to_numpy(dtype=float), name="Jensen alpha", text=at,
+                         marker_color=SERIES["benchmark"], textposition="outside", cliponaxis=False,
+                         hovertemplate="%{x}: alpha %{y:.1%}<extra></extra>"))
+    fig.update_layout(barmode="group")
+    fig.update_yaxes(tickformat=".0%", title="a year", zeroline=True, zerolinecolor=MUTED)
     return fig

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import base64
 import binascii
+from dataclasses import replace
 from typing import Any
 
 import dash
@@ -12,6 +13,7 @@ from dash.exceptions import PreventUpdate
 
 from valuesift.app.components.common import GRAPH_CONFIG, text_table
 from valuesift.app.components.intake_view import card_order, dataset_card, options_from_controls
+from valuesift.app.figures.common import message_figure
 from valuesift.app.figures.data import coverage_figure
 from valuesift.app.jobs_ui import alert
 from valuesift.app.services import current_owner, normalise_selection, selection_key, state
@@ -153,11 +155,12 @@ def _triggered(values: list[Any]) -> str:
     State({"type": "ds-decimal", "id": ALL}, "value"), State({"type": "ds-idclean", "id": ALL}, "value"),
     State({"type": "ds-idregex", "id": ALL}, "value"), State({"type": "ds-exclude", "id": ALL}, "value"),
     State({"type": "ds-signame", "id": ALL}, "value"), State({"type": "ds-direction", "id": ALL}, "value"),
+    State({"type": "ds-pubdate", "id": ALL}, "value"),
     State("vs-selection", "data"), State(f"{P}-version", "data"),
     prevent_initial_call=True,
 )
 def _reread(clicks: Any, ids: Any, kinds: Any, layouts: Any, headers: Any, dates: Any, decimals: Any,
-            cleans: Any, regexes: Any, excludes: Any, signames: Any, directions: Any, sel_raw: Any,
+            cleans: Any, regexes: Any, excludes: Any, signames: Any, directions: Any, pubdates: Any, sel_raw: Any,
             version: Any) -> Any:
     did = _triggered(clicks)
     j = [i["id"] for i in ids].index(did)
@@ -168,7 +171,7 @@ def _reread(clicks: Any, ids: Any, kinds: Any, layouts: Any, headers: Any, dates
         raise PreventUpdate
     try:
         opts = options_from_controls(old.options, kinds[j], layouts[j], headers[j], dates[j], decimals[j],
-                                     cleans[j], regexes[j], excludes[j], signames[j], directions[j])
+                                     cleans[j], regexes[j], excludes[j], signames[j], directions[j], pubdates[j])
     except ValueSiftError as err:
         return no_update, no_update, alert(str(err))
     return _reread_with(did, opts, sel_raw, version)
@@ -191,15 +194,15 @@ def _drop_suspects(clicks: Any, sel_raw: Any, version: Any) -> Any:
     sus = rep.get("suspect_columns") or {}
     sus = sus.get("__tuple__", []) if isinstance(sus, dict) else list(sus)
     cols = tuple(dict.fromkeys([*old.options.exclude_columns, *map(str, sus)]))
-    from dataclasses import replace
-
     return _reread_with(did, replace(old.options, exclude_columns=cols), sel_raw, version)
 
 
 def _reread_with(did: str, opts: Any, sel_raw: Any, version: Any) -> Any:
     st = state()
+    owner = current_owner() or ""
     try:
-        rec = st.workspace.reread(did, opts, owner=current_owner() or "")
+        was_shared = st.workspace.get(did, owner=owner).owner != owner
+        rec = st.workspace.reread(did, opts, owner=owner)
     except KeyError:
         raise PreventUpdate
     if not rec.ok:   # nothing changed: the dataset stays as it was read before
@@ -207,7 +210,7 @@ def _reread_with(did: str, opts: Any, sel_raw: Any, version: Any) -> Any:
                                            + " The file stays as it was read before.")
     sel = normalise_selection(sel_raw)
     sel = _with({"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}, rec)
-    copy = " (your own copy: the shared file stays as it was for everyone)" if rec.id != did and rec.owner else ""
+    copy = " (your own copy: the shared file stays as it was for everyone)" if was_shared else ""
     return _out(sel), int(version or 0) + 1, alert(f"{rec.name} was read again{copy}.", "info")
 
 
@@ -263,8 +266,6 @@ def _use(values: Any, ids: Any, sel_raw: Any) -> Any:
     Input("vs-selection", "data"), Input(f"{P}-version", "data"),
 )
 def _panel_view(sel_raw: Any, _v: Any) -> Any:
-    from valuesift.app.figures.common import message_figure
-
     st = state()
     sel = normalise_selection(sel_raw)
     empty = message_figure("Coverage", "Put a price file in use to see the coverage of the panel.")

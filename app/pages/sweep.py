@@ -24,6 +24,7 @@ from valuesift.app.figures.sweep import sweep_heatmap_figure
 from valuesift.app.services import normalise_selection, state
 from valuesift.app.sweeps import list_sweeps, load_named_sweep, sweep_root
 from valuesift.core.settings import SETTINGS
+from valuesift.core.sweep import panel_fingerprint
 
 dash.register_page(__name__, path="/sweep", name="Sweep", order=3, title="ValueSift - Sweep")
 
@@ -142,8 +143,6 @@ def _show(name: Any, sel: Any) -> Any:
 
 
 def _data_note(st: Any, sel: Any, res: Any) -> str:
-    from valuesift.core.sweep import panel_fingerprint  # statsmodels via core.sweep: ~2 s start-up (importtime)
-
     try:
         sel = normalise_selection(sel)
         same = bool(st.usable_ids(sel)) and panel_fingerprint(st.panel(sel).with_(report=None)) == res.input_key

@@ -111,7 +111,7 @@ def _build(files: Sequence[ParsedFile], o: PanelOptions) -> Panel:
     if ef is not None:
         ea = align_to_months(ef.data, cal, staleness_days=o.staleness_days, frequency=ef.report.frequency)
         _note_align(ef, ea.superseded, ea.n_stale, ea.outside, align_rows)
-        _note_unknown(ef, set(ef.data["security"]) - set(secs), "earnings rows", notes, align_rows, len_of=ef.data)
+        _note_unknown(ef, set(ef.data["security"].unique()) - set(secs), "earnings rows", notes, align_rows, len_of=ef.data)
         eps = ea.values.reindex(columns=secs)
         if ef.report.value_form == "pe":
             pe = eps
@@ -152,7 +152,7 @@ def _build(files: Sequence[ParsedFile], o: PanelOptions) -> Panel:
     for sec in sorted(o.confirmed_splits - set(found["security"])):
         notes.append(f"confirmed split for {sec!r} ignored: no suspected split was found for it")
 
-    dividends = _dividends(div_frame, divs, secs, prices, cal, notes, align_rows)
+    dividends = _dividends(div_frame, divs, secs, prices, cal, notes, align_rows, o)
     sectors = _sectors(by.get("sectors", [None])[0], secs, notes, align_rows)
     holdings = _holdings(by.get("holdings", [None])[0], secs, notes)
     benchmark = None
@@ -169,13 +169,13 @@ def _build(files: Sequence[ParsedFile], o: PanelOptions) -> Panel:
     if mf is not None:
         ma = align_to_months(mf.data, cal, staleness_days=o.staleness_days, frequency=mf.report.frequency)
         _note_align(mf, ma.superseded, ma.n_stale, ma.outside, align_rows)
-        _note_unknown(mf, set(mf.data["security"]) - set(secs), "market-cap rows", notes, align_rows, len_of=mf.data)
+        _note_unknown(mf, set(mf.data["security"].unique()) - set(secs), "market-cap rows", notes, align_rows, len_of=mf.data)
         mcap = ma.values.reindex(columns=secs)
     signals = []
     for sf in by.get("signal", []):
         sa = align_to_months(sf.data, cal, staleness_days=o.staleness_days, frequency=sf.report.frequency)
         _note_align(sf, sa.superseded, sa.n_stale, sa.outside, align_rows)
-        _note_unknown(sf, set(sf.data["security"]) - set(secs), "signal rows", notes, align_rows, len_of=sf.data)
+        _note_unknown(sf, set(sf.data["security"].unique()) - set(secs), "signal rows", notes, align_rows, len_of=sf.data)
         nm = sf.options.signal_name or os.path.splitext(os.path.basename(sf.name))[0]
         signals.append(UserSignal(nm, sa.values.reindex(columns=secs), sf.options.higher_is_cheaper))
 
@@ -192,8 +192,10 @@ def _build(files: Sequence[ParsedFile], o: PanelOptions) -> Panel:
         dict(name=f.name, kind=f.kind, sha256=f.sha256, size=f.size, rows=f.report.n_rows, securities=f.report.n_securities)
         for f in files
     )
+    by_availability = ef is not None and ef.report.availability_column is not None
     return Panel(prices=prices, eps=eps, dividends=dividends, sectors=sectors, holdings=holdings, benchmark=benchmark,
-                 market_cap=mcap, signals=tuple(signals), report=report, sources=sources)
+                 market_cap=mcap, signals=tuple(signals), report=report, sources=sources,
+                 eps_dated_by_availability=bool(by_availability))
 
 
 def _note_align(f: ParsedFile, superseded: int, stale: int, outside: int, rows: list[tuple[str, str, int]]) -> None:
@@ -214,10 +216,10 @@ def _note_unknown(f: ParsedFile, unknown: set[str], what: str, notes: list[str],
 
 
 def _dividends(frame: pd.DataFrame | None, f: ParsedFile | None, secs: pd.Index, prices: pd.DataFrame, cal: pd.DatetimeIndex,
-               notes: list[str], rows: list[tuple[str, str, int]]) -> pd.DataFrame | None:
+               notes: list[str], rows: list[tuple[str, str, int]], o: PanelOptions) -> pd.DataFrame | None:
     if frame is None or f is None:
         return None
-    unknown = set(frame["security"]) - set(secs)
+    unknown = set(frame["security"].unique()) - set(secs)
     _note_unknown(f, unknown, "dividends", notes, rows, len_of=frame)
     d = frame[frame["security"].isin(secs)].copy()
     me = month_end_index(d["ex_date"])
@@ -234,6 +236,33 @@ def _dividends(frame: pd.DataFrame | None, f: ParsedFile | None, secs: pd.Index,
         rows.append((f.name, Reason.OUTSIDE_HISTORY.value, k))
         notes.append(f"{f.name}: {k} dividend events dated outside their security's price history were kept but cannot "
                      f"enter returns ({int(out_cal.sum())} outside the calendar; securities: {_names(who)})")
+    # A dividend that would enter returns silently wrong: in a month without a price, or a large share of the price.
+    inside = ~(out_cal | out_own)
+    px = prices.stack().rename("price")
+    keys = pd.MultiIndex.from_arrays([pd.DatetimeIndex(me), d["security"].to_numpy()])
+    month_price = px.reindex(keys).to_numpy(dtype=float)
+    amount = d["amount"].to_numpy(dtype=float)
+    no_price = inside & ~np.isfinite(month_price)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(np.isfinite(month_price) & (month_price > 0), amount / month_price, np.nan)
+    too_big = inside & np.isfinite(share) & (share > o.dividend_plausible_share)
+    for mask, reason, what in ((no_price, Reason.DIVIDEND_WITHOUT_PRICE, "in a month without a price"),
+                               (too_big, Reason.DIVIDEND_IMPLAUSIBLE,
+                                f"above {100 * o.dividend_plausible_share:g} % of the month's price")):
+        n_bad = int(mask.sum())
+        if not n_bad:
+            continue
+        who = sorted(set(d["security"].to_numpy()[mask]))
+        rows.append((f.name, reason.value, n_bad))
+        if o.keep_suspect_dividends:
+            notes.append(f"{f.name}: {n_bad} dividend events {what} were kept in the returns as you asked "
+                         f"(securities: {_names(who)})")
+        else:
+            notes.append(f"{f.name}: {n_bad} dividend events {what} were set aside (they would enter returns "
+                         f"unchecked); keep them with the keep-suspect-dividends choice after checking "
+                         f"(securities: {_names(who)})")
+    if not o.keep_suspect_dividends:
+        d = d[~(no_price | too_big)]
     return d.sort_values(["security", "ex_date"], kind="stable").reset_index(drop=True)
 
 
@@ -241,7 +270,7 @@ def _sectors(f: ParsedFile | None, secs: pd.Index, notes: list[str], rows: list[
     if f is None:
         return None
     d = f.data
-    _note_unknown(f, set(d["security"]) - set(secs), "sector rows", notes, rows, len_of=d)
+    _note_unknown(f, set(d["security"].unique()) - set(secs), "sector rows", notes, rows, len_of=d)
     s = d[d["security"].isin(secs)].set_index("security")["sector"].astype("str")
     s.index.name = "security"
     missing = sorted(set(secs) - set(s.index))

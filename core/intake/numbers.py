@@ -12,6 +12,8 @@ from typing import Literal, Sequence
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 __all__ = [
     "PARSED",
@@ -137,9 +139,6 @@ def parse_numbers(values: pd.Series, decimal: Literal["point", "comma"] = "point
 def _arrow_cast(s: pd.Series) -> np.ndarray | None:
     """All cells plain numbers or blank (the common case): one arrow cast; else None."""
     try:
-        import pyarrow as pa
-        import pyarrow.compute as pc
-
         arr = s.array._pa_array if hasattr(s.array, "_pa_array") else pa.array(s.astype("str").fillna("").tolist(), pa.string())
         empty = pc.fill_null(pc.equal(arr, ""), True)
         arr = pc.if_else(empty, pa.scalar(None, pa.string()), arr)

@@ -56,6 +56,8 @@ class FileReport:
     excluded_columns: tuple[str, ...] = ()
     suspect_columns: tuple[str, ...] = ()
     date_ambiguous: bool = False
+    #: earnings: the announcement-date column each EPS is dated by (None: dated by the date column as it is)
+    availability_column: str | None = None
 
     def count(self, reason: object) -> int:
         """Cells counted under ``reason`` (a Reason or its string value); 0 when none."""
@@ -83,6 +85,9 @@ class FileReport:
         if self.date_column is not None:
             lines.append(f"  dates from column {self.date_column!r}: {self.date_order} ({self.date_order_reason}); "
                          f"{_d(self.first_date)} to {_d(self.last_date)}, {self.frequency}")
+        if self.availability_column is not None:
+            lines.append(f"  each figure dated by when it became public (column {self.availability_column!r}): "
+                         "used from the first month-end on or after that date, no fixed reporting lag")
         if self.decimal:
             lines.append(f"  decimal {self.decimal}; {self.n_securities} securities")
         lines.append(f"  cells: {self.cells_total} total = {self.cells_parsed} parsed + {self.cells_blank} blank + "

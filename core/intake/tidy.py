@@ -8,6 +8,8 @@ unparseable or dropped (by reason).
 
 from __future__ import annotations
 
+import re
+
 from typing import Any
 
 import numpy as np
@@ -18,7 +20,7 @@ from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake import numbers as nb
 from valuesift.core.intake._common import (
     DUP, NEGAMT, NODATE, NONPOS, NOSEC, POSITIVE_KINDS, Ctx, clean_ids, date_profile, decide_decimal,
-    find_column, frequency, number_profiles, tally_values, value_column,
+    find_column, frequency, number_profiles, stack_columns, tally_values, value_column,
 )
 from valuesift.core.intake.dates import parse_dates
 from valuesift.core.intake.kinds import guess_kind, infer_earnings_form
@@ -134,6 +136,24 @@ def _date_column(ctx: Ctx, avail: list[int]) -> tuple[int, bool]:
                       hint="Set date_column to the column that holds the dates.")
 
 
+#: Header words of a column holding the date an earnings figure became public (matched on the
+#: lower-cased name with everything but letters and digits removed).
+AVAILABILITY_NAME = re.compile(r"announce|reportdate|reported|reportedon|release|available|availability|publish|"
+                               r"publication|filingdate|filed")
+
+
+def _availability_column(ctx: Ctx, d: int, candidates: list[int]) -> int | None:
+    """The announcement-date column of a long earnings file, or None (the user's choice wins)."""
+    if ctx.options.earnings_date_column:
+        return find_column(ctx, ctx.options.earnings_date_column, "earnings_date_column")
+    for j in candidates:
+        if AVAILABILITY_NAME.search(norm_name(ctx.header[j])) and date_profile(ctx.col(j), allow_serial=False) >= 0.5:
+            return j
+    if AVAILABILITY_NAME.search(norm_name(ctx.header[d])):
+        return d
+    return None
+
+
 def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, Any]]:
     o, g = ctx.options, ctx.grid
     d, serial = _date_column(ctx, avail)
@@ -170,6 +190,17 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         vcols = [value_column(ctx, kind, rest, numeric)]
     else:
         vcols = rest
+    avail_col: int | None = None
+    if kind == "earnings" and layout == "long":
+        avail_col = _availability_column(ctx, d, [j for j in rest if j != sec and j not in vcols])
+        if avail_col is not None and avail_col != d:
+            ctx.notes.append(f"each EPS is dated by the announcement column {ctx.header[avail_col]!r} and used from "
+                             f"the first month-end on or after that date, with no fixed reporting lag; the column "
+                             f"{ctx.header[d]!r} is not used")
+            d = avail_col
+        elif avail_col is not None:
+            ctx.notes.append(f"the date column {ctx.header[d]!r} reads as the date each EPS became public: each "
+                             "figure is used from the first month-end on or after it, with no fixed reporting lag")
     used = {d, *vcols} | ({sec} if sec is not None else set())
     unused = [j for j in avail if j not in used]
     for j in unused:
@@ -192,7 +223,7 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
     date_ok = (dres.status == 0) & ~future
 
     # values
-    stacked = pd.concat([ctx.col(j).reset_index(drop=True) for j in vcols], ignore_index=True) if len(vcols) > 1 else ctx.col(vcols[0]).reset_index(drop=True)
+    stacked = stack_columns([ctx.col(j) for j in vcols])
     if vcols != rest:
         decimal, dec_reason = decide_decimal(ctx, vcols)
     ctx.notes.append(f"decimal {decimal}: {dec_reason}")
@@ -307,8 +338,10 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         decimal=decimal, n_securities=int(1 + np.count_nonzero(np.diff(sec_k))) if kind != "benchmark" and keep.size else 0,
         first_date=pd.Timestamp(dvals.min()) if keep.size else None,
         last_date=pd.Timestamp(dvals.max()) if keep.size else None,
-        frequency=frequency(dvals.astype("datetime64[ns]")) if kind != "dividends" else "events", security_column=ctx.header[sec] if sec is not None else None,
+        frequency=("annual or irregular" if avail_col is not None else frequency(dvals.astype("datetime64[ns]")))
+        if kind != "dividends" else "events", security_column=ctx.header[sec] if sec is not None else None,
         value_column=ctx.header[vcols[0]] if layout != "wide" else None, value_form=value_form,
         suspect_columns=suspects, date_ambiguous=dres.ambiguous,
+        availability_column=ctx.header[avail_col] if avail_col is not None else None,
     )
     return out, extra

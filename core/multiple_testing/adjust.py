@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 from scipy import stats as _st
+from statsmodels.stats.multitest import multipletests
 
 __all__ = ["two_sided_p", "adjust_pvalues", "ALPHA"]
 
@@ -50,8 +51,6 @@ def adjust_pvalues(p: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     Benjamini, Y. & Hochberg, Y. (1995). Controlling the false discovery rate.
     J. R. Stat. Soc. B 57(1), 289-300.
     """
-    from statsmodels.stats.multitest import multipletests
-
     p = np.asarray(p, dtype=float)
     bh = np.full(p.shape, np.nan)
     bon = np.full(p.shape, np.nan)

@@ -274,13 +274,8 @@ def stability_fields(result: "StudyResult", panel: Panel) -> dict[str, Any]:
     periods, diff = _periods(result, _split(result))
     decay, facts = _decay(result, _one_month(result, grid, track, valid))
     cw, cwb = _capweighted(result, grid)
-    col = comparison_column(result)
-    note = ("Relative figures, market regimes and betas are measured against the benchmark file."
-            if col == "benchmark" else
-            "No benchmark file was given: relative figures, market regimes and betas are measured against the "
-            "equal-weight universe.")
+    # which comparison was used is said by ``relative.comparison`` and by every sentence that shows the figures
     return {
-        "notes": tuple(result.notes) + (note,),
         "relative": _relative(result),
         "ic_by_period": periods,
         "period_difference": diff,

@@ -328,6 +328,7 @@ def run_sweep(
 def _run_on_client(client: Any, panel: Panel, input_key: str, todo: list[GridPoint],
                    done: Callable[[GridPoint, dict[str, Any]], None], holdout: str | None = None) -> None:
     """Scatter the panel once, submit one task per point referencing it, collect as they finish."""
+    # the cluster extra only when a client is given: 0.52 s of start-up (python -X importtime)
     from distributed import as_completed
 
     panel_future = client.scatter(panel, broadcast=True)

@@ -51,3 +51,23 @@ def test_panel_choices_offer_sectors_and_user_signals(small_panel) -> None:  # t
     assert ch["signals"] == ["book yield"] and ch["holdings"] and ch["benchmark"]
     assert panel_choices(small_panel.with_(holdings=None, sectors=None))["sectors"] == []
     assert isinstance(small_panel.prices, pd.DataFrame)
+
+
+def test_page_settings_come_from_the_settings_table() -> None:
+    from valuesift.app.settings import HORIZON_CHOICES, PAGE_SETTINGS, bounds, options, shown_horizon
+    from valuesift.core.settings import DEFAULT_HORIZONS, HORIZON_RANGE, SETTING_BY_NAME
+
+    assert config_from_settings({}) == StudyConfig()            # every default is the table's
+    for name in PAGE_SETTINGS:
+        assert SETTING_BY_NAME[name].control != "none", name   # the table names a control for each page setting
+    assert set(DEFAULT_HORIZONS) <= set(HORIZON_CHOICES)
+    assert all(HORIZON_RANGE[0] <= h <= HORIZON_RANGE[1] for h in HORIZON_CHOICES)
+    assert bounds("holding_months") == {"min": SETTING_BY_NAME["holding_months"].lo,
+                                        "max": SETTING_BY_NAME["holding_months"].hi}
+    assert [o["value"] for o in options("outlier_rule")] == list(SETTING_BY_NAME["outlier_rule"].codes)
+    assert shown_horizon((1, 3, 12)) == 12 and shown_horizon((1, 3)) == 1 and shown_horizon((1, 3), 3) == 3
+    assert shown_horizon((1, 12), "bad") == 12
+
+
+def test_minimum_breadth_control_reaches_the_config() -> None:
+    assert config_from_settings({"min_breadth": "25"}).min_breadth == 25

@@ -27,7 +27,7 @@ def main() -> int:
     from valuesift.core.config import StudyConfig
     from valuesift.core.study import run_study
 
-    from tests.bundle.conftest import load_demo  # the same demo panel as the bundle tests
+    from tests.app.bundle.conftest import load_demo  # the same demo panel as the bundle tests
 
     ap = argparse.ArgumentParser()
     ap.add_argument("--repeats", type=int, default=3)

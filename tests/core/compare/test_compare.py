@@ -3,8 +3,6 @@ regression against linearmodels."""
 
 from __future__ import annotations
 
-import sys
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -17,8 +15,7 @@ from valuesift.core.config import StudyConfig
 from valuesift.core.errors import ConfigError
 from valuesift.core.study import run_study
 
-sys.path.insert(0, str(Path(__file__).parents[1] / "engine"))
-from _panels import make_panel  # noqa: E402
+from _panels import make_panel  # noqa: E402  (tests/core/conftest.py puts tests/core on the path)
 
 
 @pytest.fixture(scope="module")

@@ -4,8 +4,6 @@ difference of halves by hand, sector ICs against scipy."""
 from __future__ import annotations
 
 import math
-import sys
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -93,7 +91,6 @@ def test_sector_ic_matches_scipy_within_each_sector() -> None:
 
 
 def test_study_fields_on_an_invented_panel() -> None:
-    sys.path.insert(0, str(Path(__file__).parents[1] / "engine"))
     from _panels import make_panel
 
     from valuesift.core.config import StudyConfig
