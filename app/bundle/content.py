@@ -10,6 +10,7 @@ import pandas as pd
 
 from valuesift import core
 from valuesift.app.bundle.charts import CHARTS
+from valuesift.app.bundle.stability_text import STABILITY_READINGS
 from valuesift.app.bundle.pdf import ReportInput
 from valuesift.app.bundle.text import (
     CHART_READINGS,
@@ -192,7 +193,7 @@ def report_input(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     chart_pages = []
     for key in chart_keys:
         heading = titles[key] + (f", {hh} months" if any(c.key == key and c.per_horizon for c in CHARTS) else "")
-        chart_pages.append((key, heading, images.get(key), CHART_READINGS[key](result, hh, panel)))
+        chart_pages.append((key, heading, images.get(key), {**CHART_READINGS, **STABILITY_READINGS}[key](result, hh, panel)))
     st, cheap, dear = screen_frames(result)
     qf, ql, qr = _quality(panel, result)
     asof = str(result.screen.attrs.get("date", ""))

@@ -19,6 +19,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from valuesift.app.bundle.stability_tables import STABILITY_TABLES, stability_tables
 from valuesift.app.screen_table import neutralise
 from valuesift.app.words import screen_in_words
 from valuesift.core.reporting.summary import summary_dict
@@ -49,6 +50,7 @@ TABLES: dict[str, str] = {
     "summary": "the headline figures per horizon (the numbers of summary.json)",
     "ic_by_delay": "mean rank IC and its t when the signal is used 0 to 3 months after its date (look-ahead check)",
     "data_quality": "per input file: rows, securities, dates and how every cell was accounted for",
+    **STABILITY_TABLES,
 }
 TABLE_KEYS: tuple[str, ...] = tuple(TABLES)
 
@@ -170,6 +172,7 @@ def result_tables(result: StudyResult, panel: Any = None) -> dict[str, pd.DataFr
         "summary": _summary(result),
         "ic_by_delay": result.ic_by_delay.copy(),
         "data_quality": _data_quality(panel),
+        **stability_tables(result),
     }
 
 
