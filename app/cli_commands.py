@@ -64,7 +64,11 @@ def run_check(args: argparse.Namespace) -> int:
         try:
             panel = build_panel(parsed, panel_options_from_args(args))
         except IntakeError as err:
+            # The files that were read still get their report: the panel's failure is listed below.
             failures.append(str(err))
+            for pf in parsed:
+                print(pf.report.to_text())
+                print()
         else:
             assert panel.report is not None
             print(intake_report_text(panel.report))
@@ -106,7 +110,9 @@ def add_serve(sub: Any) -> None:
     p.add_argument("--host", default="127.0.0.1",
                    help="address to listen on; anything but loopback needs --allow-remote and prints a token")
     p.add_argument("--allow-remote", action="store_true", help="permit a non-loopback --host (token required)")
-    p.add_argument("--token", default=None, help=argparse.SUPPRESS)   # refused: the process list would show it
+    p.add_argument("--token", default=None, metavar="TOKEN",
+                   help="not accepted: a token on the command line is visible to every user of this computer in "
+                        "the process list; use --token-file or the VALUESIFT_TOKEN environment variable")
     p.add_argument("--token-file", default=None, metavar="FILE",
                    help="file (private to you) whose first line is the access token for a non-loopback bind; "
                         "or set the VALUESIFT_TOKEN environment variable (default: a token is generated)")
