@@ -52,7 +52,7 @@ def _controls(d: dict[str, Any] = _D, persist: dict[str, Any] = _PERSIST) -> htm
                                                options=[{"label": str(h), "value": h} for h in HORIZON_CHOICES],
                                                **persist),
               help_text("horizons") + " All chosen horizons are computed in one study."),
-        field(label("n_quantiles"), dcc.Dropdown(id=f"{P}-quantiles", value=d["n_quantiles"], clearable=False,
+        field(label("n_quantiles"), dcc.Dropdown(id=f"{P}-n-quantiles", value=d["n_quantiles"], clearable=False,
                                                  options=[{"label": str(k), "value": k}
                                                           for k in range(int(q.lo or 2), int(q.hi or 10) + 1)],
                                                  **persist), help_text("n_quantiles")),
@@ -119,7 +119,7 @@ register_job_callbacks(P, controls_id=f"{P}-controls")
 @dash.callback(
     Output("vs-settings", "data"),
     Input(f"{P}-signal", "value"), Input(f"{P}-universe", "value"), Input(f"{P}-sectors", "value"),
-    Input(f"{P}-min-history", "value"), Input(f"{P}-horizons", "value"), Input(f"{P}-quantiles", "value"),
+    Input(f"{P}-min-history", "value"), Input(f"{P}-horizons", "value"), Input(f"{P}-n-quantiles", "value"),
     Input(f"{P}-outliers", "value"), Input(f"{P}-winsor", "value"), Input(f"{P}-zscore", "value"),
     Input(f"{P}-neutral", "value"), Input(f"{P}-lag", "value"), Input(f"{P}-dividends", "value"),
     Input(f"{P}-excess", "value"), Input(f"{P}-holding", "value"), Input(f"{P}-cost", "value"),
