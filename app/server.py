@@ -316,6 +316,15 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
             return flask.redirect("/study" if sel.get("ids") else "/data", code=302)
         return None
 
+    icon = assets_folder() / "favicon.ico"
+
+    @server.before_request
+    def _icon() -> Any:
+        # Our own icon wherever a browser asks for one (the framework's /_favicon.ico serves its stock logo).
+        if flask.request.path in ("/favicon.ico", "/_favicon.ico"):
+            return flask.send_file(icon, mimetype="image/x-icon", max_age=3600)
+        return None
+
     @server.after_request
     def _headers(resp: flask.Response) -> flask.Response:
         resp.headers.setdefault("X-Content-Type-Options", "nosniff")
