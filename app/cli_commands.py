@@ -102,6 +102,12 @@ def run_demo(args: argparse.Namespace) -> int:
 
 
 # -- serve ------------------------------------------------------------------------
+def _default_workspace() -> str:
+    from valuesift.app.workspace import user_data_dir
+
+    return str(user_data_dir() / "workspace")
+
+
 def add_serve(sub: Any) -> None:
     p = sub.add_parser("serve", help="start the dashboard on this computer",
                        description="Start the dashboard. It listens on 127.0.0.1 only unless --host is given.")
@@ -120,7 +126,8 @@ def add_serve(sub: Any) -> None:
                    help="with --allow-remote: a host name other computers use to reach the "
                         "dashboard; repeatable (the Host header of every request must be one of the names)")
     p.add_argument("--workspace", default=None, metavar="DIR",
-                   help="folder for uploaded datasets (default: ~/.valuesift/workspace)")
+                   help="folder that keeps uploaded files, reading choices, results and sweeps across restarts "
+                        f"(default: {_default_workspace()})")
     p.add_argument("--max-upload-mb", type=float, default=200.0, metavar="MB",
                    help="largest upload the server accepts, in megabytes (default 200)")
     p.add_argument("--dev", action="store_true", help="developer mode: Dash debug tools and hot reload")

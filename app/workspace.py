@@ -43,6 +43,7 @@ import hashlib
 import json
 import os
 import sqlite3
+import sys
 import tempfile
 import threading
 import time
@@ -58,7 +59,7 @@ from valuesift.core.errors import IntakeError, Reason, ValueSiftError
 from valuesift.core.intake import ParsedFile, ReadOptions, read_table
 from valuesift.core.intake.report import FileReport
 
-__all__ = ["DatasetRecord", "Workspace", "SharedDatasetError", "options_to_dict", "options_from_dict",
+__all__ = ["user_data_dir", "DatasetRecord", "Workspace", "SharedDatasetError", "options_to_dict", "options_from_dict",
            "report_to_dict", "report_from_dict", "atomic_write_bytes", "ORPHAN_AGE_S"]
 
 #: a raw or data file no catalogue row names is removed at open once it is this old (seconds)
@@ -88,6 +89,20 @@ CREATE TABLE IF NOT EXISTS settings (key TEXT PRIMARY KEY, value TEXT NOT NULL);
 
 
 # -- serialisation ---------------------------------------------------------------
+def user_data_dir(environ: dict[str, str] | None = None, platform: str | None = None) -> Path:
+    """The user's data folder for ValueSift: ``$XDG_DATA_HOME/valuesift`` (default ``~/.local/share/valuesift``)
+    on Linux, ``~/Library/Application Support/ValueSift`` on macOS, ``%LOCALAPPDATA%\\ValueSift`` on Windows."""
+    env = os.environ if environ is None else environ
+    plat = sys.platform if platform is None else platform
+    if plat.startswith("win"):
+        base = env.get("LOCALAPPDATA") or str(Path.home() / "AppData" / "Local")
+        return Path(base) / "ValueSift"
+    if plat == "darwin":
+        return Path.home() / "Library" / "Application Support" / "ValueSift"
+    base = env.get("XDG_DATA_HOME") or str(Path.home() / ".local" / "share")
+    return Path(base) / "valuesift"
+
+
 def options_to_dict(options: ReadOptions) -> dict[str, Any]:
     """ReadOptions as a JSON-ready dict (tuples become lists)."""
     d = dataclasses.asdict(options)
@@ -317,6 +332,19 @@ class Workspace:
             if wrote_raw:
                 self._drop_raw_if_unused(sha)
             return self._failed(name, sha, len(raw), options, self._disk_message(name, err), demo, owner)
+
+    def find_upload(self, raw: bytes, *, owner: str = "") -> DatasetRecord | None:
+        """The dataset already read from exactly these bytes (same SHA-256) that ``owner`` can see, or None.
+
+        An identical upload is recognised by this and reused with its reading choices (exclusions,
+        date order ...), instead of being catalogued a second time with the detected ones.  The
+        owner's own copy is preferred, then a shared one; among several, the latest.
+        """
+        sha = hashlib.sha256(raw).hexdigest()
+        with self._connect() as con:
+            rows = con.execute("SELECT * FROM datasets WHERE sha256 = ? AND status = 'ok' AND owner IN (?, '') "
+                               "ORDER BY (owner = ?) DESC, uploaded_at DESC", (sha, owner, owner)).fetchall()
+        return self._record(rows[0]) if rows else None
 
     def _disk_message(self, name: str, err: BaseException) -> str:
         full = isinstance(err, OSError) and err.errno in (errno.ENOSPC, errno.EDQUOT)
