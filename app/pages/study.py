@@ -15,6 +15,7 @@ from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state
 from valuesift.app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES, bounds, help_text, label, options, shown_horizon
 from valuesift.app.sweeps import settings_from_query
+from valuesift.app.words import stage_words
 from valuesift.core.settings import SETTING_BY_NAME
 
 dash.register_page(__name__, path="/study", name="Study", order=1, title="ValueSift - Study")
@@ -225,6 +226,6 @@ def _notes(res: Any) -> Any:
     items = [html.Li(n) for n in res.notes]
     dn = res.date_notes
     if dn is not None and len(dn):
-        for _, r in dn.groupby(["stage", "reason"], as_index=False)["count"].sum().iterrows():
-            items.append(html.Li(f"{r['stage']}: {r['reason']} ({int(r['count'])})"))
+        for _, r in dn.groupby(["stage", "reason"], as_index=False)["date"].nunique().iterrows():
+            items.append(html.Li(f"{stage_words(r['stage'])}: {r['reason']} on {int(r['date'])} date(s)."))
     return [html.H3("Notes on this study"), html.Ul(items)] if items else None
