@@ -31,7 +31,7 @@ from valuesift.app.figures import data as fd
 from valuesift.app.figures import study as fs
 from valuesift.core.result import StudyResult
 
-__all__ = ["ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
+__all__ = ["stamp_source", "ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
            "plotly_js_path", "find_browser", "NO_BROWSER_HINT", "RenderOutcome", "RenderJob", "start_render", "print_jpeg"]
 
 #: A 16:9 slide at 2x: 1280 x 720 layout pixels, rendered at scale 2 (2560 x 1440 PNG).
@@ -242,4 +242,28 @@ def print_jpeg(png: bytes) -> bytes:
     """A chart's print copy: JPEG at quality 92 without chroma subsampling (the PDF embeds it as it is)."""
     buf = io.BytesIO()
     Image.open(io.BytesIO(png)).convert("RGB").save(buf, format="JPEG", quality=92, subsampling=0, optimize=False)
+    return buf.getvalue()
+
+
+def stamp_source(png: bytes, line: str) -> bytes:
+    """The chart PNG with ``line`` (the bundle's source line) written along its bottom edge, same size.
+
+    The chart is scaled down by the height of one strip of text (keeping its proportions) and the line
+    is written in that strip, so a slide or document that takes the image carries its source with it.
+    """
+    from PIL import Image, ImageDraw, ImageFont
+    import reportlab
+
+    with Image.open(io.BytesIO(png)) as src:
+        im = src.convert("RGB")
+    w, h = im.size
+    strip = max(24, int(h * 0.034))
+    body = im.resize((int(w * (h - strip) / h), h - strip), Image.Resampling.BILINEAR)
+    out = Image.new("RGB", (w, h), "white")
+    out.paste(body, ((w - body.width) // 2, 0))
+    font_path = Path(reportlab.__file__).parent / "fonts" / "Vera.ttf"
+    font = ImageFont.truetype(str(font_path), size=max(10, int(strip * 0.5)))
+    ImageDraw.Draw(out).text((int(w * 0.015), h - strip + int(strip * 0.2)), line, fill=(111, 119, 130), font=font)
+    buf = io.BytesIO()
+    out.save(buf, format="PNG", compress_level=3)
     return buf.getvalue()
