@@ -237,7 +237,8 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     if sweep is not None:
         figs[bc.SWEEP_KEY] = bc.sweep_figure(sweep)
     tick("starting the browser and writing tables", 0.05)
-    job = bc.start_render(figs, progress=lambda s, f: tick(s, 0.1 + 0.7 * f))
+    source = source_line(result, files_in)
+    job = bc.start_render(figs, progress=lambda s, f: tick(s, 0.1 + 0.7 * f), stamp=source)
     if specs:
         shutil.copyfile(bc.plotly_js_path(), folder / "charts" / "plotly.min.js")
         written.append("charts/plotly.min.js")
@@ -271,10 +272,9 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     written.append("summary.json")
 
     outcome = job.wait()
-    source = source_line(result, files_in)
     for c in [*specs, *([bc.SWEEP_SPEC] if sweep is not None else [])]:
         if c.key in outcome.png:
-            (folder / "charts" / f"{c.key}.png").write_bytes(bc.stamp_source(outcome.png[c.key], source))
+            (folder / "charts" / f"{c.key}.png").write_bytes(outcome.png[c.key])
             (folder / "charts" / f"{c.key}.svg").write_bytes(outcome.svg[c.key])
             written += [f"charts/{c.key}.png", f"charts/{c.key}.svg"]
     tick("laying out the report", 0.84)
