@@ -102,7 +102,7 @@ def layout(**query: Any) -> html.Div:
                     html.Div(className="vs-card", children=[
                         field("Scatter date", dcc.Dropdown(id=f"{P}-scatter-date", clearable=False, value="pooled",
                                                            options=[{"label": "all dates pooled (binned)", "value": "pooled"}])),
-                        dcc.Loading(dcc.Graph(id=f"{P}-scatter", config={"displaylogo": False}), type="dot", delay_show=300),
+                        dcc.Graph(id=f"{P}-scatter", config={"displaylogo": False}),
                     ]),
                     chart(f"{P}-fm"),
                 ]),
