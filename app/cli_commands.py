@@ -66,7 +66,11 @@ def run_check(args: argparse.Namespace) -> int:
         try:
             panel = build_panel(parsed, panel_options_from_args(args))
         except IntakeError as err:
+            # The files that were read still get their report: the panel's failure is listed below.
             failures.append(str(err))
+            for pf in parsed:
+                print(pf.report.to_text())
+                print()
         else:
             assert panel.report is not None
             print(intake_report_text(panel.report))
@@ -103,6 +107,12 @@ def run_demo(args: argparse.Namespace) -> int:
 
 
 # -- serve ------------------------------------------------------------------------
+def _default_workspace() -> str:
+    from valuesift.app.workspace import user_data_dir
+
+    return str(user_data_dir() / "workspace")
+
+
 def add_serve(sub: Any) -> None:
     p = sub.add_parser("serve", help="start the dashboard on this computer",
                        description="Start the dashboard. It listens on 127.0.0.1 only unless --host is given.")
@@ -112,8 +122,8 @@ def add_serve(sub: Any) -> None:
                    help="address to listen on; anything but loopback needs --allow-remote and prints a token")
     p.add_argument("--allow-remote", action="store_true", help="permit a non-loopback --host (token required)")
     p.add_argument("--token", default=None, metavar="TOKEN",
-                   help="not accepted: a token on the command line is visible to every user of the machine in "
-                        "the process list; use --token-file or VALUESIFT_TOKEN instead")
+                   help="not accepted: a token on the command line is visible to every user of this computer in "
+                        "the process list; use --token-file or the VALUESIFT_TOKEN environment variable")
     p.add_argument("--token-file", default=None, metavar="FILE",
                    help="file (private to you) whose first line is the access token for a non-loopback bind; "
                         "or set the VALUESIFT_TOKEN environment variable (default: a token is generated)")
@@ -121,7 +131,8 @@ def add_serve(sub: Any) -> None:
                    help="with --allow-remote: a host name other computers use to reach the "
                         "dashboard; repeatable (the Host header of every request must be one of the names)")
     p.add_argument("--workspace", default=None, metavar="DIR",
-                   help="folder for uploaded datasets (default: ~/.valuesift/workspace)")
+                   help="folder that keeps uploaded files, reading choices, results and sweeps across restarts "
+                        f"(default: {_default_workspace()})")
     p.add_argument("--max-upload-mb", type=float, default=200.0, metavar="MB",
                    help="largest upload the server accepts, in megabytes (default 200)")
     p.add_argument("--dev", action="store_true", help="developer mode: Dash debug tools and hot reload")

@@ -77,7 +77,7 @@ def add_intake_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--confirm-split", action="append", default=[], metavar="SECURITY",
                    help="apply the suspected split of this security only; repeatable")
     g.add_argument("--keep-suspect-dividends", action="store_true",
-                   help="keep dividends that fall in a month without a price or exceed 10%% of the month's price "
+                   help="keep dividends that fall in a month without a price or exceed 10 %% of the month's price "
                         "(default: they are set aside and listed in the report)")
     g.add_argument("--earnings-date-column", default=None, metavar="COLUMN",
                    help="long earnings file: the column with the date each figure became public (announcement, "

@@ -20,15 +20,16 @@ import pandas as pd
 from valuesift.app.words import screen_in_words
 from valuesift.core.errors import ConfigError
 
-__all__ = ["COLUMNS", "MAX_FILTER_CHARS", "display_frame", "apply_filter", "apply_sort", "page", "neutralise", "to_csv_bytes",
-           "to_xlsx_bytes"]
+__all__ = ["COLUMNS", "NUMBER_FORMATS", "MAX_FILTER_CHARS", "display_frame", "apply_filter", "apply_sort", "page",
+           "apply_grid_filter", "apply_grid_sort", "grid_rows", "excel_format", "neutralise", "to_csv_bytes", "to_xlsx_bytes"]
 
 #: (column id, header, kind) of the screen table in display order.
 COLUMNS: tuple[tuple[str, str, str], ...] = (
     ("security", "Security", "text"),
     ("sector", "Sector", "text"),
     ("signal", "Signal", "numeric"),
-    ("pe_display", "P/E", "text"),
+    ("pe", "P/E", "numeric"),
+    ("pe_note", "P/E note", "text"),
     ("zscore", "Z-score", "numeric"),
     ("sector_zscore", "Z within sector", "numeric"),
     ("quantile_label", "Quantile (cheapest first)", "text"),
@@ -40,6 +41,13 @@ COLUMNS: tuple[tuple[str, str, str], ...] = (
     ("flags", "Flags", "text"),
 )
 
+#: One format per numeric column: (decimals, percent?) -- the grid and the workbook both read it.
+NUMBER_FORMATS: dict[str, tuple[int, bool]] = {
+    "signal": (4, False), "pe": (1, False), "zscore": (2, False), "sector_zscore": (2, False),
+    "z_change_3m": (2, False), "z_change_12m": (2, False), "months_since_price": (0, False),
+    "months_since_eps": (0, False), "holding_weight": (2, True),
+}
+
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 
 #: the longest table filter accepted (a filter of the screen table is a few conditions long)
@@ -49,6 +57,10 @@ MAX_FILTER_CHARS = 1_000
 def display_frame(screen: pd.DataFrame, *, holdings_only: bool = False) -> pd.DataFrame:
     """The screen (indexed by security) as flat display columns in words, rounded for reading."""
     df = screen_in_words(screen)
+    if "pe" in df.columns:
+        # P/E is a number (sorts and filters as one); where it is not meaningful the note says so.
+        pe = pd.to_numeric(df["pe"], errors="coerce").to_numpy(dtype=float)
+        df = df.assign(pe=pe, pe_note=np.where(np.isfinite(pe), "", df["pe_display"].astype(str).to_numpy()))
     if holdings_only and "holding_weight" in df.columns:
         df = df[np.isfinite(pd.to_numeric(df["holding_weight"], errors="coerce").to_numpy(dtype=float))]
     out = pd.DataFrame({"security": df.index.astype(str).to_numpy()})
@@ -162,6 +174,91 @@ def page(df: pd.DataFrame, current: int | None, size: int | None) -> tuple[list[
     return rows, n_pages
 
 
+_TEXT_TESTS = {"contains", "notContains", "equals", "notEqual", "startsWith", "endsWith", "blank", "notBlank"}
+_NUMBER_TESTS = {"equals", "notEqual", "lessThan", "lessThanOrEqual", "greaterThan", "greaterThanOrEqual",
+                 "inRange", "blank", "notBlank"}
+
+
+def _number(v: Any) -> float:
+    try:
+        return float(v)
+    except (TypeError, ValueError):
+        return float("nan")
+
+
+def _grid_condition(s: pd.Series, cond: dict[str, Any]) -> np.ndarray:
+    """One condition of the grid's filter model as a boolean mask (unknown tests keep every row)."""
+    kind, test = cond.get("filterType"), cond.get("type")
+    if kind == "number" and test in _NUMBER_TESTS:
+        x = pd.to_numeric(s, errors="coerce").to_numpy(dtype=float)
+        if test == "blank":
+            return ~np.isfinite(x)
+        if test == "notBlank":
+            return np.isfinite(x)
+        v, hi = _number(cond.get("filter")), _number(cond.get("filterTo"))
+        with np.errstate(invalid="ignore"):
+            out = {"equals": x == v, "notEqual": x != v, "lessThan": x < v, "lessThanOrEqual": x <= v,
+                   "greaterThan": x > v, "greaterThanOrEqual": x >= v,
+                   "inRange": (x >= v) & (x <= hi)}[test]
+        return np.asarray(out, dtype=bool)
+    if kind == "text" and test in _TEXT_TESTS:
+        text = s.astype(str).str.lower()
+        if test in ("blank", "notBlank"):
+            empty = (text.str.strip() == "").to_numpy(dtype=bool)
+            return empty if test == "blank" else ~empty
+        needle = str(cond.get("filter") or "").lower()
+        if len(needle) > MAX_FILTER_CHARS:
+            raise ConfigError(f"The table filter is {len(needle):,} characters long, above the limit of "
+                              f"{MAX_FILTER_CHARS:,}.", hint="Filter on a few letters of the name or sector.")
+        hit = {"contains": lambda: text.str.contains(needle, regex=False),
+               "notContains": lambda: ~text.str.contains(needle, regex=False),
+               "equals": lambda: text == needle, "notEqual": lambda: text != needle,
+               "startsWith": lambda: text.str.startswith(needle), "endsWith": lambda: text.str.endswith(needle)}[test]()
+        return hit.to_numpy(dtype=bool)
+    return np.ones(len(s), dtype=bool)
+
+
+def apply_grid_filter(df: pd.DataFrame, model: dict[str, Any] | None) -> pd.DataFrame:
+    """Rows matching the data grid's filter model (``{column: {filterType, type, filter[, filterTo]}}``,
+    or two conditions joined by ``operator`` AND/OR), as boolean masks (never ``query`` or ``eval``).
+
+    Unknown columns and tests keep every row; a text filter above :data:`MAX_FILTER_CHARS` is refused
+    with :class:`ConfigError`.
+    """
+    if not model:
+        return df
+    mask = np.ones(len(df), dtype=bool)
+    for col, spec in model.items():
+        if col not in df.columns or not isinstance(spec, dict):
+            continue
+        conds = spec.get("conditions")
+        if isinstance(conds, list) and conds:
+            parts = [_grid_condition(df[col], {"filterType": spec.get("filterType"), **c}) for c in conds
+                     if isinstance(c, dict)]
+            hit = np.logical_or.reduce(parts) if str(spec.get("operator")).upper() == "OR" else \
+                np.logical_and.reduce(parts)
+        else:
+            hit = _grid_condition(df[col], spec)
+        mask &= hit
+    return df[mask]
+
+
+def apply_grid_sort(df: pd.DataFrame, sort_model: Sequence[dict[str, Any]] | None) -> pd.DataFrame:
+    """Sort by the data grid's sort model (``[{colId, sort}]``); numbers as numbers, missing values last."""
+    return apply_sort(df, [{"column_id": s.get("colId"), "direction": s.get("sort")} for s in (sort_model or [])
+                           if isinstance(s, dict)])
+
+
+def grid_rows(df: pd.DataFrame, request: dict[str, Any] | None) -> tuple[pd.DataFrame, list[dict[str, Any]]]:
+    """The filtered, sorted frame and the rows of one block the grid asked for (``startRow``..``endRow``)."""
+    req = request if isinstance(request, dict) else {}
+    shown = apply_grid_sort(apply_grid_filter(df, req.get("filterModel")), req.get("sortModel"))
+    start = max(0, int(req.get("startRow") or 0))
+    end = max(start, min(int(req.get("endRow") or start + 25), start + 1000))
+    chunk = shown.iloc[start:end]
+    return shown, chunk.astype(object).where(pd.notna(chunk), None).to_dict("records")
+
+
 def _starts_formula(text: str) -> bool:
     """Whether a spreadsheet could read ``text`` as a formula: its first character, or that character's
     Unicode compatibility form (full-width ``＝ ＋ － ＠``, small ``﹦ ﹢ ﹣``), is ``= + - @``, tab or CR."""
@@ -193,9 +290,27 @@ def to_csv_bytes(df: pd.DataFrame) -> bytes:
     return _export_frame(df).to_csv(index=False, lineterminator="\r\n").encode("utf-8")
 
 
+def excel_format(decimals: int, percent: bool) -> str:
+    """The spreadsheet number format of one column (thousands separator, fixed decimals, percent)."""
+    body = "#,##0" + ("." + "0" * decimals if decimals else "")
+    return body + "%" if percent else body
+
+
 def to_xlsx_bytes(df: pd.DataFrame, sheet: str = "screen") -> bytes:
-    """The table as an XLSX workbook (formula-safe)."""
+    """The table as an XLSX workbook (formula-safe); numeric columns are number cells with a number format."""
     buf = io.BytesIO()
+    headers = {cid: head for cid, head, _ in COLUMNS}
     with pd.ExcelWriter(buf, engine="openpyxl") as xw:
-        _export_frame(df).to_excel(xw, index=False, sheet_name=sheet)
+        out = _export_frame(df)
+        out.to_excel(xw, index=False, sheet_name=sheet)
+        ws = xw.sheets[sheet]
+        for j, name in enumerate(out.columns, start=1):
+            cid = next((c for c, h in headers.items() if h == name), None)
+            if cid in NUMBER_FORMATS:
+                fmt = excel_format(*NUMBER_FORMATS[cid])
+                for (cell,) in ws.iter_rows(min_row=2, min_col=j, max_col=j):
+                    cell.number_format = fmt
+            width = max([len(str(name))] + [len(str(v)) for v in out[name].head(200)]) + 2
+            ws.column_dimensions[ws.cell(row=1, column=j).column_letter].width = min(60, width)
+        ws.freeze_panes = "B2"
     return buf.getvalue()

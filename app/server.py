@@ -16,7 +16,6 @@ import os
 import re
 import secrets
 import sys
-import tempfile
 import threading
 import time
 from pathlib import Path
@@ -39,18 +38,19 @@ from valuesift.app.services import (
     selection_key,
 )
 from valuesift.app.settings import config_from_settings
-from valuesift.app.workspace import Workspace
+from valuesift.app.workspace import Workspace, user_data_dir
 from valuesift.core.demo import write_demo
 from valuesift.core.demo.write import INDEX_COLUMN
 from valuesift.core.errors import ConfigError
 from valuesift.core.intake import ReadOptions
 
 __all__ = ["create_app", "serve", "load_demo", "DEFAULT_WORKSPACE", "TOKEN_COOKIE", "TOKEN_ENV", "assets_folder",
-           "allowed_hosts", "token_strength_bits", "read_token", "MIN_TOKEN_BITS"]
+           "user_data_dir", "allowed_hosts", "token_strength_bits", "read_token", "MIN_TOKEN_BITS"]
 
 log = logging.getLogger("valuesift.app")
 
-DEFAULT_WORKSPACE = Path("~/.valuesift/workspace")
+#: The persistent workspace of ``serve`` and ``serve --demo`` (``--workspace`` overrides it).
+DEFAULT_WORKSPACE = user_data_dir() / "workspace"
 TOKEN_COOKIE = "valuesift_token"
 #: environment variable that may hold the access token (never the command line: the process list shows it)
 TOKEN_ENV = "VALUESIFT_TOKEN"
@@ -77,6 +77,13 @@ def load_demo(ws: Workspace, folder: Path | None = None) -> list[str]:
     """
 
     folder = Path(folder) if folder is not None else ws.root / "demo-files"
+    known = {r.id for r in ws.records()}
+    done = ws.get_setting("demo_ids", None)
+    if isinstance(done, list) and done and all(i in known for i in done):
+        # Added once: a restart keeps the user's own selection and choices.
+        if not (ws.get_setting("selection", {}) or {}).get("ids"):
+            ws.set_setting("selection", {"ids": done, "splits": []})
+        return list(done)
     if not (folder / "prices.csv").exists():
         write_demo(folder)
     ids = []
@@ -88,6 +95,7 @@ def load_demo(ws: Workspace, folder: Path | None = None) -> list[str]:
         else:  # pragma: no cover - the demo files are generated to be readable
             log.warning("demo file %s could not be read: %s", path.name, rec.error)
     ws.set_setting("selection", {"ids": ids, "splits": []})
+    ws.set_setting("demo_ids", ids)
     return ids
 
 
@@ -273,7 +281,7 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
     Parameters
     ----------
     workspace : path, optional
-        Folder for datasets and caches (default ``~/.valuesift/workspace``).
+        Folder for datasets and caches (default :data:`DEFAULT_WORKSPACE`, in the user's data folder).
     demo : bool
         Load the invented demo universe into the workspace and select it.
     dev : bool
@@ -322,6 +330,15 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
         if flask.request.path == "/":
             sel = ws.get_setting(selection_key(flask.g.get("vs_session")), None) or ws.get_setting("selection", {}) or {}
             return flask.redirect("/study" if sel.get("ids") else "/data", code=302)
+        return None
+
+    icon = assets_folder() / "favicon.ico"
+
+    @server.before_request
+    def _icon() -> Any:
+        # Our own icon wherever a browser asks for one (the framework's /_favicon.ico serves its stock logo).
+        if flask.request.path in ("/favicon.ico", "/_favicon.ico"):
+            return flask.send_file(icon, mimetype="image/x-icon", max_age=3600)
         return None
 
     @server.after_request
@@ -378,11 +395,8 @@ def serve(host: str = "127.0.0.1", port: int = 8750, demo: bool = False, workspa
         token = token or secrets.token_urlsafe(32)
         print(f"WARNING: listening on {host}, reachable from other computers. Anyone with the token "
               "can see and change your data. Use it only on a network you trust.", file=sys.stderr)
-    if workspace is None and demo:
-        # The demo without a chosen workspace lives in a temporary folder, apart from the user's data.
-        ws_path: Path = Path(tempfile.mkdtemp(prefix="valuesift-demo-"))
-    else:
-        ws_path = Path(workspace).expanduser() if workspace else DEFAULT_WORKSPACE.expanduser()
+    # One persistent workspace for serve and serve --demo: uploads, choices and sweeps survive a restart.
+    ws_path = Path(workspace).expanduser() if workspace else DEFAULT_WORKSPACE
     app = create_app(ws_path, demo=demo, dev=dev, max_upload_mb=max_upload_mb, token=token,
                      hosts=allowed_hosts(host, port, public_names))
     shown = "127.0.0.1" if host in ("0.0.0.0", "::") else host

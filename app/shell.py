@@ -31,7 +31,8 @@ def layout() -> Any:
         dcc.Store(id="vs-settings", storage_type="local"),
         dcc.Location(id="vs-url"),
         html.Header(className="vs-header", children=[
-            dcc.Link("ValueSift", href="/study", className="vs-brand"),
+            dcc.Link([html.Img(src=dash.get_asset_url("valuesift-icon.svg"), alt="", className="vs-brand-icon",
+                               id="vs-brand-icon"), "ValueSift"], href="/study", className="vs-brand"),
             html.Span("is a valuation signal rewarded in your universe?", className="vs-tagline"),
             html.Nav(nav_links(), className="vs-nav"),
         ]),

@@ -17,6 +17,7 @@ from valuesift.core.reporting.screen import SCREEN_FLAGS
 from valuesift.core.settings import SETTINGS, describe_value
 
 __all__ = [
+    "REASON_WORDS", "STAGE_WORDS", "reason_words", "stage_words",
     "SCREEN_FLAG_WORDS",
     "EVIDENCE_WORDS",
     "evidence_words",
@@ -85,6 +86,45 @@ GROUP_WORDS: dict[str, str] = {"signal": "Signal", "universe": "Universe", "retu
 
 assert set(SCREEN_FLAG_WORDS) == set(SCREEN_FLAGS), "every screen flag code needs its words"
 assert set(SECURITY_FLAGS) <= set(SECURITY_FLAG_WORDS), "every intake flag code needs its words"
+
+
+#: Intake's reason codes (:class:`valuesift.core.errors.Reason`) as a person reads them; every code has words
+#: (a test fails when one is added without them).
+REASON_WORDS: dict[str, str] = {
+    "empty_file": "the file is empty", "no_header": "no row of column names", "unreadable": "the file cannot be read",
+    "bad_encoding": "characters in an unknown encoding", "unsupported_format": "a file format that cannot be read",
+    "too_large": "the file is too large", "no_date_column": "no date column", "no_value_column": "no value column",
+    "ambiguous_dates": "dates that read either day-first or month-first",
+    "ambiguous_layout": "a layout that reads more than one way", "duplicate_columns": "the same column name twice",
+    "no_data": "no usable values", "blank": "blank cell", "missing_marker": "marked as missing (such as n.a.)",
+    "unparseable_number": "not a number", "unparseable_date": "not a date", "non_finite": "infinite or not a number",
+    "non_positive_price": "price of zero or below", "duplicate_entry": "the same date and security twice",
+    "excluded_column": "in a column you left out", "stale": "value older than the staleness limit",
+    "outside_history": "outside the price history", "unknown_security": "security not in the price file",
+    "superseded_in_month": "replaced by a later value in the same month", "out_of_range": "outside the allowed range",
+    "negative_amount": "negative amount", "row_without_date": "row without a date",
+    "row_without_security": "row without a security", "unused_column": "column not used",
+    "extra_field": "more fields than column names", "column_not_found": "the chosen column is not in the file",
+    "too_slow": "reading took longer than the time limit", "unknown_kind": "the kind of file is not known",
+    "price_file_count": "not exactly one price file", "bad_option": "a reading choice that is not allowed",
+    "duplicate_kind": "two files of the same kind",
+    "dividend_without_price": "dividend in a month without a price",
+    "dividend_implausible": "dividend above 10 % of the month's price",
+}
+
+#: The study steps that leave dates out (``StudyResult.date_notes["stage"]``), in words.
+STAGE_WORDS: dict[str, str] = {"signal": "Signal", "ic": "Information coefficient", "quantiles": "Quantiles"}
+
+
+def reason_words(code: object) -> str:
+    """An intake reason code in words (an unknown code with its underscores as spaces)."""
+    c = str(getattr(code, "value", code))
+    return REASON_WORDS.get(c, c.replace("_", " "))
+
+
+def stage_words(code: object) -> str:
+    """A study stage code in words."""
+    return STAGE_WORDS.get(str(code), str(code).replace("_", " "))
 
 
 def quantile_words(q: float, n_q: int) -> str:

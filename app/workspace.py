@@ -43,6 +43,7 @@ import hashlib
 import json
 import os
 import sqlite3
+import sys
 import tempfile
 import threading
 import time
@@ -58,7 +59,7 @@ from valuesift.core.errors import IntakeError, Reason, ValueSiftError
 from valuesift.core.intake import ParsedFile, ReadOptions, read_table
 from valuesift.core.intake.report import FileReport
 
-__all__ = ["DatasetRecord", "Workspace", "SharedDatasetError", "options_to_dict", "options_from_dict",
+__all__ = ["user_data_dir", "nothing_usable", "DatasetRecord", "Workspace", "SharedDatasetError", "options_to_dict", "options_from_dict",
            "report_to_dict", "report_from_dict", "atomic_write_bytes", "ORPHAN_AGE_S"]
 
 #: a raw or data file no catalogue row names is removed at open once it is this old (seconds)
@@ -88,6 +89,41 @@ CREATE TABLE IF NOT EXISTS settings (key TEXT PRIMARY KEY, value TEXT NOT NULL);
 
 
 # -- serialisation ---------------------------------------------------------------
+def user_data_dir(environ: dict[str, str] | None = None, platform: str | None = None) -> Path:
+    """The user's data folder for ValueSift: ``$XDG_DATA_HOME/valuesift`` (default ``~/.local/share/valuesift``)
+    on Linux, ``~/Library/Application Support/ValueSift`` on macOS, ``%LOCALAPPDATA%\\ValueSift`` on Windows."""
+    env = os.environ if environ is None else environ
+    plat = sys.platform if platform is None else platform
+    if plat.startswith("win"):
+        base = env.get("LOCALAPPDATA") or str(Path.home() / "AppData" / "Local")
+        return Path(base) / "ValueSift"
+    if plat == "darwin":
+        return Path.home() / "Library" / "Application Support" / "ValueSift"
+    base = env.get("XDG_DATA_HOME") or str(Path.home() / ".local" / "share")
+    return Path(base) / "valuesift"
+
+
+def nothing_usable(pf: ParsedFile) -> str:
+    """Why a file that was read gave no usable value, in one sentence with its commonest reason and an example."""
+    from valuesift.app.words import reason_words
+
+    rep = pf.report
+    why = ""
+    top = rep.by_reason.sort_values("count", ascending=False) if len(rep.by_reason) else rep.by_reason
+    if len(top):
+        # What could not be read says more than what was dropped because of it (a row without its date).
+        bad = top[top["category"] == "unparseable"]
+        top = bad if len(bad) else top[top["category"] != "blank"]
+    if len(top):
+        reason = top.iloc[0]["reason"]
+        ex = rep.examples[rep.examples["reason"] == reason].head(1)
+        example = (f" (for example row {int(ex.iloc[0]['row'])}, column {ex.iloc[0]['column']!r}: "
+                   f"{str(ex.iloc[0]['value'])[:24]!r})") if len(ex) else ""
+        why = f": {int(top.iloc[0]['count']):,} cells were {reason_words(reason)}{example}"
+    return (f"With these reading choices nothing in {rep.name} could be used{why}. The file keeps its earlier "
+            "reading; go back to the detected reading or choose differently (the date order, say).")
+
+
 def options_to_dict(options: ReadOptions) -> dict[str, Any]:
     """ReadOptions as a JSON-ready dict (tuples become lists)."""
     d = dataclasses.asdict(options)
@@ -318,6 +354,19 @@ class Workspace:
                 self._drop_raw_if_unused(sha)
             return self._failed(name, sha, len(raw), options, self._disk_message(name, err), demo, owner)
 
+    def find_upload(self, raw: bytes, *, owner: str = "") -> DatasetRecord | None:
+        """The dataset already read from exactly these bytes (same SHA-256) that ``owner`` can see, or None.
+
+        An identical upload is recognised by this and reused with its reading choices (exclusions,
+        date order ...), instead of being catalogued a second time with the detected ones.  The
+        owner's own copy is preferred, then a shared one; among several, the latest.
+        """
+        sha = hashlib.sha256(raw).hexdigest()
+        with self._connect() as con:
+            rows = con.execute("SELECT * FROM datasets WHERE sha256 = ? AND status = 'ok' AND owner IN (?, '') "
+                               "ORDER BY (owner = ?) DESC, uploaded_at DESC", (sha, owner, owner)).fetchall()
+        return self._record(rows[0]) if rows else None
+
     def _disk_message(self, name: str, err: BaseException) -> str:
         full = isinstance(err, OSError) and err.errno in (errno.ENOSPC, errno.EDQUOT)
         what = "has no space left" if full else "cannot be written"
@@ -356,6 +405,8 @@ class Workspace:
             pf = read_table(raw, name=old.name, options=options)
         except (IntakeError, ValueSiftError) as err:
             return self._failed(old.name, old.sha256, old.size, options, str(err), old.demo, new_owner)
+        if len(pf.data) == 0:      # read, but nothing usable: a failure, never an empty "read" file
+            return self._failed(old.name, old.sha256, old.size, options, nothing_usable(pf), old.demo, new_owner)
         try:
             rec = self._store(old.name, old.sha256, old.size, options, pf, demo=old.demo, owner=new_owner)
         except (OSError, sqlite3.Error) as err:

@@ -29,12 +29,13 @@ from valuesift.app.bundle import tables as bt
 from valuesift.app.bundle.content import report_input
 from valuesift.app.bundle.text import sweep_reading
 from valuesift.app.bundle.pdf import build_pdf
+from valuesift.app.bundle.slides import build_slides
 from valuesift.app.caution import CAUTION
 from valuesift.core.errors import ConfigError
 from valuesift.core.result import StudyResult
 from valuesift.core.reporting.summary import summary_dict
 
-__all__ = ["BundlePaths", "write_bundle", "bundle_name", "default_horizon", "INCLUDE_CHOICES", "merge_inputs"]
+__all__ = ["BundlePaths", "write_bundle", "bundle_name", "default_horizon", "INCLUDE_CHOICES", "merge_inputs", "creation_time", "settings_hash", "source_line"]
 
 Progress = Callable[[str, float], None]
 
@@ -71,6 +72,36 @@ class BundlePaths:
 
 
 _UNSAFE = re.compile(r"[^A-Za-z0-9._-]+")
+
+
+def creation_time(environ: dict[str, str] | None = None) -> datetime:
+    """Now (UTC), or the time in ``SOURCE_DATE_EPOCH`` when it is set (reproducible builds' convention)."""
+    import os
+
+    env = os.environ if environ is None else environ
+    raw = str(env.get("SOURCE_DATE_EPOCH", "")).strip()
+    if raw:
+        try:
+            return datetime.fromtimestamp(int(raw), tz=timezone.utc)
+        except (ValueError, OverflowError, OSError) as err:
+            raise ConfigError(f"SOURCE_DATE_EPOCH is {raw!r}, not a whole number of seconds since 1970.",
+                              hint="Unset it, or set it to a value such as 1700000000.") from err
+    return datetime.now(timezone.utc)
+
+
+def settings_hash(result: StudyResult) -> str:
+    """The first 12 hex digits of the SHA-256 of the study's configuration (JSON, keys sorted)."""
+    blob = json.dumps(result.config.to_dict(), sort_keys=True, default=str, allow_nan=False)
+    return hashlib.sha256(blob.encode("utf-8")).hexdigest()[:12]
+
+
+def source_line(result: StudyResult, inputs: Sequence[dict[str, Any]]) -> str:
+    """The source line of every slide and image: tool, input files, data period, as-of date, settings hash."""
+    dates = result.signal_z.index
+    names = ", ".join(str(i.get("name")) for i in inputs) or "no input files recorded"
+    asof = str(result.screen.attrs.get("date") or dates[-1].date().isoformat())
+    return (f"Source: ValueSift {_tool_version()} on {names}; month-ends {dates[0]:%b %Y} to {dates[-1]:%b %Y}, "
+            f"as of {asof}; settings {settings_hash(result)}.")
 
 
 def _safe(text: str) -> str:
@@ -192,7 +223,7 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     if h not in result.config.horizons:
         raise ConfigError(f"The bundle's chart horizon {h} is not a horizon of this study.",
                           hint="Allowed: " + ", ".join(str(x) for x in result.config.horizons) + ".")
-    when = (created or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
+    when = (created or creation_time()).astimezone(timezone.utc).replace(microsecond=0)
     folder = Path(out_dir)
     for sub in ("charts", "tables"):
         (folder / sub).mkdir(parents=True, exist_ok=True)
@@ -206,7 +237,8 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     if sweep is not None:
         figs[bc.SWEEP_KEY] = bc.sweep_figure(sweep)
     tick("starting the browser and writing tables", 0.05)
-    job = bc.start_render(figs, progress=lambda s, f: tick(s, 0.1 + 0.7 * f))
+    source = source_line(result, files_in)
+    job = bc.start_render(figs, progress=lambda s, f: tick(s, 0.1 + 0.7 * f), stamp=source)
     if specs:
         shutil.copyfile(bc.plotly_js_path(), folder / "charts" / "plotly.min.js")
         written.append("charts/plotly.min.js")
@@ -254,8 +286,11 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
         images = outcome.jpeg or outcome.png
         data = replace(data, charts=[*data.charts, (bc.SWEEP_KEY, bc.SWEEP_TITLE, images.get(bc.SWEEP_KEY),
                                                     sweep_reading(sweep))])
-    pages = build_pdf(data, folder / "report.pdf")
+    pages = build_pdf(data, folder / "report.pdf", created=when)
     written.append("report.pdf")
+    tick("writing the slides", 0.9)
+    build_slides(data, folder / "slides.pptx", source=source, created=when)
+    written.append("slides.pptx")
 
     tick("writing the manifest", 0.94)
     readme = _readme(written, chosen, outcome.note, name)
@@ -311,6 +346,8 @@ def _zip(folder: Path, files: Sequence[str], path: Path, root: str) -> None:
 _FILE_TEXT = {
     "report.pdf": "the committee report: cover with the configuration and input files, summary, one page per "
                   "chart with its reading, the screen, and the data-quality appendix",
+    "slides.pptx": "the committee slides (16:9): title, summary, one slide per chart with its reading as text and "
+                   "speaker notes, the cheapest and dearest names as tables; caution and source line on every slide",
     "summary.json": "the headline figures per horizon (the same fields as `valuesift study` writes)",
     "manifest.json": "tool and software versions, creation time, configuration, input files and a SHA-256 of "
                      "every other file",

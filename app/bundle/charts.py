@@ -32,7 +32,7 @@ from valuesift.app.figures import study as fs
 from valuesift.app.figures import stability as fst
 from valuesift.core.result import StudyResult
 
-__all__ = ["ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
+__all__ = ["stamp_source", "ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
            "plotly_js_path", "find_browser", "NO_BROWSER_HINT", "RenderOutcome", "RenderJob", "start_render", "print_jpeg"]
 
 #: A 16:9 slide at 2x: 1280 x 720 layout pixels, rendered at scale 2 (2560 x 1440 PNG).
@@ -174,16 +174,18 @@ def _stable_svg(svg: bytes) -> bytes:
 class RenderJob:
     """Static rendering running in its own thread (started by :func:`start_render`); :meth:`wait` gives the outcome."""
 
-    def __init__(self, figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None) -> None:
+    def __init__(self, figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None,
+                 stamp: str | None = None) -> None:
         self._figs = figs
         self._progress = progress
+        self._stamp = stamp
         self._outcome: RenderOutcome | None = None
         self._thread = threading.Thread(target=self._main, name="bundle-render", daemon=True)
         self._thread.start()
 
     def _main(self) -> None:
         with _RENDER_LOCK:
-            self._outcome = _render(self._figs, self._progress)
+            self._outcome = _render(self._figs, self._progress, self._stamp)
 
     def wait(self) -> RenderOutcome:
         self._thread.join()
@@ -191,9 +193,14 @@ class RenderJob:
         return self._outcome
 
 
-def start_render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None = None) -> RenderJob:
-    """Start :func:`render_static` in the background (the browser starts while tables are written)."""
-    return RenderJob(figs, progress)
+def start_render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None = None, *,
+                 stamp: str | None = None) -> RenderJob:
+    """Start :func:`render_static` in the background (the browser starts while tables are written).
+
+    With ``stamp``, the PNGs of the outcome carry that line along their bottom (:func:`stamp_source`);
+    the print copies (JPEG) stay as drawn.
+    """
+    return RenderJob(figs, progress, stamp)
 
 
 def render_static(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None = None) -> RenderOutcome:
@@ -205,7 +212,13 @@ def render_static(figs: dict[str, go.Figure], progress: Callable[[str, float], N
     return start_render(figs, progress).wait()
 
 
-def _render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None) -> RenderOutcome:
+#: pages of the one browser drawing charts at the same time (two keep both cores busy: one draws while
+#: the other's image is encoded)
+RENDER_TABS = 1
+
+
+def _render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None,
+            stamp: str | None = None) -> RenderOutcome:
     if not figs:
         return RenderOutcome({}, {}, None)
     browser = find_browser()
@@ -221,33 +234,67 @@ def _render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] |
     svg: dict[str, bytes] = {}
     jpeg: dict[str, bytes] = {}
     keys = list(figs)
+    done = [0]
+
+    def finish(raw: bytes) -> tuple[bytes, bytes]:
+        # The print copy and the stamped slide image, made in a worker thread while the browser draws on.
+        return (stamp_source(raw, stamp) if stamp is not None else raw), print_jpeg(raw)
 
     async def run() -> None:
         pending = []
-        # One browser (kaleido's persistent process) for the whole bundle.
-        async with kaleido.Kaleido(n=1, mathjax=False, path=browser, timeout=120) as k:
-            for i, key in enumerate(keys):
-                if progress is not None:
-                    progress(f"rendering chart {i + 1} of {len(keys)}", i / len(keys))
+        # One browser (kaleido's persistent process) for the whole bundle, with a few pages drawing at once.
+        async with kaleido.Kaleido(n=RENDER_TABS, mathjax=False, path=browser, timeout=120) as k:
+            async def one(key: str) -> None:
                 fig = figs[key]
                 opts = {"width": SLIDE["width"], "height": SLIDE["height"]}
-                png[key] = await k.calc_fig(fig, opts={**opts, "format": "png", "scale": SLIDE["scale"]})
-                # The print copy is made in a worker thread while the browser draws the SVG.
-                pending.append((key, asyncio.create_task(asyncio.to_thread(print_jpeg, png[key]))))
+                raw = await k.calc_fig(fig, opts={**opts, "format": "png", "scale": SLIDE["scale"]})
+                pending.append((key, asyncio.create_task(asyncio.to_thread(finish, raw))))
                 svg[key] = _stable_svg(await k.calc_fig(fig, opts={**opts, "format": "svg", "scale": 1}))
+                done[0] += 1
+                if progress is not None:
+                    progress(f"rendering chart {done[0]} of {len(keys)}", done[0] / len(keys))
+
+            if progress is not None:
+                progress(f"rendering chart 1 of {len(keys)}", 0.0)
+            await asyncio.gather(*(one(key) for key in keys))
             for key, task in pending:
-                jpeg[key] = await task
+                png[key], jpeg[key] = await task
 
     try:
         asyncio.run(run())      # this thread's own event loop, whatever loop the caller runs
     except BaseException as err:  # noqa: BLE001 - reported as a note, never a crash
         cause = f"{type(err).__name__}: {str(err)[:300]}"
         return RenderOutcome({}, {}, NO_BROWSER_HINT + f" (The browser at {browser} failed: {cause})")
-    return RenderOutcome(png, svg, None, jpeg)
+    return RenderOutcome({k: png[k] for k in keys if k in png}, {k: svg[k] for k in keys if k in svg}, None,
+                         {k: jpeg[k] for k in keys if k in jpeg})
 
 
 def print_jpeg(png: bytes) -> bytes:
     """A chart's print copy: JPEG at quality 92 without chroma subsampling (the PDF embeds it as it is)."""
     buf = io.BytesIO()
     Image.open(io.BytesIO(png)).convert("RGB").save(buf, format="JPEG", quality=92, subsampling=0, optimize=False)
+    return buf.getvalue()
+
+
+def stamp_source(png: bytes, line: str) -> bytes:
+    """The chart PNG with ``line`` (the bundle's source line) written along its bottom edge, same size.
+
+    The chart is scaled down by the height of one strip of text (keeping its proportions) and the line
+    is written in that strip, so a slide or document that takes the image carries its source with it.
+    """
+    from PIL import Image, ImageDraw, ImageFont
+    import reportlab
+
+    with Image.open(io.BytesIO(png)) as src:
+        im = src.convert("RGB")
+    w, h = im.size
+    strip = max(24, int(h * 0.034))
+    body = im.resize((int(w * (h - strip) / h), h - strip), Image.Resampling.BILINEAR)
+    out = Image.new("RGB", (w, h), "white")
+    out.paste(body, ((w - body.width) // 2, 0))
+    font_path = Path(reportlab.__file__).parent / "fonts" / "Vera.ttf"
+    font = ImageFont.truetype(str(font_path), size=max(10, int(strip * 0.5)))
+    ImageDraw.Draw(out).text((int(w * 0.015), h - strip + int(strip * 0.2)), line, fill=(111, 119, 130), font=font)
+    buf = io.BytesIO()
+    out.save(buf, format="PNG", compress_level=3)
     return buf.getvalue()

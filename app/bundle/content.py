@@ -25,7 +25,7 @@ from valuesift.app.bundle.text import (
 from valuesift.app.caution import CAUTION
 from valuesift.app.figures.common import fmt_num, fmt_pct, span
 from valuesift.app.figures.study import return_label, signal_label
-from valuesift.app.words import intake_report_lines, screen_in_words, settings_in_words
+from valuesift.app.words import intake_report_lines, reason_words, screen_in_words, settings_in_words, stage_words
 from valuesift.core.result import StudyResult
 
 __all__ = ["report_input", "summary_rows", "screen_frames"]
@@ -144,7 +144,7 @@ def _quality(panel: Any, result: StudyResult) -> tuple[pd.DataFrame, list[str], 
             for _, r in f.by_reason.iterrows():
                 ex = f.examples[f.examples["reason"] == r["reason"]].head(3)
                 where = "; ".join(f"row {int(e['row'])}, {e['column']}: {str(e['value'])[:18]!r}" for _, e in ex.iterrows())
-                rrows.append([f.name, str(r["category"]), str(r["reason"]), f"{int(r['count']):,}", where])
+                rrows.append([f.name, str(r["category"]), reason_words(r["reason"]), f"{int(r['count']):,}", where])
             lines.extend(f"{f.name}: {n}" for n in f.notes)
         files = pd.DataFrame(frows, columns=files.columns)
         reasons = pd.DataFrame(rrows, columns=reasons.columns)
@@ -154,7 +154,8 @@ def _quality(panel: Any, result: StudyResult) -> tuple[pd.DataFrame, list[str], 
         g = dn.groupby(["stage", "horizon", "reason"], as_index=False).agg(dates=("date", "count"))
         for _, r in g.iterrows():
             where = f" at {int(r['horizon'])} months" if int(r["horizon"]) else ""
-            lines.append(f"Study, {r['stage']}{where}: {int(r['dates'])} date(s) left out: {r['reason']}")
+            lines.append(f"Study, {stage_words(r['stage']).lower()}{where}: {int(r['dates'])} date(s) left out: "
+                         f"{r['reason']}")
     lines.extend(f"Study note: {n}" for n in result.notes)
     return files, lines, reasons
 

@@ -9,7 +9,9 @@ gives the same bytes.  Every dynamic string is escaped before layout.
 from __future__ import annotations
 
 import io
+import time
 from dataclasses import dataclass
+from datetime import datetime
 from pathlib import Path
 from typing import Any, Sequence
 from xml.sax.saxutils import escape
@@ -23,7 +25,7 @@ from reportlab.lib.fonts import addMapping
 from reportlab.lib.pagesizes import A4, landscape
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
-from reportlab.pdfbase import pdfmetrics
+from reportlab.pdfbase import pdfdoc, pdfmetrics
 from reportlab.pdfbase.ttfonts import TTFont
 from reportlab.pdfgen import canvas as rl_canvas
 from reportlab.platypus.flowables import BalancedColumns
@@ -121,10 +123,22 @@ class _NumberedCanvas(rl_canvas.Canvas):
     """Writes "page x of y" and the footer once the page count is known."""
 
     footer = ""
+    #: the document's creation time (seconds since 1970, UTC); None keeps reportlab's own
+    created_epoch: float | None = None
 
     def __init__(self, *args: Any, **kwargs: Any) -> None:
         super().__init__(*args, **kwargs)
         self._saved: list[dict[str, Any]] = []
+        if self.created_epoch is not None:
+            # The real creation date in the document information (invariant mode alone writes 2000-01-01);
+            # the document id stays fixed, so identical content at the same time gives identical bytes.
+            stamp = pdfdoc.TimeStamp(1)
+            stamp.t = float(self.created_epoch)
+            stamp.lt = time.gmtime(stamp.t)
+            stamp.YMDhms = tuple(stamp.lt)[:6]
+            stamp.dhh = stamp.dmm = 0
+            stamp.tzname = "UTC"
+            self._doc._timeStamp = stamp
 
     def showPage(self) -> None:  # noqa: N802 - reportlab's name
         self._saved.append(dict(self.__dict__))
@@ -190,7 +204,7 @@ def _image(image: bytes, max_w: float, max_h: float) -> Image:
     return Image(io.BytesIO(image), width=w, height=w * ratio)
 
 
-def build_pdf(data: ReportInput, path: Path) -> int:
+def build_pdf(data: ReportInput, path: Path, created: datetime | None = None) -> int:
     """Write the report to ``path``; returns the number of pages."""
     st = _styles()
     w, h = _PAGE
@@ -294,7 +308,8 @@ def build_pdf(data: ReportInput, path: Path) -> int:
     else:
         story.extend(notes)
 
-    canvas_cls = type("_Canvas", (_NumberedCanvas,), {"footer": data.footer})
+    canvas_cls = type("_Canvas", (_NumberedCanvas,), {
+        "footer": data.footer, "created_epoch": created.timestamp() if created is not None else None})
     doc = SimpleDocTemplate(str(path), pagesize=_PAGE, leftMargin=_MARGIN, rightMargin=_MARGIN,
                             topMargin=_MARGIN, bottomMargin=_MARGIN + 4 * mm, invariant=1,
                             title=data.title, author="ValueSift", subject=f"Study {data.study_name}",

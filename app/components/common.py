@@ -9,8 +9,10 @@ from dash import dcc, html
 
 __all__ = ["field", "chart", "text_table", "GRAPH_CONFIG", "panel_choices"]
 
-GRAPH_CONFIG = {"displaylogo": False, "responsive": True,
-                "modeBarButtonsToRemove": ["lasso2d", "select2d"]}
+#: Plotly's own "responsive" is left off: with it, a resize after a redraw sets the drawing's container to
+#: 100 % of a card that has no set height (0 px), and the chart spills over the cards below.  Charts fit their
+#: card's width when drawn (autosize) and keep the figure's height.
+GRAPH_CONFIG = {"displaylogo": False, "modeBarButtonsToRemove": ["lasso2d", "select2d"]}
 
 
 def field(label: str, control: Any, hint: str | None = None, *, label_for: str | None = None) -> html.Div:
@@ -22,9 +24,13 @@ def field(label: str, control: Any, hint: str | None = None, *, label_for: str |
 
 
 def chart(graph_id: str, *, tall: bool = False) -> html.Div:
-    """A chart card with a loading indicator."""
+    """A chart card that sizes to its chart.
+
+    No loading wrapper: while it shows its spinner it takes the chart out of the card's flow, and the
+    card then collapses under the next one (the page's progress bar says that work is running).
+    """
     return html.Div(className="vs-card vs-chart" + (" vs-chart-tall" if tall else ""), children=[
-        dcc.Loading(dcc.Graph(id=graph_id, config=GRAPH_CONFIG), type="dot", delay_show=300),
+        dcc.Graph(id=graph_id, config=GRAPH_CONFIG),
     ])
 
 

@@ -39,6 +39,9 @@ def layout(**_: Any) -> html.Div:
                    children=html.Div(["Drag and drop files here, or ", html.Span("choose files", className="vs-link"),
                                       html.Div(f"up to {max_bytes / 1024 / 1024:.0f} MB per upload", className="vs-hint")])),
         dcc.Loading(html.Div(id=f"{P}-upload-alert"), type="dot"),
+        html.P(["Files are kept in the workspace folder ", html.Code(str(state().workspace.root), id=f"{P}-workspace"),
+                ": they are here again after a restart (start the server with --workspace to use another folder)."],
+               className="vs-hint"),
         html.H2("Your files"),
         html.Div(id=f"{P}-cards"),
         html.H2("The combined panel"),
@@ -110,8 +113,14 @@ def _upload(contents: Any, names: Any, sel_raw: Any, version: Any) -> Any:
             except (ValueError, binascii.Error):
                 messages.append(alert(f"{name}: the upload arrived damaged; please drop the file again."))
                 continue
-            rec = st.workspace.add_upload(name, raw, ReadOptions(max_bytes=st.max_upload_bytes),
-                                          owner=current_owner() or "")
+            known = st.workspace.find_upload(raw, owner=current_owner() or "")
+            if known is not None:       # the same bytes again: the dataset already read, with its reading choices
+                rec = known
+                messages.append(alert(f"{name} is already loaded (as {known.name}); it is used as it was read, "
+                                      "with the choices made for it.", "info"))
+            else:
+                rec = st.workspace.add_upload(name, raw, ReadOptions(max_bytes=st.max_upload_bytes),
+                                              owner=current_owner() or "")
             del raw
         finally:
             st.uploads.release(cost)
@@ -119,7 +128,7 @@ def _upload(contents: Any, names: Any, sel_raw: Any, version: Any) -> Any:
             sel = _with(sel, rec)
         else:
             messages.append(alert(rec.error or f"{name} could not be read."))
-    ok = len(contents) - len(messages)
+    ok = len(contents) - sum(1 for m in messages if "vs-alert-error" in str(getattr(m, "className", "")))
     if ok:
         messages.insert(0, alert(f"Read {ok} of {len(contents)} file(s); their reports are below.", "info"))
     return _out(sel), int(version or 0) + 1, messages, None

@@ -1,33 +1,37 @@
-"""Screen page: the holdings (or the whole universe) on one date, cheapest first; click a row for its company page."""
+"""Screen page: the holdings (or the whole universe) on one date, cheapest first; click a row for its company page.
+
+The table is a data grid fed from the server block by block (its infinite row model with pages of 25):
+sorting, filtering and paging run on the server, so a universe of thousands of names never travels to
+the browser whole.  Numbers stay numbers (they sort and filter as numbers) and are shown with one
+format per column from :data:`valuesift.app.screen_table.NUMBER_FORMATS`.
+"""
 
 from __future__ import annotations
 
 from typing import Any
 
 import dash
-from dash import Input, Output, State, dash_table, dcc, html, no_update
-from dash.dash_table import FormatTemplate
-from dash.dash_table.Format import Format, Scheme
+import dash_ag_grid as dag
+from dash import Input, Output, State, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
+from valuesift.app.components.grid import grid_columns
 from valuesift.app.figures.common import month
 from valuesift.app.ids import company_path
 from valuesift.app.jobs_ui import alert, job_components, register_job_callbacks
-from valuesift.app.screen_table import COLUMNS, apply_filter, apply_sort, display_frame, page, to_csv_bytes, to_xlsx_bytes
+from valuesift.app.screen_table import COLUMNS, NUMBER_FORMATS, display_frame, grid_rows, to_csv_bytes, to_xlsx_bytes
 from valuesift.app.services import LRU, finished_result, job_done, state
 from valuesift.core.errors import ValueSiftError
 from valuesift.core.reporting.screen import screen_table
+from valuesift.core.settings import SIGNAL_WORDS
 
 dash.register_page(__name__, path="/screen", name="Screen", order=2, title="ValueSift - Screen")
 
 P = "screen"
 _FRAMES = LRU(16)
-_FORMATS = {"holding_weight": {"format": FormatTemplate.percentage(2)},
-            "signal": {"format": Format(precision=4, scheme=Scheme.fixed)}}
 
 
 def layout(**_: Any) -> html.Div:
-    columns = [{"name": head, "id": cid, "type": kind, **_FORMATS.get(cid, {})} for cid, head, kind in COLUMNS]
     return html.Div(className="vs-page", children=[
         html.H1("Screen"),
         dcc.Location(id=f"{P}-go", refresh="callback-nav"),
@@ -45,22 +49,23 @@ def layout(**_: Any) -> html.Div:
             dcc.Download(id=f"{P}-download"),
         ]),
         html.P(id=f"{P}-caption", className="vs-hint"),
-        dash_table.DataTable(
-            id=f"{P}-table", columns=columns, data=[], page_current=0, page_size=25, page_action="custom",
-            sort_action="custom", sort_mode="multi", sort_by=[], filter_action="custom", filter_query="",
-            style_table={"overflowX": "auto"}, cell_selectable=True,
-            style_cell={"fontFamily": "inherit", "fontSize": "15px", "padding": "6px 10px", "textAlign": "left",
-                        "whiteSpace": "normal", "height": "auto", "maxWidth": "22rem"},
-            style_header={"fontWeight": "600", "backgroundColor": "#f1eee8"},
-            style_data_conditional=[
-                {"if": {"filter_query": "{quantile_label} contains 'cheapest'"}, "backgroundColor": "#e3ecf6"},
-                {"if": {"filter_query": "{quantile_label} contains 'dearest'"}, "backgroundColor": "#f6eadc"},
-                {"if": {"column_id": "security"}, "fontWeight": "600", "color": "#1f4f85", "cursor": "pointer"},
-            ],
-            tooltip_delay=300,
+        dcc.Store(id=f"{P}-view"),
+        html.Div(id=f"{P}-empty", className="vs-alert vs-alert-info", hidden=True,
+                 children="No rows match the filters. Clear or change a filter in the column headers."),
+        dag.AgGrid(
+            id=f"{P}-table", columnDefs=grid_columns(COLUMNS, pinned="security", hidden=("pe_note",), formats=NUMBER_FORMATS,
+                                                       notes={"pe": "pe_note"}),
+            rowModelType="infinite", getRowId="params.data.security", columnSize="responsiveSizeToFit",
+            defaultColDef={"resizable": True, "sortable": True, "minWidth": 90, "wrapHeaderText": True,
+                           "autoHeaderHeight": True},
+            dashGridOptions={"pagination": True, "paginationPageSize": 25, "cacheBlockSize": 25,
+                             "paginationPageSizeSelector": False, "maxBlocksInCache": 20, "domLayout": "autoHeight"},
+            rowClassRules={"vs-row-cheap": "params.data && params.data.quantile_label.includes('cheapest')",
+                           "vs-row-dear": "params.data && params.data.quantile_label.includes('dearest')"},
+            className="ag-theme-quartz vs-grid-table", style={"width": "100%"},
         ),
-        html.P("Click a row to open that company's page. Filter with, for example, 'Banks' under Sector or "
-               "'> 1' under Z-score.", className="vs-hint"),
+        html.P("Click a row to open that company's page. Filter from a column's menu: text columns by words, number columns by "
+               "ranges (for example Z-score greater than 1).", className="vs-hint"),
     ])
 
 
@@ -86,75 +91,91 @@ def _frame(key: str, date: str | None, holdings: bool) -> Any:
 
 @dash.callback(
     Output(f"{P}-date", "options"), Output(f"{P}-date", "value"),
-    Input(f"{P}-job", "data"), State(f"{P}-date", "value"),
+    Output(f"{P}-scope", "options"), Output(f"{P}-scope", "value"),
+    Input(f"{P}-job", "data"), State(f"{P}-date", "value"), State(f"{P}-scope", "value"),
 )
-def _dates(job: Any, current: Any) -> Any:
+def _dates(job: Any, current: Any, scope: Any) -> Any:
     res = finished_result(job)
     if res is None:
-        return no_update, no_update
+        return no_update, no_update, no_update, no_update
     has = res.signal_z.notna().any(axis=1)
     dates = [d.date().isoformat() for d in res.signal_z.index[has.to_numpy()]][::-1]
     opts = [{"label": month(d), "value": d} for d in dates]
-    return opts, current if current in dates else (dates[0] if dates else None)
+    held = bool(res.security_info["holding_weight"].notna().any())
+    # Without a holdings file "the holdings" cannot be chosen: the choice shown is the table shown.
+    scopes = [{"label": "the holdings" if held else "the holdings (no holdings file)", "value": "holdings",
+               "disabled": not held}, {"label": "the whole universe", "value": "all"}]
+    return opts, current if current in dates else (dates[0] if dates else None), scopes, \
+        (scope if held and scope in ("holdings", "all") else "all" if not held else "holdings")
+
+
+# A new study, date or scope: the grid drops its cached blocks and asks the server again.
+dash.clientside_callback(
+    """async function(job, date, scope) {
+        const api = await window.dash_ag_grid.getApiAsync("screen-table");
+        api.purgeInfiniteCache();
+        return window.dash_clientside.no_update;
+    }""",
+    Output(f"{P}-view", "data", allow_duplicate=True),
+    Input(f"{P}-job", "data"), Input(f"{P}-date", "value"), Input(f"{P}-scope", "value"),
+    prevent_initial_call=True,
+)
 
 
 @dash.callback(
-    Output(f"{P}-table", "data"), Output(f"{P}-table", "page_count"), Output(f"{P}-caption", "children"),
-    Output(f"{P}-alert", "children", allow_duplicate=True),
-    Input(f"{P}-job", "data"), Input(f"{P}-date", "value"), Input(f"{P}-scope", "value"),
-    Input(f"{P}-table", "page_current"), Input(f"{P}-table", "page_size"), Input(f"{P}-table", "sort_by"),
-    Input(f"{P}-table", "filter_query"),
-    prevent_initial_call="initial_duplicate",
+    Output(f"{P}-table", "getRowsResponse"), Output(f"{P}-caption", "children"), Output(f"{P}-empty", "hidden"),
+    Output(f"{P}-view", "data"), Output(f"{P}-alert", "children", allow_duplicate=True),
+    Input(f"{P}-table", "getRowsRequest"),
+    State(f"{P}-job", "data"), State(f"{P}-date", "value"), State(f"{P}-scope", "value"),
+    prevent_initial_call=True,
 )
-def _table(job: Any, date: Any, scope: Any, current: Any, size: Any, sort_by: Any, query: Any) -> Any:
-    if not job_done(job):
-        return [], 1, "", no_update
+def _rows(request: Any, job: Any, date: Any, scope: Any) -> Any:
+    empty = {"rowData": [], "rowCount": 0}
+    if not job_done(job) or not isinstance(request, dict):
+        return empty, "", True, no_update, no_update
     try:
         df = _frame(job["key"], date, scope == "holdings")
-    except ValueSiftError as err:
-        return [], 1, "", alert(str(err))
-    if df is None:
-        return [], 1, "", no_update
-    try:
-        shown = apply_sort(apply_filter(df, query), sort_by)
+        if df is None:
+            return empty, "", True, no_update, no_update
+        shown, rows = grid_rows(df, request)
     except ValueSiftError as err:   # a filter above the length limit: say so, show nothing filtered
-        return [], 1, "", alert(str(err))
-    rows, n_pages = page(shown, current, size)
+        return empty, "", True, no_update, alert(str(err))
     res = state().result(job["key"])
     who = "holdings" if df.attrs.get("holdings") else "securities of the universe"
-    cap = (f"{len(shown)} of {len(df)} {who} on {month(df.attrs.get('date'))}, cheapest first on "
-           f"{res.signal_name.replace('_', ' ') if res else 'the signal'}; quantile "
-           f"{res.config.n_quantiles if res else 'n'} (the highest signal) is the cheapest and 1 the "
-           f"dearest, as on the Study page.")
-    return rows, n_pages, cap, no_update
+    signal = SIGNAL_WORDS.get(res.signal_name, res.signal_name) if res else "the signal"
+    n_q = res.config.n_quantiles if res else "n"
+    cap = (f"{len(shown)} of {len(df)} {who} on {month(df.attrs.get('date'))}, cheapest first on {signal}; "
+           f"{n_q} quantiles: quantile {n_q} (the highest signal) is the cheapest and 1 the dearest, as on the "
+           f"Study page.")
+    view = {"filterModel": request.get("filterModel") or {}, "sortModel": request.get("sortModel") or []}
+    return {"rowData": rows, "rowCount": len(shown)}, cap, len(shown) > 0, view, None
 
 
 @dash.callback(
     Output(f"{P}-go", "href"),
-    Input(f"{P}-table", "active_cell"),
+    Input(f"{P}-table", "cellClicked"),
     prevent_initial_call=True,
 )
 def _open(cell: Any) -> Any:
-    if not isinstance(cell, dict) or not cell.get("row_id"):
+    if not isinstance(cell, dict) or not cell.get("rowId"):
         raise PreventUpdate
-    return company_path(str(cell["row_id"]))
+    return company_path(str(cell["rowId"]))
 
 
 @dash.callback(
     Output(f"{P}-download", "data"),
     Input(f"{P}-csv", "n_clicks"), Input(f"{P}-xlsx", "n_clicks"),
-    State(f"{P}-job", "data"), State(f"{P}-date", "value"), State(f"{P}-scope", "value"),
-    State(f"{P}-table", "sort_by"), State(f"{P}-table", "filter_query"),
+    State(f"{P}-job", "data"), State(f"{P}-date", "value"), State(f"{P}-scope", "value"), State(f"{P}-view", "data"),
     prevent_initial_call=True,
 )
-def _download(n_csv: Any, n_xlsx: Any, job: Any, date: Any, scope: Any, sort_by: Any, query: Any) -> Any:
+def _download(n_csv: Any, n_xlsx: Any, job: Any, date: Any, scope: Any, view: Any) -> Any:
     if not job_done(job) or not (n_csv or n_xlsx):
         raise PreventUpdate
     df = _frame(job["key"], date, scope == "holdings")
     if df is None:
         raise PreventUpdate
     try:
-        shown = apply_sort(apply_filter(df, query), sort_by)
+        shown, _ = grid_rows(df, {**(view or {}), "startRow": 0, "endRow": 0})
     except ValueSiftError:
         raise PreventUpdate
     stamp = str(df.attrs.get("date") or "latest")

@@ -16,7 +16,7 @@ from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state
 from valuesift.app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES, bounds, help_text, label, options, shown_horizon
 from valuesift.app.sweeps import settings_from_query
-from valuesift.app.words import evidence_words
+from valuesift.app.words import evidence_words, stage_words
 from valuesift.core.settings import SETTING_BY_NAME
 
 dash.register_page(__name__, path="/study", name="Study", order=1, title="ValueSift - Study")
@@ -54,7 +54,7 @@ def _controls(d: dict[str, Any] = _D, persist: dict[str, Any] = _PERSIST) -> htm
                                                options=[{"label": str(h), "value": h} for h in HORIZON_CHOICES],
                                                **persist),
               help_text("horizons") + " All chosen horizons are computed in one study."),
-        field(label("n_quantiles"), dcc.Dropdown(id=f"{P}-quantiles", value=d["n_quantiles"], clearable=False,
+        field(label("n_quantiles"), dcc.Dropdown(id=f"{P}-n-quantiles", value=d["n_quantiles"], clearable=False,
                                                  options=[{"label": str(k), "value": k}
                                                           for k in range(int(q.lo or 2), int(q.hi or 10) + 1)],
                                                  **persist), help_text("n_quantiles")),
@@ -103,7 +103,7 @@ def layout(**query: Any) -> html.Div:
                     html.Div(className="vs-card", children=[
                         field("Scatter date", dcc.Dropdown(id=f"{P}-scatter-date", clearable=False, value="pooled",
                                                            options=[{"label": "all dates pooled (binned)", "value": "pooled"}])),
-                        dcc.Loading(dcc.Graph(id=f"{P}-scatter", config={"displaylogo": False}), type="dot", delay_show=300),
+                        dcc.Graph(id=f"{P}-scatter", config={"displaylogo": False}),
                     ]),
                     chart(f"{P}-fm"),
                 ]),
@@ -121,7 +121,7 @@ register_job_callbacks(P, controls_id=f"{P}-controls")
 @dash.callback(
     Output("vs-settings", "data"),
     Input(f"{P}-signal", "value"), Input(f"{P}-universe", "value"), Input(f"{P}-sectors", "value"),
-    Input(f"{P}-min-history", "value"), Input(f"{P}-horizons", "value"), Input(f"{P}-quantiles", "value"),
+    Input(f"{P}-min-history", "value"), Input(f"{P}-horizons", "value"), Input(f"{P}-n-quantiles", "value"),
     Input(f"{P}-outliers", "value"), Input(f"{P}-winsor", "value"), Input(f"{P}-zscore", "value"),
     Input(f"{P}-neutral", "value"), Input(f"{P}-lag", "value"), Input(f"{P}-dividends", "value"),
     Input(f"{P}-excess", "value"), Input(f"{P}-holding", "value"), Input(f"{P}-cost", "value"),
@@ -246,6 +246,6 @@ def _notes(res: Any) -> Any:
     items = [html.Li(n) for n in res.notes]
     dn = res.date_notes
     if dn is not None and len(dn):
-        for _, r in dn.groupby(["stage", "reason"], as_index=False)["count"].sum().iterrows():
-            items.append(html.Li(f"{r['stage']}: {r['reason']} ({int(r['count'])})"))
+        for _, r in dn.groupby(["stage", "reason"], as_index=False)["date"].nunique().iterrows():
+            items.append(html.Li(f"{stage_words(r['stage'])}: {r['reason']} on {int(r['date'])} date(s)."))
     return [html.H3("Notes on this study"), html.Ul(items)] if items else None

@@ -304,7 +304,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
         ric[:, j], pic[:, j], brd[:, j] = ics[j][:3]
         has_fwd = np.arange(t_len) < t_len - h
         low = has_fwd & (brd[:, j] < cfg.min_breadth) & (n_u > 0)
-        _note(rows, dates, low, brd[:, j], h, "ic", f"fewer names than min_breadth ({cfg.min_breadth})")
+        _note(rows, dates, low, brd[:, j], h, "ic", f"fewer names than the minimum per date ({cfg.min_breadth})")
     rank_ic = pd.DataFrame(ric, index=dates, columns=hcols)
     pearson_ic = pd.DataFrame(pic, index=dates, columns=hcols)
     breadth = pd.DataFrame(brd, index=dates, columns=hcols)
@@ -336,11 +336,22 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     tiebreak = np.argsort(np.argsort(np.asarray(secs.astype(str)), kind="stable"), kind="stable")
     q = assign_quantiles(zeval, n_q, tiebreak=tiebreak)
     n_z = np.isfinite(zeval).sum(axis=1)
+    # One minimum-breadth rule for every chart and table: a date with fewer names than the minimum per
+    # date gets no IC (above), no quantiles, so no spread, quantile return, backtest cohort or screen band.
+    thin = (n_z >= n_q) & (n_z < cfg.min_breadth)
+    q = np.where(thin[:, None], np.nan, q)
     if not np.isfinite(q).any():
-        raise InsufficientDataError(f"{n_q} quantiles", f"at least {n_q} names with a signal on some date",
-                                    f"at most {int(n_z.max())} names", hint="Lower n_quantiles or widen the universe.")
+        need = max(n_q, cfg.min_breadth)
+        raise InsufficientDataError(f"{n_q} quantiles", f"at least {need} names with a signal on some date "
+                                    f"(the minimum names per date is {cfg.min_breadth})",
+                                    f"at most {int(n_z.max())} names",
+                                    hint="Lower 'Minimum names per date' or 'Quantiles' on the Study page, or widen "
+                                         "the universe.")
     _note(rows, dates, (n_z > 0) & (n_z < n_q), n_z, 0, "quantiles",
           f"fewer names than quantiles ({n_q}): left out of the quantile analysis and the backtest")
+    _note(rows, dates, thin, n_z, 0, "quantiles",
+          f"fewer names than the minimum per date ({cfg.min_breadth}): left out of the quantile analysis, the "
+          "spread and the backtest")
     qcols = pd.Index(list(range(1, n_q + 1)), name="quantile")
     qret: dict[int, pd.DataFrame] = {}
     spread = np.full((t_len, len(hcols)), np.nan)
@@ -372,7 +383,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     if not fm_plain:
         fms = _per_horizon(lambda h: fm_slopes(zeval, fwd[h], controls, groups)[0], cfg.horizons, cells)
     for j in range(len(cfg.horizons)):
-        fm[:, j] = fms[j]
+        fm[:, j] = np.where(brd[:, j] >= cfg.min_breadth, fms[j], np.nan)   # the same breadth rule as the IC
     fsum = fm_summary(fm, cfg.horizons, cfg.hac_lag_rule)
 
     tick("backtest", 0.8)

@@ -66,3 +66,20 @@ def test_intake_lines_name_flags_in_words(demo_dir) -> None:  # type: ignore[no-
         if rep.flagged(flag):
             assert SECURITY_FLAG_WORDS[flag].capitalize() in text
     assert not any(code in text for code in SECURITY_FLAGS if "_" in code)
+
+
+def test_every_intake_reason_code_has_words() -> None:
+    from valuesift.app.words import REASON_WORDS, reason_words
+    from valuesift.core.errors import Reason
+
+    assert {r.value for r in Reason} <= set(REASON_WORDS), {r.value for r in Reason} - set(REASON_WORDS)
+    assert reason_words(Reason.DIVIDEND_WITHOUT_PRICE) == "dividend in a month without a price"
+    assert all("_" not in w for w in REASON_WORDS.values())
+
+
+def test_study_stages_have_words(small_result) -> None:  # type: ignore[no-untyped-def]
+    from valuesift.app.words import STAGE_WORDS
+
+    stages = set(small_result.date_notes["stage"]) if len(small_result.date_notes) else set()
+    assert stages <= set(STAGE_WORDS)
+    assert {"signal", "ic", "quantiles"} <= set(STAGE_WORDS)

@@ -90,3 +90,57 @@ def test_settings_are_kept(tmp_path: Path) -> None:
     ws.set_setting("selection", {"ids": ["a"], "splits": []})
     assert Workspace(tmp_path).get_setting("selection") == {"ids": ["a"], "splits": []}
     assert os.path.exists(tmp_path / "catalogue.sqlite3")
+
+
+def test_identical_upload_is_found_with_its_reading_choices(tmp_path: Path) -> None:
+    ws = Workspace(tmp_path)
+    first = ws.add_upload("prices.csv", PRICES, owner="s1")
+    chosen = ws.reread(first.id, ReadOptions(exclude_columns=("Index Level",)), owner="s1")
+    assert chosen.ok
+    again = ws.find_upload(PRICES, owner="s1")
+    assert again is not None and again.id == chosen.id
+    assert again.options.exclude_columns == ("Index Level",)          # the exclusion is kept, not dropped
+    assert len(ws.records(owner="s1")) == 1
+    assert ws.find_upload(PRICES + b"31/04/2020,13,23,980\n", owner="s1") is None
+    assert ws.find_upload(PRICES, owner="s2") is None                 # another session's file is not shared
+
+
+def test_user_data_folder_per_platform(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> None:
+    from valuesift.app.workspace import user_data_dir
+
+    assert user_data_dir({"XDG_DATA_HOME": str(tmp_path)}, "linux") == tmp_path / "valuesift"
+    assert user_data_dir({}, "linux") == Path.home() / ".local" / "share" / "valuesift"
+    assert user_data_dir({"LOCALAPPDATA": str(tmp_path)}, "win32") == tmp_path / "ValueSift"
+    assert user_data_dir({}, "darwin") == Path.home() / "Library" / "Application Support" / "ValueSift"
+
+
+def test_demo_files_are_added_once_and_a_restart_keeps_the_users_choices(tmp_path: Path) -> None:
+    from valuesift.app.server import load_demo
+
+    ws = Workspace(tmp_path)
+    ids = load_demo(ws)
+    assert len(ids) == 6 and len(ws.records()) == 6
+    ws.set_setting("selection", {"ids": ids[:2], "splits": []})        # the user's own choice
+    again = load_demo(Workspace(tmp_path))                              # the next start
+    assert again == ids and len(Workspace(tmp_path).records()) == 6
+    assert Workspace(tmp_path).get_setting("selection")["ids"] == ids[:2]
+
+
+def test_serve_demo_uses_the_persistent_workspace(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> None:
+    import waitress
+
+    import valuesift.app.server as server_mod
+
+    seen: list[Path] = []
+    monkeypatch.setattr(server_mod, "DEFAULT_WORKSPACE", tmp_path / "ws")
+    def fake_app(ws: Path, **_: object) -> object:
+        seen.append(Path(ws))
+        app = server_mod.dash.Dash()
+        app.server.config["MAX_CONTENT_LENGTH"] = 1024
+        return app
+
+    monkeypatch.setattr(server_mod, "create_app", fake_app)
+    monkeypatch.setattr(waitress, "serve", lambda *a, **k: None)
+    server_mod.serve(port=8998, demo=True)
+    server_mod.serve(port=8998, demo=True, workspace=str(tmp_path / "mine"))
+    assert seen == [tmp_path / "ws", tmp_path / "mine"]

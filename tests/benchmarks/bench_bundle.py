@@ -50,6 +50,8 @@ def main() -> int:
                          marks.get("writing the manifest", total) - marks.get("laying out the report", 0.0),
                          paths.zip.stat().st_size / 1e6))
     print(f"browser: {find_browser()}; load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
+    for stage, at in sorted(marks.items(), key=lambda kv: kv[1]):
+        print(f"  last build: {at:6.2f} s  {stage}")
     for total, first, pdf, size in rows:
         print(f"build {total:6.1f} s   browser ready after {first:5.1f} s   PDF layout {pdf:5.1f} s   ZIP {size:5.1f} MB")
     print(f"median build {statistics.median(r[0] for r in rows):.1f} s")

@@ -53,6 +53,21 @@ def test_check_unreadable_file_names_it_and_exits_2(tmp_path: Path, capsys: pyte
     assert "File sectors.csv" in out  # the readable file is still reported
 
 
+def test_check_reports_every_readable_file_when_the_panel_fails(monkeypatch: pytest.MonkeyPatch,
+                                                                capsys: pytest.CaptureFixture[str]) -> None:
+    import valuesift.app.cli_commands as commands
+    from valuesift.core.errors import IntakeError, Reason
+
+    def _fail(*_a: object, **_k: object) -> None:
+        raise IntakeError("prices.csv", Reason.UNREADABLE, "the panel cannot be built")
+
+    monkeypatch.setattr(commands, "build_panel", _fail)
+    assert main(["check", str(SAMPLE / "prices.csv"), str(SAMPLE / "sectors.csv")]) == 2
+    out, err = capsys.readouterr()
+    assert "File prices.csv" in out and "File sectors.csv" in out   # both reports, although the panel failed
+    assert "the panel cannot be built" in err
+
+
 def test_demo_command_reproduces_sample_data(tmp_path: Path) -> None:
     assert main(["demo", "--out", str(tmp_path)]) == 0
     for committed in SAMPLE.iterdir():

@@ -88,7 +88,7 @@ def test_upload_the_demo_files(page, server: str, demo_dir: Path) -> None:  # ty
     bad.write_bytes(b"")
     page.locator("#data-upload input[type=file]").set_input_files([str(bad)])
     expect(page.locator("#data-upload-alert .vs-alert-error")).to_contain_text("broken-prices.csv")
-    expect(page.locator(".vs-dataset")).to_have_count(6)          # a rejected file is not kept (issue 14, item 11)
+    expect(page.locator(".vs-dataset")).to_have_count(6)          # a rejected file stores nothing
     expect(page.locator(".vs-dataset-failed")).to_have_count(0)
     _shot(page, "data")
     assert not page.errors
@@ -149,10 +149,20 @@ def test_screen_export_and_company_page(page, server: str, tmp_path: Path) -> No
 
     page.goto(server + "/screen")
     expect(page.locator("#screen-caption")).to_contain_text("30 of 30 holdings")
-    cells = page.locator("#screen-table td[data-dash-column=security]")
+    cells = page.locator("#screen-table .ag-pinned-left-cols-container .ag-row:not(.ag-row-loading) .ag-cell")
     expect(cells.first).not_to_have_text("")
+    expect(cells).to_have_count(25)              # server-side paging, 25 a page; the identifier column pinned
     shown = [c.inner_text().strip() for c in cells.all()]
-    assert len(shown) == 25                      # server-side paging, 25 a page
+    # P/E sorts as a number: sort it ascending in the grid (server-side) and read the first page.
+    page.locator("#screen-table .ag-header-cell[col-id=pe] .ag-header-cell-label").click()
+    expect(page.locator("#screen-table .ag-header-cell[col-id=pe]")).to_have_attribute("aria-sort", "ascending")
+    page.wait_for_function("""() => { const c = [...document.querySelectorAll(
+        '#screen-table .ag-center-cols-container .ag-row .ag-cell[col-id=pe]')].map(e => e.innerText);
+        return c.length >= 25 && c.every((t, i) => i == 0 || parseFloat(c[i-1].replace('\u2212','-')) <=
+        parseFloat(t.replace('\u2212','-')) || isNaN(parseFloat(t))); }""")
+    page.locator("#screen-table .ag-header-cell[col-id=pe] .ag-header-cell-label").click()   # descending
+    page.locator("#screen-table .ag-header-cell[col-id=pe] .ag-header-cell-label").click()   # back to cheapest first
+    expect(cells.first).to_have_text(shown[0])
     with page.expect_download() as dl:
         page.get_by_role("button", name="Download CSV").click()
     path = tmp_path / "screen.csv"
@@ -179,6 +189,114 @@ def test_screen_export_and_company_page(page, server: str, tmp_path: Path) -> No
     expect(page.locator("#company-flags")).to_contain_text("coverage")
     expect(page.locator("#vs-caution")).to_contain_text("not investment advice")
     _shot(page, "company")
+    assert not page.errors
+
+
+def _settings(pg: object) -> dict:  # type: ignore[type-arg]
+    import json
+
+    return json.loads(pg.evaluate("localStorage.getItem('vs-settings')") or "{}")  # type: ignore[attr-defined]
+
+
+def _drawn(pg: object) -> str:
+    """Every text the Study page draws: the summary and all charts' titles, subtitles, ticks and labels."""
+    return pg.evaluate("(document.querySelector('#study-summary') || {}).textContent + "  # type: ignore[attr-defined]
+                       "(document.querySelector('#study-results') || {}).textContent")
+
+
+def _wait_redrawn(pg: object, before: str) -> str:
+    pg.wait_for_function("""(before) => {  // a finished study with other numbers than before
+        const r = document.querySelector('#study-results'); const s = document.querySelector('#study-summary');
+        const box = document.querySelector('#study-progress-box');
+        return r && !r.hidden && box && box.hidden && (s.textContent + r.textContent) != before; }""",
+                         arg=before)  # type: ignore[attr-defined]
+    return _drawn(pg)
+
+
+def _pick(pg: object, control: str, option: str) -> None:
+    pg.locator(f"#{control}").click()  # type: ignore[attr-defined]
+    pg.locator(".dash-dropdown-content").get_by_role("option", name=option, exact=True).click()  # type: ignore[attr-defined]
+
+
+def _number(pg: object, control: str, value: str) -> None:
+    box = pg.locator(f"#{control} input, input#{control}").first  # type: ignore[attr-defined]
+    box.fill(value)
+    box.press("Enter")
+
+
+def test_every_study_control_changes_what_is_drawn_and_what_is_stored(page, server: str) -> None:  # type: ignore[no-untyped-def]
+    from playwright.sync_api import expect
+
+    page.goto(server + "/study")
+    expect(_title(page, "study-quantiles")).to_contain_text("by quantile")
+    page.locator("#study-universe").get_by_text("Every security", exact=True).click()
+    expect(page.locator("#study-quantiles .trace.bars .point")).to_have_count(5)
+    drawn = _drawn(page)
+    # Quantiles: 10 bars on the Study page, 10 bands on the Screen, 10 in the stored settings.
+    _pick(page, "study-n-quantiles", "10")
+    expect(page.locator("#study-quantiles .trace.bars .point")).to_have_count(10)
+    assert _settings(page)["n_quantiles"] == 10
+    drawn = _wait_redrawn(page, drawn)
+    page.goto(server + "/screen")
+    expect(page.locator("#screen-caption")).to_contain_text("10 quantiles")
+    first_q = page.locator("#screen-table .ag-center-cols-container .ag-row[row-index='0'] .ag-cell[col-id=quantile_label]")
+    expect(first_q).to_have_text("10 of 10 (cheapest)")
+    page.goto(server + "/study")
+    expect(page.locator("#study-quantiles .trace.bars .point")).to_have_count(10)
+    drawn = _drawn(page)
+    # A horizon: ticking 60 months adds it to the charts' horizons; choosing it retitles and redraws the charts.
+    page.locator("#study-horizons").get_by_text("60", exact=True).click()
+    expect(page.locator("#study-horizon").get_by_text("60 m", exact=True)).to_be_visible()
+    assert 60 in _settings(page)["horizons"]
+    expect(page.locator("#study-ic-horizon .trace.bars .point")).to_have_count(len(_settings(page)["horizons"]))
+    page.locator("#study-horizon").get_by_text("60 m", exact=True).click()
+    for chart in ("study-ic-time", "study-quantiles", "study-spread", "study-scatter"):
+        expect(_title(page, chart)).to_contain_text("60-month")
+    drawn = _drawn(page)
+    # A universe: one chosen sector has far fewer names than the whole universe.
+    page.locator("#study-universe").get_by_text("Chosen sectors", exact=True).click()
+    page.locator("#study-sectors").click()
+    page.locator(".dash-dropdown-content").get_by_role("option", name="Banks", exact=True).click()
+    page.keyboard.press("Escape")
+    stored = _settings(page)
+    assert stored["universe"] == "sectors" and stored["universe_sectors"] == ["Banks"]
+    drawn = _wait_redrawn(page, drawn)
+    names = float(page.locator("#study-summary").inner_text().split(" names on average")[0].split(", ")[-1])
+    assert names < 40
+    page.locator("#study-universe").get_by_text("Every security", exact=True).click()
+    drawn = _wait_redrawn(page, drawn)
+    # Every other Study control: a value away from the default changes the drawn numbers and is stored.
+    steps = [
+        ("min_breadth", lambda: _number(page, "study-min-breadth", "115"), 115),
+        ("min_history_months", lambda: _number(page, "study-min-history", "24"), 24),
+        ("outlier_rule", lambda: _pick(page, "study-outliers", "Leave as they are"), "none"),
+        ("zscore_method", lambda: page.locator("#study-zscore").get_by_text("Median and absolute deviation",
+                                                                              exact=True).click(), "median_mad"),
+        ("sector_neutral", lambda: page.locator("#study-neutral").get_by_text("on", exact=True).click(), True),
+        ("reporting_lag_months", lambda: _number(page, "study-lag", "3"), 3),
+        ("dividend_treatment", lambda: page.locator("#study-dividends").get_by_text("Held as cash",
+                                                                                    exact=True).click(), "uninvested"),
+        ("excess_over", lambda: page.locator("#study-excess").get_by_text("Over the universe", exact=True).click(),
+         "universe"),
+        ("holding_months", lambda: _number(page, "study-holding", "3"), 3),
+        ("transaction_cost_bps", lambda: _number(page, "study-cost", "25"), 25),
+        ("winsor_lower", lambda: _number(page, "study-winsor", "5"), 5),
+    ]
+    for name, act, value in steps:
+        if name == "winsor_lower":           # winsorising has to be the outlier rule again
+            _pick(page, "study-outliers", "Winsorise at percentiles")
+            drawn = _wait_redrawn(page, drawn)
+        act()
+        page.wait_for_function(f"() => JSON.parse(localStorage.getItem('vs-settings') || '{{}}')['{name}'] == "
+                               f"{str(value).lower() if isinstance(value, bool) else repr(value)}")
+        drawn = _wait_redrawn(page, drawn)
+    _shot(page, "study-all-controls")
+    # Minimum breadth above every date's number of names: the page says why, never "nan".
+    _number(page, "study-min-breadth", "5000")
+    expect(page.locator("#study-alert, #study-summary, #study-headline")).not_to_have_count(0)
+    page.wait_for_function("() => (document.querySelector('#study-alert') || {}).textContent.length > 0")
+    assert "nan" not in page.locator("#study-alert").inner_text().lower().split()
+    _number(page, "study-min-breadth", "10")
     assert not page.errors
 
 

@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import sys
 
-import numpy as np
 import pytest
 
 from valuesift.app.server import create_app
@@ -47,7 +46,9 @@ def test_a_too_short_horizon_gets_no_verdict_and_no_nan(study_page, small_panel)
     res = run_study(small_panel, StudyConfig(horizons=(1, 36)))
     head = _text(page._summary(res, 36)[-1])
     assert "too short to judge" in head and "strong evidence" not in head and "nan" not in head
-    few = run_study(small_panel, StudyConfig(horizons=(1,), min_breadth=1000, n_quantiles=2))
-    head = _text(page._summary(few, 1)[-1])
-    assert "no information coefficient" in head and "nan" not in head
-    assert not np.isfinite(few.ic_summary.loc[1, "mean_ic"])
+    # No date above the minimum breadth: the study stops with a sentence naming the control, not a "nan".
+    from valuesift.core.errors import InsufficientDataError
+
+    with pytest.raises(InsufficientDataError) as err:
+        run_study(small_panel, StudyConfig(horizons=(1,), min_breadth=1000, n_quantiles=2))
+    assert "Minimum names per date" in str(err.value) and "nan" not in str(err.value)

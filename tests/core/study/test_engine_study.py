@@ -254,7 +254,13 @@ def test_min_breadth_and_constant_signal_dates_are_reported(panel) -> None:  # t
     notes = res.date_notes
     assert ((notes["date"] == prices.index[10]) & (notes["stage"] == "signal")).any()
     assert ((notes["date"] == prices.index[15]) & (notes["stage"] == "ic")).any()
-    assert ((notes["date"] == prices.index[15]) & (notes["stage"] == "quantiles")).sum() == 0  # 5 names, 5 quantiles
+    # One minimum-breadth rule for every chart and table (issue 13): five names, enough for five quantiles but
+    # below the minimum of 8, get no quantiles either, so no spread, slope or backtest cohort on that date.
+    q15 = (notes["date"] == prices.index[15]) & (notes["stage"] == "quantiles")
+    assert q15.sum() == 1 and "minimum per date (8)" in notes.loc[q15, "reason"].iloc[0]
+    assert res.quantile.iloc[15].isna().all() and np.isnan(res.spread.iloc[15, 0])
+    assert np.isnan(res.fm_slopes.iloc[15, 0])
+    assert res.quantile.iloc[14].notna().sum() >= 8
 
 
 @pytest.mark.parametrize(

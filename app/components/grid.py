@@ -1,0 +1,65 @@
+"""Column definitions of the data grid (dash-ag-grid): typed columns, one number format per column.
+
+Every table a person reads in the dashboard (screen, sweep, company, comparison) is a data grid built
+from ``(column id, header, kind)`` rows: numeric columns filter and sort as numbers and are shown
+with one format (fixed decimals or percent, a true minus sign, blank when missing); text columns get
+a text filter; the identifier column is pinned on the left.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Iterable, Mapping, Sequence
+
+__all__ = ["grid_columns", "number_formatter", "DEFAULT_FORMAT"]
+
+#: decimals and percent of a numeric column with no format of its own
+DEFAULT_FORMAT: tuple[int, bool] = (2, False)
+
+
+def number_formatter(decimals: int, percent: bool, *, blank_from: str | None = None) -> dict[str, str]:
+    """A grid ``valueFormatter``: d3's fixed or percent format (it writes the minus as U+2212).
+
+    ``blank_from`` names a text field of the row shown instead of a missing number (such as
+    "not meaningful" for a P/E of a loss-maker).
+    """
+    spec = f",.{int(decimals)}{'%' if percent else 'f'}"
+    missing = f"(params.data && params.data.{blank_from}) || ''" if blank_from else "''"
+    return {"function": f"params.value == null ? {missing} : d3.format('{spec}')(params.value)"}
+
+
+def grid_columns(columns: Iterable[Sequence[str]], *, pinned: str | None = None, hidden: Iterable[str] = (),
+                 formats: Mapping[str, tuple[int, bool]] | None = None,
+                 notes: Mapping[str, str] | None = None) -> list[dict[str, Any]]:
+    """``columnDefs`` for ``(id, header, kind)`` rows (kind ``numeric`` or ``text``).
+
+    Parameters
+    ----------
+    pinned : str, optional
+        Column id kept on the left while the others scroll.
+    hidden : iterable of str
+        Columns sent with each row but not shown (a note read by a formatter).
+    formats : mapping, optional
+        ``{column id: (decimals, percent)}``; numeric columns not listed use :data:`DEFAULT_FORMAT`.
+    notes : mapping, optional
+        ``{numeric column id: text column id}`` shown where the number is missing.
+    """
+    formats = dict(formats or {})
+    notes = dict(notes or {})
+    hide = set(hidden)
+    out: list[dict[str, Any]] = []
+    for cid, head, kind in columns:
+        col: dict[str, Any] = {"field": cid, "headerName": head, "headerTooltip": head}
+        if kind == "numeric":
+            dec, pct = formats.get(cid, DEFAULT_FORMAT)
+            col.update(filter="agNumberColumnFilter", type="numericColumn",
+                       valueFormatter=number_formatter(dec, pct, blank_from=notes.get(cid)),
+                       filterParams={"buttons": ["reset"], "maxNumConditions": 2})
+        else:
+            col.update(filter="agTextColumnFilter", filterParams={"buttons": ["reset"], "maxNumConditions": 2},
+                       wrapText=True, autoHeight=True, minWidth=140)
+        if cid == pinned:
+            col.update(pinned="left", lockPinned=True, cellClass="vs-grid-id", minWidth=120)
+        if cid in hide:
+            col["hide"] = True
+        out.append(col)
+    return out
