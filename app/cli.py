@@ -7,6 +7,7 @@ study   run a study headless and write summary.json and tables/
 check   read files and print the intake report (exit 2 when a file cannot be read)
 demo    write the invented demo universe files to a folder
 sweep   run a grid of studies (on a Dask cluster) with multiple-testing adjustment
+compare two to eight signals side by side (compare.csv, signal_correlation.csv, joint_fm.csv, bundle)
 
 Every user-facing failure is a :class:`core.errors.ValueSiftError`; it is
 printed as one plain message (no traceback) and the command exits non-zero.
@@ -21,6 +22,7 @@ from collections.abc import Sequence
 
 from valuesift.app import cli_commands as cmd
 from valuesift.app.caution import CAUTION
+from valuesift.app.cli_compare import add_compare
 from valuesift.app.cli_study import add_study
 from valuesift.app.cli_sweep import add_sweep
 from valuesift.core.errors import ValueSiftError
@@ -45,6 +47,7 @@ def build_parser() -> argparse.ArgumentParser:
     cmd.add_check(sub)
     cmd.add_demo(sub)
     add_sweep(sub)
+    add_compare(sub)
     return parser
 
 

@@ -7,11 +7,8 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from valuesift.core.demo import write_demo
 from valuesift.core.errors import ConfigError, IntakeError
-from valuesift.core.intake import build_panel, read_table
 from valuesift.app.cli_options import add_intake_options, panel_options_from_args, read_options_from_args
-from valuesift.app.words import intake_report_text
 
 #: File name endings read as data by ``check``; anything else (a README, say) is skipped with a note.
 DATA_SUFFIXES = frozenset({".csv", ".tsv", ".tab", ".txt", ".dat", ".xlsx", ".xlsm", ".parquet", ".pq"})
@@ -44,6 +41,11 @@ def _kind_overrides(pairs: list[str]) -> dict[str, str]:
 
 
 def run_check(args: argparse.Namespace) -> int:
+    # intake and the report words (pandas) load when `check` runs, not with the parser:
+    # `python -X importtime -m valuesift.app.cli --help` measured pandas at about 0.5 s of start-up
+    from valuesift.core.intake import build_panel, read_table
+    from valuesift.app.words import intake_report_text
+
     kinds = _kind_overrides(args.kind)
     parsed = []
     failures: list[str] = []
@@ -94,6 +96,9 @@ def add_demo(sub: Any) -> None:
 
 
 def run_demo(args: argparse.Namespace) -> int:
+    # the demo writer imports scipy.stats (its README's check figures): measured 1.3 s of every command's start-up
+    from valuesift.core.demo import write_demo
+
     kwargs = {} if args.seed is None else {"seed": args.seed}
     paths = write_demo(args.out, **kwargs)
     for path in paths:
@@ -117,8 +122,8 @@ def add_serve(sub: Any) -> None:
                    help="address to listen on; anything but loopback needs --allow-remote and prints a token")
     p.add_argument("--allow-remote", action="store_true", help="permit a non-loopback --host (token required)")
     p.add_argument("--token", default=None, metavar="TOKEN",
-                   help="not accepted: a token on the command line is visible to every user of this computer in "
-                        "the process list; use --token-file or the VALUESIFT_TOKEN environment variable")
+                   help="not accepted: a token on the command line is visible to every user of the machine in "
+                        "the process list; use --token-file or VALUESIFT_TOKEN instead")
     p.add_argument("--token-file", default=None, metavar="FILE",
                    help="file (private to you) whose first line is the access token for a non-loopback bind; "
                         "or set the VALUESIFT_TOKEN environment variable (default: a token is generated)")

@@ -12,10 +12,12 @@ from __future__ import annotations
 
 import argparse
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from valuesift.core.intake import PanelOptions, ReadOptions
 
 from valuesift.core.config import StudyConfig
-from valuesift.core.intake import PanelOptions, ReadOptions, build_panel, read_table
 from valuesift.core.settings import SETTINGS, Setting, describe_value
 
 __all__ = [
@@ -75,7 +77,7 @@ def add_intake_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--confirm-split", action="append", default=[], metavar="SECURITY",
                    help="apply the suspected split of this security only; repeatable")
     g.add_argument("--keep-suspect-dividends", action="store_true",
-                   help="keep dividends that fall in a month without a price or exceed 10 %% of the month's price "
+                   help="keep dividends that fall in a month without a price or exceed 10%% of the month's price "
                         "(default: they are set aside and listed in the report)")
     g.add_argument("--earnings-date-column", default=None, metavar="COLUMN",
                    help="long earnings file: the column with the date each figure became public (announcement, "
@@ -85,6 +87,10 @@ def add_intake_options(p: argparse.ArgumentParser) -> None:
 
 def read_options_from_args(args: argparse.Namespace, kind: str | None = None, **extra: Any) -> ReadOptions:
     """The reading choices of the command line as :class:`ReadOptions`."""
+    # intake (and with it pandas) is imported when a command reads files, not to build the parser:
+    # measured with `python -X importtime -m valuesift.app.cli --help`, pandas alone is about 0.5 s of start-up
+    from valuesift.core.intake import ReadOptions
+
     return ReadOptions(
         kind=kind,  # type: ignore[arg-type]
         layout=args.layout,
@@ -102,6 +108,8 @@ def read_options_from_args(args: argparse.Namespace, kind: str | None = None, **
 
 def panel_options_from_args(args: argparse.Namespace) -> PanelOptions:
     """The panel-building choices of the command line as :class:`PanelOptions`."""
+    from valuesift.core.intake import PanelOptions  # pandas only when files are read (--help start-up, above)
+
     return PanelOptions(
         staleness_days=args.staleness_days,
         confirmed_splits=frozenset(args.confirm_split),
@@ -129,6 +137,8 @@ def add_input_file_arguments(p: argparse.ArgumentParser, *, signal_help: str) ->
 
 def load_study_panel(args: argparse.Namespace) -> tuple[Any, list[dict[str, Any]]]:
     """Read every input file named on the command line and build the panel."""
+    from valuesift.core.intake import build_panel, read_table  # pandas only when files are read (--help start-up)
+
     parsed = []
     for attr, kind in _FILE_ARGS:
         path = getattr(args, attr, None)

@@ -41,6 +41,9 @@ def add_sweep(sub: Any) -> None:
                    help="local cluster: number of worker processes (default: one per core)")
     p.add_argument("--in-process", action="store_true",
                    help="local cluster: worker threads in this process instead of worker processes")
+    p.add_argument("--holdout-from", default=None, metavar="YYYY-MM",
+                   help="judge out of sample: pick the best configuration on the dates before this month and report "
+                        "it (and its rank) on the dates from this month on; writes holdout.csv")
     p.add_argument("--quiet", action="store_true", help="no progress bar")
     add_input_file_arguments(p, signal_help="your own signal series (use its name in the grid)")
     add_intake_options(p)
@@ -102,8 +105,21 @@ def run_sweep_command(args: argparse.Namespace) -> int:
     panel, _inputs = load_study_panel(args)
     with ExitStack() as stack:
         client = _client(args, stack)
-        result = run_sweep(panel, grid, client=client, cache_dir=out / "cache", progress=_bar(args.quiet))
+        result = run_sweep(panel, grid, client=client, cache_dir=out / "cache", progress=_bar(args.quiet),
+                           holdout=args.holdout_from)
     paths = save_sweep(result, out)
+    from valuesift.core.sweep.selection import deflated_best, holdout_report, holdout_sentence
+
+    if result.holdout:
+        rep = holdout_report(result.table, result.dimensions, top=len(result.table))
+        rep.to_csv(out / "holdout.csv", index=False, lineterminator="\n")
+        paths.append(out / "holdout.csv")
+        print(holdout_sentence(rep, result.holdout, len(rep)))
+    d = deflated_best(result.table)
+    if d["n_trials"]:
+        print(f"Best long-short Sharpe ratio {d['sharpe']:.2f} (configuration {d['point_id']}, {d['horizon']} months"
+              f"{', before ' + result.holdout if result.holdout else ''}): probabilistic Sharpe ratio {d['psr']:.2f}, "
+              f"deflated for {d['n_trials']} distinct trials {d['dsr']:.2f} (Bailey and Lopez de Prado 2012, 2014).")
     html_png, note = write_heatmap(sweep_heatmap_figure(result), out)
     paths += html_png
     print(result.statement)

@@ -23,11 +23,26 @@ from typing import Any, Iterable
 
 import dash
 import flask
+import waitress  # called as waitress.serve, so a test can stand in for the real server
 
+# Dash offers no public way to reset its process-wide callback registry, and the framework supports one
+# app per process; create_app clears it so that a second app in the same process (the tests) gets the
+# pages' callbacks once. The one private name of another library the project uses (tests/architecture.py).
+from dash import _callback
 from valuesift import app as _app_pkg
 from valuesift.app import shell
-from valuesift.app.services import AppState, selection_key
+from valuesift.app.services import (
+    SESSION_COOKIE,
+    AppState,
+    normalise_selection,
+    selection_key,
+)
+from valuesift.app.settings import config_from_settings
 from valuesift.app.workspace import Workspace, user_data_dir
+from valuesift.core.demo import write_demo
+from valuesift.core.demo.write import INDEX_COLUMN
+from valuesift.core.errors import ConfigError
+from valuesift.core.intake import ReadOptions
 
 __all__ = ["create_app", "serve", "load_demo", "DEFAULT_WORKSPACE", "TOKEN_COOKIE", "TOKEN_ENV", "assets_folder",
            "user_data_dir", "allowed_hosts", "token_strength_bits", "read_token", "MIN_TOKEN_BITS"]
@@ -60,9 +75,6 @@ def load_demo(ws: Workspace, folder: Path | None = None) -> list[str]:
     purpose; the demo reads it with that column excluded so the first study is
     clean (the Data page shows the choice and lets the user change it).
     """
-    from valuesift.core.demo import write_demo
-    from valuesift.core.demo.write import INDEX_COLUMN
-    from valuesift.core.intake import ReadOptions
 
     folder = Path(folder) if folder is not None else ws.root / "demo-files"
     known = {r.id for r in ws.records()}
@@ -119,7 +131,6 @@ def read_token(token_file: str | None = None, *, environ: dict[str, str] | None 
 
     Raises ConfigError when the file cannot be read or is readable by other users.
     """
-    from valuesift.core.errors import ConfigError
 
     env = os.environ if environ is None else environ
     if token_file:
@@ -140,7 +151,6 @@ def read_token(token_file: str | None = None, *, environ: dict[str, str] | None 
 
 
 def _check_token(token: str) -> None:
-    from valuesift.core.errors import ConfigError
 
     if token_strength_bits(token) < MIN_TOKEN_BITS:
         raise ConfigError(f"The access token is too easy to guess (about {token_strength_bits(token):.0f} bits of "
@@ -246,7 +256,6 @@ _SESSION_RE = re.compile(r"^[0-9a-f]{32}$")
 
 def _install_sessions(server: flask.Flask) -> None:
     """Give every browser a random session id (an http-only cookie) that scopes its datasets."""
-    from valuesift.app.services import SESSION_COOKIE
 
     @server.before_request
     def _session() -> None:
@@ -285,7 +294,6 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
     hosts : frozenset of str, optional
         Accept only these ``Host`` header values (see :func:`allowed_hosts`); ``serve`` always sets them.
     """
-    from dash import _callback
 
     ws = Workspace(workspace if workspace is not None else DEFAULT_WORKSPACE)
     if demo:
@@ -352,8 +360,6 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
 
 def _warm(st: AppState) -> None:
     """Start the default study in the background so the demo's Study page is ready at once."""
-    from valuesift.app.settings import config_from_settings
-    from valuesift.app.services import normalise_selection
 
     sel = normalise_selection(st.workspace.get_setting("selection", {}))
     try:
@@ -374,7 +380,6 @@ def serve(host: str = "127.0.0.1", port: int = 8750, demo: bool = False, workspa
     any non-loopback address.  Only the Host names of :func:`allowed_hosts`
     are answered.
     """
-    from valuesift.core.errors import ConfigError
 
     remote = not _is_loopback(host)
     if remote and not allow_remote:
@@ -402,9 +407,8 @@ def serve(host: str = "127.0.0.1", port: int = 8750, demo: bool = False, workspa
     if dev:
         app.run(host=host, port=port, debug=True)
         return 0
-    from waitress import serve as waitress_serve
 
-    waitress_serve(app.server, host=host, port=port, threads=threads, ident="ValueSift",
+    waitress.serve(app.server, host=host, port=port, threads=threads, ident="ValueSift",
                    max_request_body_size=server_body_limit(app))
     return 0
 

@@ -8,10 +8,13 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+import pandas as pd
+
 from valuesift.app.settings import study_settings
 from valuesift.core.sweep import load_sweep
 
-__all__ = ["sweep_root", "list_sweeps", "load_named_sweep", "settings_from_query"]
+__all__ = ["sweep_root", "list_sweeps", "load_named_sweep", "settings_from_query", "judged_best"]
 
 
 def sweep_root(workspace_root: Path) -> Path:
@@ -48,3 +51,29 @@ def settings_from_query(workspace_root: Path, query: dict[str, Any]) -> dict[str
     if res is None or point not in res.configs:
         return None
     return study_settings(res.configs[point])[0]
+
+
+def judged_best(res: Any) -> tuple[str, str, list[dict[str, Any]]]:
+    """The deflated-Sharpe sentence, the hold-out sentence and the hold-out rows of a finished sweep (words only;
+    the figures come from :mod:`valuesift.core.sweep.selection`)."""
+    from valuesift.core.sweep.selection import deflated_best, holdout_report, holdout_sentence
+
+    d = deflated_best(res.table)
+    if d["n_trials"]:
+        when = f", on the dates before {res.holdout}" if res.holdout else ""
+        deflated = (f"Highest long-short Sharpe ratio {d['sharpe']:.2f} (configuration {d['point_id']}, "
+                    f"{d['horizon']} months{when}, gross of costs unless the configuration sets one): probabilistic "
+                    f"Sharpe ratio {d['psr']:.2f}; deflated for {d['n_trials']} distinct trials {d['dsr']:.2f} "
+                    f"(the chance it beats the best of that many trials with no skill).")
+    else:
+        deflated = "No configuration has a long-short Sharpe ratio."
+    if not res.holdout:
+        return deflated, ("This sweep was run without a hold-out: every figure is in-sample. Run it with "
+                          "--holdout-from YYYY-MM to see the chosen configuration on dates it was not chosen on."), []
+    rep = holdout_report(res.table, tuple(res.dimensions), top=10)
+    n = int(np.isfinite(pd.to_numeric(res.table["ic_t"], errors="coerce").to_numpy(dtype=float)).sum())
+    rows = rep.astype(object).where(rep.notna(), None)
+    for c in ("ic_t", "mean_ic", "sharpe", "oos_ic_t", "oos_mean_ic", "oos_sharpe"):
+        if c in rows:
+            rows[c] = [None if v is None else round(float(v), 3) for v in rows[c]]
+    return deflated, holdout_sentence(rep, res.holdout, n), rows.to_dict("records")

@@ -19,6 +19,10 @@ from valuesift.core.settings import SETTINGS, describe_value
 __all__ = [
     "REASON_WORDS", "STAGE_WORDS", "reason_words", "stage_words",
     "SCREEN_FLAG_WORDS",
+    "EVIDENCE_WORDS",
+    "evidence_words",
+    "SE_METHOD_WORDS",
+    "t_name",
     "SECURITY_FLAG_WORDS",
     "GROUP_WORDS",
     "SIGNAL_WORDS",
@@ -42,6 +46,7 @@ SCREEN_FLAG_WORDS: dict[str, str] = {
     "old_eps": "EPS {eps} months old",
     "no_quantile": "no quantile on this date",
     "no_signal": "no signal",
+    "signal_not_meaningful": "signal of 0 or below: not meaningful for a lower-is-cheaper signal, set aside",
 }
 
 #: Intake flag code of a security -> words.
@@ -150,21 +155,26 @@ def screen_flag_words(codes: str, months_since_price: float = np.nan, months_sin
 def screen_in_words(screen: pd.DataFrame, n_quantiles: int | None = None) -> pd.DataFrame:
     """The screen with its codes in words: ``pe_display``, ``quantile_label`` and ``flags`` as text.
 
-    ``n_quantiles`` defaults to the screen's ``attrs["n_quantiles"]``.  The numbers are left as
+    ``n_quantiles`` defaults to the screen's ``attrs["n_quantiles"]``; missing columns read as
+    blank.  The numbers are left as
     they are; ``attrs`` (the date) are kept.  A screen already in words is returned unchanged.
     """
     if "quantile_label" in screen.columns:
         return screen
-    n_quantiles = int(n_quantiles if n_quantiles is not None else screen.attrs["n_quantiles"])
+    nan = pd.Series(np.nan, index=screen.index)
+
+    def col(name: str) -> np.ndarray:
+        return pd.to_numeric(screen[name] if name in screen.columns else nan, errors="coerce").to_numpy(dtype=float)
+
+    pe, q, pa, ea = col("pe"), col("quantile"), col("months_since_price"), col("months_since_eps")
+    if n_quantiles is None:  # a screen without its attrs (a hand-made table): the highest quantile present
+        n_quantiles = screen.attrs.get("n_quantiles") or (int(np.nanmax(q)) if np.isfinite(q).any() else 0)
+    has = screen["has_eps"].to_numpy(dtype=bool) if "has_eps" in screen.columns else np.isfinite(pe)
+    codes = screen["flags"] if "flags" in screen.columns else pd.Series("", index=screen.index)
     out = screen.copy()
-    pe = pd.to_numeric(out["pe"], errors="coerce").to_numpy(dtype=float)
-    has = out["has_eps"].to_numpy(dtype=bool) if "has_eps" in out.columns else np.isfinite(pe)
-    q = pd.to_numeric(out["quantile"], errors="coerce").to_numpy(dtype=float)
-    pa = pd.to_numeric(out["months_since_price"], errors="coerce").to_numpy(dtype=float)
-    ea = pd.to_numeric(out["months_since_eps"], errors="coerce").to_numpy(dtype=float)
     out["pe_display"] = [pe_words(a, b) for a, b in zip(pe, has)]
-    out["quantile_label"] = [quantile_words(v, n_quantiles) for v in q]
-    out["flags"] = [screen_flag_words(c, a, b) for c, a, b in zip(out["flags"], pa, ea)]
+    out["quantile_label"] = [quantile_words(v, int(n_quantiles)) for v in q]
+    out["flags"] = [screen_flag_words(c, a, b) for c, a, b in zip(codes, pa, ea)]
     out.attrs = dict(screen.attrs)
     return out
 
@@ -227,3 +237,39 @@ def intake_report_text(report: Any) -> str:
     parts = [f.to_text() for f in report.files]
     parts.extend(intake_report_lines(report, max_names=8))
     return "\n".join(parts)
+
+
+#: The evidence codes in words (codes from valuesift.core.inference.evidence).
+EVIDENCE_WORDS: dict[str, str] = {
+    "strong": "strong evidence by the usual standard, |t| of 3 or more",
+    "moderate": "some evidence: distinguishable from zero at the usual 5% level, not by a wide margin",
+    "no_evidence": "no evidence either way at this sample size",
+    "moderate_reverse": "some evidence in the reverse direction: the dear names out-earned the cheap ones",
+    "strong_reverse": "strong evidence in the reverse direction: the dear names out-earned the cheap ones",
+    "too_short": "too short to judge",
+    "not_available": "cannot be judged (too few dates)",
+}
+
+
+def evidence_words(code: Any, independent_periods: Any = None) -> str:
+    """The verdict code in words; a too-short horizon says how many independent periods it rests on."""
+    c = str(code)
+    if c == "too_short":
+        try:
+            ip = float(independent_periods)
+        except (TypeError, ValueError):
+            ip = float("nan")
+        return ("too short to judge: only " + (f"{ip:.1f} " if np.isfinite(ip) else "a few ") +
+                "independent periods, so no verdict is given")
+    return EVIDENCE_WORDS.get(c, EVIDENCE_WORDS["not_available"])
+
+
+#: The standard-error method codes of the summaries in words.
+SE_METHOD_WORDS: dict[str, str] = {"hansen_hodrick": "Hansen-Hodrick", "newey_west": "Newey-West",
+                                   "newey_west_fallback": "Newey-West"}
+
+
+def t_name(method: Any) -> str:
+    """``"Hansen-Hodrick t"`` or ``"Newey-West t"`` for a method code (``"t"`` when unknown)."""
+    name = SE_METHOD_WORDS.get(str(method))
+    return f"{name} t" if name else "t"

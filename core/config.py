@@ -90,6 +90,9 @@ class StudyConfig:
         ``max(h - 1, floor(4 (T/100)^(2/9)))`` ("overlap_or_auto").
     fm_sector_dummies, fm_log_market_cap : bool, default False
         Controls in the Fama-MacBeth regressions.
+    split_month : str, default ""
+        ``YYYY-MM``: the first month of the second half when the two halves of the history are
+        compared; empty for the middle of the dates with an IC.
     holding_months : int, default 1, range 1..60
         Backtest holding period (overlapping cohorts, 1/h of capital each).
     backtest_within_sectors : bool, default False
@@ -126,6 +129,7 @@ class StudyConfig:
     hac_lag_rule: HacLagRule = "overlap_or_auto"
     fm_sector_dummies: bool = False
     fm_log_market_cap: bool = False
+    split_month: str = ""
     holding_months: int = 1
     backtest_within_sectors: bool = False
     transaction_cost_bps: float = 0.0

@@ -103,6 +103,8 @@ class StudyResult:
     warnings : tuple of dict
         Each with ``code``, ``message`` and the numbers behind it
         (:mod:`valuesift.core.diagnostics.warnings`).
+    signal_set_aside : DataFrame (D x S, bool)
+        Universe cells of a lower-is-cheaper signal set aside as not meaningful (values of 0 or below).
     rolling_spread : DataFrame (D x MultiIndex (horizon, window))
         Rolling mean of ``spread`` over 12 and 36 dates, by the rule of ``rolling_ic``
         (a window needs all its dates).
@@ -136,6 +138,37 @@ class StudyResult:
         ``n_securities, n_dates, share_valid, min_names, max_names`` of the price panel,
         ``mean_universe_names`` and ``n_universe_dates`` (dates with a universe), and
         ``mean_ic_breadth`` (mean over horizons of ``ic_summary.mean_breadth``).
+    relative : DataFrame (portfolios ``cheapest``, ``long_short`` x statistics)
+        Against the backtest's comparison (:func:`valuesift.core.portfolio.relative.relative_performance`):
+        ``active_return_ann, tracking_error_ann, information_ratio, information_ratio_residual, beta,
+        beta_t, alpha_ann, alpha_t, alpha_se_method, hac_lags, residual_risk_ann, up_capture,
+        down_capture, n_months, too_short, alpha_evidence, comparison``; monthly net returns.
+    ic_by_period : DataFrame (rows)
+        ``period`` (``YYYY`` or ``before YYYY-MM`` / ``from YYYY-MM``), ``horizon, mean_ic, ic_t, spread,
+        spread_t, n_dates, too_short, evidence, spread_evidence`` (headline t on each subset of dates).
+    period_difference : DataFrame (rows per horizon)
+        Second half minus first half: ``split, ic_difference, ic_difference_t, spread_difference,
+        spread_difference_t, too_short`` (:func:`valuesift.core.stability.subsets.difference_of_means`).
+    ic_by_regime : DataFrame (rows)
+        ``regime`` (``market``, ``volatility``), ``state`` (``rose``/``fell``, ``high``/``low``) and the
+        columns of ``ic_by_period`` (:func:`valuesift.core.stability.subsets.regime_masks` states the rule).
+    ic_by_sector : DataFrame (rows; empty without sectors)
+        ``sector, horizon, mean_ic, ic_t, spread, spread_t, mean_breadth, n_dates, too_short, evidence, judged``.
+    ic_decay : DataFrame (24 rows)
+        ``month_ahead, marginal_ic, t, cumulative_ic, n_dates, se_method, too_short, evidence``.
+    decay_facts : Series
+        ``half_life_months`` (NaN: does not halve within the table, or nothing to decay),
+        ``rank_autocorrelation_1m``, ``rank_autocorrelation_12m``, ``autocorrelation_dates``, ``months``.
+    fm_controls : DataFrame (H rows)
+        Fama-MacBeth slope on the signal without and with the controls the files allow
+        (``slope_without, t_without, slope_with, t_with, n_dates_with``), ``ic_net, ic_net_t,
+        n_dates_net`` (rank IC of the signal net of the controls), ``controls`` (words), per control
+        ``slope_<name>``/``t_<name>``, ``too_short``, ``evidence_with``.
+    cap_weighted : DataFrame (H rows; empty without a market-cap file)
+        ``spread_equal, spread_equal_t, spread_cap, spread_cap_t, n_dates_cap, too_short, q1_cap..qn_cap``.
+    cap_weighted_backtest : DataFrame (rows; empty without a market-cap file)
+        ``portfolio, weighting`` (``equal``/``cap``), ``ann_return, ann_vol, sharpe, max_drawdown, n_months``
+        from gross monthly returns.
     """
 
     config: StudyConfig
@@ -174,6 +207,7 @@ class StudyResult:
     notes: tuple[str, ...] = field(default_factory=tuple)
     ic_by_delay: pd.DataFrame = field(default_factory=pd.DataFrame)
     warnings: tuple[dict[str, Any], ...] = field(default_factory=tuple)
+    signal_set_aside: pd.DataFrame = field(default_factory=pd.DataFrame)
     rolling_spread: pd.DataFrame = field(default_factory=pd.DataFrame)
     spread_facts: pd.DataFrame = field(default_factory=pd.DataFrame)
     pooled_fit: pd.DataFrame = field(default_factory=pd.DataFrame)
@@ -185,3 +219,13 @@ class StudyResult:
     cohort_summary: pd.Series = field(default_factory=lambda: pd.Series(dtype=object))
     drawdown_summary: pd.DataFrame = field(default_factory=pd.DataFrame)
     coverage: pd.Series = field(default_factory=lambda: pd.Series(dtype=float))
+    relative: pd.DataFrame = field(default_factory=pd.DataFrame)
+    ic_by_period: pd.DataFrame = field(default_factory=pd.DataFrame)
+    period_difference: pd.DataFrame = field(default_factory=pd.DataFrame)
+    ic_by_regime: pd.DataFrame = field(default_factory=pd.DataFrame)
+    ic_by_sector: pd.DataFrame = field(default_factory=pd.DataFrame)
+    ic_decay: pd.DataFrame = field(default_factory=pd.DataFrame)
+    decay_facts: pd.Series = field(default_factory=lambda: pd.Series(dtype=float))
+    fm_controls: pd.DataFrame = field(default_factory=pd.DataFrame)
+    cap_weighted: pd.DataFrame = field(default_factory=pd.DataFrame)
+    cap_weighted_backtest: pd.DataFrame = field(default_factory=pd.DataFrame)

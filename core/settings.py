@@ -31,9 +31,10 @@ __all__ = [
     "describe_value",
     "failure_message",
     "SIGNAL_WORDS",
+    "is_month",
 ]
 
-SettingKind = Literal["int", "float", "bool", "choice", "int_list", "name", "name_list", "percentile_pair"]
+SettingKind = Literal["int", "float", "bool", "choice", "int_list", "name", "name_list", "percentile_pair", "month"]
 ControlKind = Literal["dropdown", "number", "checklist", "switch", "radio", "none"]
 
 #: The horizons (months) a study may ask for: the one range of the core, the page and the command line.
@@ -117,6 +118,8 @@ class Setting:
             return "a lower percentile from 0 to below 50 and an upper one above 50 up to 100"
         if self.kind == "name_list":
             return "a list of names"
+        if self.kind == "month":
+            return "a month written YYYY-MM, or nothing for the middle of the history"
         return "a name"
 
 
@@ -231,6 +234,10 @@ SETTINGS: tuple[Setting, ...] = (
     Setting("fm_log_market_cap", "bool", False, "Log market cap in Fama-MacBeth",
             "Add the logarithm of market capitalisation to each date's regression.",
             choices=_YES_NO, flag="--fm-log-cap", group="evaluation"),
+    Setting("split_month", "month", "", "Split month",
+            "The month from which the second half of the history is counted when the two halves are compared "
+            "(empty: the middle of the dates with an information coefficient).",
+            flag="--split-month", group="evaluation"),
     # -- backtest --------------------------------------------------------------------
     Setting("holding_months", "int", 1, "Backtest holding (months)",
             "Each month a new cohort is formed and held this many months (overlapping cohorts).",
@@ -268,6 +275,13 @@ def _in_range(s: Setting, v: float) -> bool:
     return lo_ok and (s.hi is None or v <= s.hi)
 
 
+def is_month(v: str) -> bool:
+    """``YYYY-MM`` with a month 01..12 and a year 1800..2200."""
+    if len(v) != 7 or v[4] != "-" or not (v[:4].isdigit() and v[5:].isdigit()):
+        return False
+    return 1800 <= int(v[:4]) <= 2200 and 1 <= int(v[5:]) <= 12
+
+
 def check_value(setting: Setting, value: object) -> Failure | None:
     """The failure of ``value`` against ``setting``'s kind and range, or None when it is allowed."""
     s, v = setting, value
@@ -287,6 +301,8 @@ def check_value(setting: Setting, value: object) -> Failure | None:
         ok = isinstance(v, str) and bool(v.strip())
     elif s.kind == "name_list":
         ok = isinstance(v, (tuple, list)) and all(isinstance(x, str) and x for x in v)
+    elif s.kind == "month":
+        ok = isinstance(v, str) and (v == "" or is_month(v))
     elif s.kind == "percentile_pair":
         ok = (isinstance(v, (tuple, list)) and len(v) == 2 and all(_is_num(x) and math.isfinite(float(x)) for x in v)
               and 0.0 <= float(v[0]) < 50.0 < float(v[1]) <= 100.0)
@@ -307,6 +323,8 @@ def describe_value(setting: Setting, value: object) -> str:
             return SIGNAL_WORDS.get(value, value)
         if isinstance(value, (tuple, list)):
             return ", ".join(SIGNAL_WORDS.get(str(v), str(v)) for v in value)
+    if setting.kind == "month":
+        return str(value) if value else "middle"
     if setting.kind == "bool":
         return "on" if value else "off"
     if setting.kind == "choice":

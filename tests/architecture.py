@@ -35,8 +35,9 @@ STAT_METHODS = frozenset({"mean", "std", "var", "median", "quantile", "corr", "c
 NO_STATS_FOLDERS = ("app/figures", "app/bundle")
 #: Libraries the core must never import.
 UI_LIBRARIES = frozenset({"dash", "flask", "plotly", "dash_ag_grid", "dash_bootstrap_components"})
-#: Private names of other libraries imported by files another engineer is changing now (issue 16 lists them);
-#: each entry is (file, library name).  Remove an entry when its file no longer needs it.
+#: Private names of other libraries the project uses, each with its reason written beside the import:
+#: (file, library name).  dash._callback: Dash has no public way to reset its process-wide callback registry
+#: between two apps in one process (it supports one app per process; the tests build several).
 PENDING_EXTERNAL = frozenset({("app/server.py", "dash._callback")})
 #: Top-level package of the installed names (``valuesift.core`` is the folder ``core``).
 PACKAGE = "valuesift"

@@ -374,7 +374,8 @@ def _readme(files: Sequence[str], tables: dict[str, pd.DataFrame], note: str | N
             text = ""
         lines.append(f"  {rel}\n      {text}")
     lines += ["", "Numbers: returns and spreads are decimal fractions (0.01 = 1 %); ICs are Spearman rank "
-              "correlations; t-statistics use Newey-West standard errors with the lags stated in the tables.",
+              "correlations; t-statistics use Hansen-Hodrick standard errors above one month and Newey-West at one month, "
+              "with the lags stated in the tables; horizons with fewer than ten independent periods get no verdict.",
               "Text cells of the tables that could start a spreadsheet formula carry a leading apostrophe."]
     if note:
         lines += ["", "Images: " + note]

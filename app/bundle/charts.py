@@ -29,6 +29,7 @@ from valuesift.app.figures.common import wrap
 from valuesift.app.figures.sweep import sweep_heatmap_figure
 from valuesift.app.figures import data as fd
 from valuesift.app.figures import study as fs
+from valuesift.app.figures import stability as fst
 from valuesift.core.result import StudyResult
 
 __all__ = ["stamp_source", "ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
@@ -68,6 +69,13 @@ CHARTS: tuple[ChartSpec, ...] = (
     ChartSpec("drawdown", "Backtest: drawdowns", lambda r, h, p: fb.drawdown_figure(r), False),
     ChartSpec("cohorts", "Backtest: each cohort against the comparison", lambda r, h, p: fb.cohort_figure(r), False),
     ChartSpec("coverage", "Data coverage", lambda r, h, p: fd.coverage_figure(p), False),
+    # where the reward comes from (issue 12): periods, sectors, decay, relative and cap-weighted
+    ChartSpec("stability_periods", "Stability: by calendar year and half", lambda r, h, p: fst.periods_figure(r, h),
+              True),
+    ChartSpec("stability_sectors", "Stability: inside each sector", lambda r, h, p: fst.sectors_figure(r, h), True),
+    ChartSpec("ic_decay", "Decay: information coefficient by month ahead", lambda r, h, p: fst.decay_figure(r), False),
+    ChartSpec("relative", "Against the comparison: active return and alpha", lambda r, h, p: fst.relative_figure(r),
+              False),
 )
 CHART_KEYS: tuple[str, ...] = tuple(c.key for c in CHARTS)
 

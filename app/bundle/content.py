@@ -10,8 +10,18 @@ import pandas as pd
 
 from valuesift import core
 from valuesift.app.bundle.charts import CHARTS
+from valuesift.app.bundle.stability_text import STABILITY_READINGS
 from valuesift.app.bundle.pdf import ReportInput
-from valuesift.app.bundle.text import CHART_READINGS, headline_sentences, share_word, signal_definition, universe_words
+from valuesift.app.bundle.text import (
+    CHART_READINGS,
+    answer_sentences,
+    caveat_sentences,
+    delay_sentence,
+    headline_sentences,
+    share_word,
+    signal_definition,
+    universe_words,
+)
 from valuesift.app.caution import CAUTION
 from valuesift.app.figures.common import fmt_num, fmt_pct, span
 from valuesift.app.figures.study import return_label, signal_label
@@ -21,11 +31,14 @@ from valuesift.core.result import StudyResult
 __all__ = ["report_input", "summary_rows", "screen_frames"]
 
 
-def _short_verdict(t: Any) -> str:
-    v = float(t) if t is not None else float("nan")
-    if not np.isfinite(v):
-        return "n/a"
-    return "noise" if abs(v) < 2 else "5% level" if abs(v) < 3 else "strong"
+#: The verdict codes in the few words of a table cell.
+_SHORT_VERDICT = {"strong": "strong", "moderate": "some", "no_evidence": "none either way",
+                  "moderate_reverse": "some, reversed", "strong_reverse": "strong, reversed",
+                  "too_short": "too short to judge", "not_available": "n/a"}
+
+
+def _short_verdict(code: Any) -> str:
+    return _SHORT_VERDICT.get(str(code), "n/a")
 
 
 def summary_rows(result: StudyResult) -> pd.DataFrame:
@@ -44,7 +57,8 @@ def summary_rows(result: StudyResult) -> pd.DataFrame:
             "IC 95% interval": f"{fmt_num(ic['ci_low'], 3)} to {fmt_num(ic['ci_high'], 3)}",
             "FM slope (t)": f"{fmt_pct(fm['mean_slope'], 2)} ({fmt_num(fm['t_hac'], 2)})",
             "Dates": str(int(ic["n_dates"])),
-            "Evidence (spread)": _short_verdict(ss["t_hac"]),
+            "Independent periods": fmt_num(ic["independent_periods"], 1),
+            "Evidence (spread)": _short_verdict(ss["evidence"]),
         })
     return pd.DataFrame(rows)
 
@@ -81,8 +95,8 @@ def screen_frames(result: StudyResult) -> tuple[str, pd.DataFrame, pd.DataFrame]
         }).replace("n/a", "")
 
     left_out = len(base) - n
-    title = (f"The screen on {s.attrs.get('date', '')}: the {len(cheap)} cheapest and {len(dear)} dearest of "
-             f"{n} {who} by {signal_label(result)}"
+    title = (f"The screen on {s.attrs.get('date', '')}: the {len(cheap)} highest-ranked (cheapest) and {len(dear)} "
+             f"lowest-ranked of {n} {who} by {signal_label(result)}"
              + (f" ({left_out} without a z-score are left out; see tables/screen.csv)" if left_out else ""))
     return title, show(cheap), show(dear)
 
@@ -151,29 +165,36 @@ def report_input(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
                  images: dict[str, bytes], images_note: str | None, created: datetime) -> ReportInput:
     """Everything :func:`app.bundle.pdf.build_pdf` lays out, from the numbers of ``result``."""
     word = share_word(result.config.n_quantiles)
-    lead = []
-    for h in result.config.horizons:
-        sent = headline_sentences(result, h)
-        lead.append(sent[0])
+    lead = answer_sentences(result)
     hh = horizon
-    lead.append(" ".join(headline_sentences(result, hh)[1:]))
+    lead.append(" ".join(headline_sentences(result, hh)))
     bts = result.backtest.stats
     after = []
     if "cheapest" in bts.index:
         c = bts.loc["cheapest"]
+        windows = result.backtest.cohort_windows
         after.append(f"Backtest (monthly rebalanced, held {result.backtest.holding_months} month(s), costs "
-                     f"{fmt_num(result.config.transaction_cost_bps, 0)} bp): the cheapest {word} earned "
-                     f"{fmt_pct(c['ann_return'], 1)} a year, Sharpe {fmt_num(c['sharpe'], 2)}, worst drawdown "
+                     f"{fmt_num(result.config.transaction_cost_bps, 0)} bp, equal-weighted, in-sample): the cheapest "
+                     f"{word} earned {fmt_pct(c['ann_return'], 1)} a year, Sharpe {fmt_num(c['sharpe'], 2)} (risk-free "
+                     f"rate {fmt_pct(result.config.risk_free_annual, 1)}), worst drawdown "
                      f"{fmt_pct(c['max_drawdown'], 0)}; {fmt_pct(result.backtest.cohort_share_beat, 0)} of its cohorts "
-                     f"beat the {result.backtest.comparison}.")
-    after.append("How to read t: below 2 in absolute value the figure is not distinguishable from noise; 2 to 3 is "
-                 "distinguishable at the usual 5% level; 3 or more is strong. Newey-West standard errors allow "
-                 "for the overlap of multi-month returns. Every figure is in tables/summary.csv and summary.json.")
+                     f"beat the {result.backtest.comparison}"
+                     + (f" (about {windows:.0f} independent windows)" if result.backtest.holding_months > 1 else "")
+                     + ".")
+    after.append("How to read t: |t| of 3 or more is strong evidence by the usual standard; 2 to 3 is some "
+                 "evidence; below 2 there is no evidence either way at this sample size (which is not evidence "
+                 "that there is no relation). Horizons above one month use Hansen-Hodrick standard errors, which "
+                 "allow fully for the overlap of multi-month returns; with fewer than ten independent periods a "
+                 "horizon is too short to judge and gets no verdict. Every figure is in tables/summary.csv and "
+                 "summary.json.")
+    if delay_sentence(result):
+        after.insert(0, delay_sentence(result))
+    after.extend(caveat_sentences(result, panel))
     titles = {c.key: c.title for c in CHARTS}
     chart_pages = []
     for key in chart_keys:
         heading = titles[key] + (f", {hh} months" if any(c.key == key and c.per_horizon for c in CHARTS) else "")
-        chart_pages.append((key, heading, images.get(key), CHART_READINGS[key](result, hh, panel)))
+        chart_pages.append((key, heading, images.get(key), {**CHART_READINGS, **STABILITY_READINGS}[key](result, hh, panel)))
     st, cheap, dear = screen_frames(result)
     qf, ql, qr = _quality(panel, result)
     asof = str(result.screen.attrs.get("date", ""))

@@ -17,7 +17,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Iterable
 
+from PIL import Image
+
 from valuesift.app.bundle.build import BundlePaths, bundle_name, write_bundle
+from valuesift.app.services import current_owner, state
 from valuesift.app.jobs import Job, JobRunner
 
 __all__ = ["ExportJob", "start_export", "get_export", "page_thumbnails", "MAX_KEPT_PER_SESSION"]
@@ -43,8 +46,6 @@ class ExportJob:
 
 
 def _owner() -> str:
-    from valuesift.app.services import current_owner
-
     return current_owner() or ""
 
 
@@ -70,8 +71,6 @@ def get_export(job_id: str | None, runner: JobRunner | None = None) -> ExportJob
 
 
 def _runner() -> JobRunner:
-    from valuesift.app.services import state
-
     return state().runner
 
 
@@ -130,7 +129,6 @@ def page_thumbnails(pdf: Path, charts: Path, *, limit: int = 16) -> list[str]:
         except (subprocess.SubprocessError, OSError):
             log.debug("pdftoppm failed", exc_info=True)
     if not pngs:
-        from PIL import Image
 
         for p in sorted(charts.glob("*.png"))[:limit]:
             im = Image.open(p)

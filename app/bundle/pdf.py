@@ -281,9 +281,9 @@ def build_pdf(data: ReportInput, path: Path, created: datetime | None = None) ->
     story.append(_p(data.screen_title, st["h2"]))
     sw = [20 * mm, 26 * mm, 16 * mm, 24 * mm, 14 * mm, 15 * mm, 27 * mm, 17 * mm, 17 * mm]
     sw.append(usable_w - sum(sw))
-    for label, df in (("Cheapest", data.screen_cheap), ("Dearest", data.screen_dear)):
+    for label, df in (("Highest-ranked (cheapest)", data.screen_cheap), ("Lowest-ranked", data.screen_dear)):
         story.append(CondPageBreak(60 * mm))
-        story.append(_p(f"{label} {len(df)}", st["h2"]))
+        story.append(_p(f"The {len(df)} {label.lower()}", st["h2"]))
         t = _table(_frame_rows(df, st, wrap=["Security", "Sector", "P/E", "Quantile", "Flags"]), sw, align_right_from=2)
         t.setStyle(TableStyle([("TOPPADDING", (0, 0), (-1, -1), 1), ("BOTTOMPADDING", (0, 0), (-1, -1), 1),
                                ("ALIGN", (6, 1), (6, -1), "LEFT"), ("ALIGN", (9, 1), (9, -1), "LEFT")]))

@@ -19,6 +19,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from valuesift.app.bundle.stability_tables import STABILITY_TABLES, stability_tables
 from valuesift.app.screen_table import neutralise
 from valuesift.app.words import screen_in_words
 from valuesift.core.reporting.summary import summary_dict
@@ -33,15 +34,15 @@ FIXED_ZIP_TIME = (1980, 1, 1, 0, 0, 0)
 #: table key -> what it holds (for the README and the Export page).
 TABLES: dict[str, str] = {
     "ic_by_date": "rank and Pearson IC and breadth per signal date and horizon (as the study command writes it)",
-    "ic_summary": "IC statistics per horizon: mean, Newey-West t and interval, hit share, dates",
+    "ic_summary": "IC statistics per horizon: mean, headline t (Hansen-Hodrick above one month) and interval, Bartlett and non-overlapping checks, independent periods, verdict, hit share, dates",
     "rolling_ic": "rolling mean rank IC per date over 12 and 36 dates, per horizon",
     "quantile_returns": "mean forward return of each quantile per formation date and horizon (1 = dearest)",
     "quantile_means": "time-mean forward return per quantile and horizon, per period and annualised",
     "quantile_counts": "names in each quantile per date",
     "spreads": "cheapest-minus-dearest forward return per formation date and horizon",
-    "spread_summary": "spread statistics per horizon: mean, Newey-West t and interval, annualised, monotonicity",
+    "spread_summary": "spread statistics per horizon: mean, headline t and interval, Bartlett check, verdict, annualised, monotonicity",
     "fm_slopes": "Fama-MacBeth slope on the signal z-score per date and horizon",
-    "fm_summary": "Fama-MacBeth mean slope per horizon with Newey-West t",
+    "fm_summary": "Fama-MacBeth mean slope per horizon with its headline t",
     "backtest_returns": "monthly net returns, growth of 1 and drawdown of each backtest portfolio",
     "backtest_stats": "annual return, volatility, Sharpe ratio, worst drawdown, hit rate per portfolio",
     "cohorts": "each cohort of the cheapest quantile against the comparison over its holding period",
@@ -49,6 +50,7 @@ TABLES: dict[str, str] = {
     "summary": "the headline figures per horizon (the numbers of summary.json)",
     "ic_by_delay": "mean rank IC and its t when the signal is used 0 to 3 months after its date (look-ahead check)",
     "data_quality": "per input file: rows, securities, dates and how every cell was accounted for",
+    **STABILITY_TABLES,
 }
 TABLE_KEYS: tuple[str, ...] = tuple(TABLES)
 
@@ -170,6 +172,7 @@ def result_tables(result: StudyResult, panel: Any = None) -> dict[str, pd.DataFr
         "summary": _summary(result),
         "ic_by_delay": result.ic_by_delay.copy(),
         "data_quality": _data_quality(panel),
+        **stability_tables(result),
     }
 
 

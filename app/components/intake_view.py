@@ -102,6 +102,9 @@ def _controls(rec: DatasetRecord) -> html.Div:
                                    value="cheaper" if o.higher_is_cheaper else "dearer",
                                    options=[{"label": "cheaper (like a yield)", "value": "cheaper"},
                                             {"label": "dearer (like a ratio of price)", "value": "dearer"}])]),
+            html.Div([html.Label("Date each figure became public (earnings, long layout)"),
+                      dcc.Input(id=_pid("ds-pubdate", rec.id), type="text", value=o.earnings_date_column or "",
+                                placeholder=str(rep.get("availability_column") or "detect by name"))]),
             html.Div([html.Label("Columns to leave out (comma-separated)"),
                       dcc.Input(id=_pid("ds-exclude", rec.id), type="text", value=", ".join(o.exclude_columns),
                                 placeholder=", ".join(suspects) if suspects else "none")]),
@@ -182,7 +185,7 @@ def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
 
 def options_from_controls(base: Any, kind: Any, layout: Any, header: Any, dates: Any, decimal: Any,
                           idclean: Any, idregex: Any, exclude: Any, signal_name: Any = None,
-                          direction: Any = "cheaper") -> Any:
+                          direction: Any = "cheaper", pubdate: Any = None) -> Any:
     """New ReadOptions from the card's controls (ConfigError names a bad choice)."""
     cols = tuple(c.strip() for c in str(exclude or "").split(",") if c.strip())
     return replace(
@@ -197,4 +200,5 @@ def options_from_controls(base: Any, kind: Any, layout: Any, header: Any, dates:
         exclude_columns=cols,
         signal_name=(str(signal_name).strip() or None) if signal_name else None,
         higher_is_cheaper=direction != "dearer",
+        earnings_date_column=(str(pubdate).strip() or None) if pubdate else None,
     )

@@ -117,8 +117,9 @@ def cohort_figure(result: StudyResult) -> go.Figure:
     lags = int(cs["hac_lags"])
     subtitle = (f"{n} cohorts formed {span(ex.index)}, each held {bt.holding_months} month(s); "
                 f"{int(cs['n_beat'])} of {n} ({fmt_pct(cs['share_beat'], 0)}) beat it; mean excess "
-                f"{fmt_pct(cs['mean_excess'])}, Newey-West t = {fmt_num(cs['t_hac'], 2)} ({lags} lags for the "
-                f"overlap; naive t {fmt_num(cs['t_naive'], 2)})")
+                f"{fmt_pct(cs['mean_excess'])}, "
+                + (f"Hansen-Hodrick t = {fmt_num(cs['t_hac'], 2)} ({lags} lags for the overlap; naive t "
+                   f"{fmt_num(cs['t_naive'], 2)})" if lags > 0 else f"t = {fmt_num(cs['t_naive'], 2)} (cohorts do not overlap)"))
     fig = base_figure(title, subtitle, height=380)
     v = ex.to_numpy(dtype=float)
     fig.add_trace(go.Bar(x=ex.index, y=v, marker_color=[CHEAP if x > 0 else SERIES["dearest"] for x in v],

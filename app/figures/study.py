@@ -15,7 +15,7 @@ import plotly.graph_objects as go
 from valuesift.app.escape import chart_text, chart_texts
 from valuesift.app.figures.common import base_figure, finite_dates, fmt_num, fmt_pct, fmt_t, message_figure, month, span
 from valuesift.app.figures.theme import CHEAP, MUTED, SERIES, diverging
-from valuesift.app.words import SIGNAL_WORDS
+from valuesift.app.words import SIGNAL_WORDS, t_name
 from valuesift.core.result import StudyResult
 from valuesift.core.study.derived import POOLED_BINS
 
@@ -50,7 +50,7 @@ def _ic_row(result: StudyResult, horizon: int) -> pd.Series:
 
 
 def ic_by_horizon_figure(result: StudyResult) -> go.Figure:
-    """Mean rank IC per horizon with its 95 % Newey-West interval; t and sample on each bar."""
+    """Mean rank IC per horizon with its 95 % headline interval; t and sample on each bar."""
     s = result.ic_summary
     title = f"Rank IC by horizon: {chart_text(signal_label(result))}"
     if s.empty or not np.isfinite(s["mean_ic"].to_numpy(dtype=float)).any():
@@ -64,7 +64,7 @@ def ic_by_horizon_figure(result: StudyResult) -> go.Figure:
     all_dates = pd.DatetimeIndex(sorted(set().union(*[set(u) for u in used])))
     names = fmt_num(result.coverage.get("mean_ic_breadth"), 0)
     subtitle = (f"Sample {span(all_dates)}, about {names} names a date; bars: mean of monthly rank ICs, "
-                f"whiskers: 95% Newey-West interval")
+                f"whiskers: 95% interval (Hansen-Hodrick above 1 month, Newey-West at 1)")
     fig = base_figure(title, subtitle)
     colors = [CHEAP if m >= 0 else SERIES["dearest"] for m in mean]
     fig.add_trace(go.Bar(
@@ -80,7 +80,7 @@ def ic_by_horizon_figure(result: StudyResult) -> go.Figure:
     for lab, h in zip(labels, hs):
         row = _ic_row(result, h)
         ticks.append(f"<b>{lab}</b><br>t={fmt_num(row['t_hac'], 1)}<br>n={int(row['n_dates'])}")
-    fig.update_xaxes(tickmode="array", tickvals=labels, ticktext=ticks, title_text="horizon; Newey-West t; dates")
+    fig.update_xaxes(tickmode="array", tickvals=labels, ticktext=ticks, title_text="horizon; t; dates")
     fig.update_yaxes(title_text="rank IC", range=[bottom - pad, top + pad], zeroline=True)
     fig.update_layout(showlegend=False)
     return fig
@@ -95,7 +95,7 @@ def ic_over_time_figure(result: StudyResult, horizon: int) -> go.Figure:
         return message_figure(title, f"No date has an IC at the {horizon}-month horizon.")
     row = _ic_row(result, horizon)
     subtitle = (f"Sample {span(dates)}, {len(dates)} dates, mean {fmt_num(row['mean_breadth'], 0)} names; "
-                f"mean IC {fmt_num(row['mean_ic'])}, Newey-West t = {fmt_t(row['t_hac'])} "
+                f"mean IC {fmt_num(row['mean_ic'])}, {t_name(row['se_method'])} = {fmt_t(row['t_hac'])} "
                 f"({int(row['hac_lags'])} lags); share above 0: {fmt_pct(row['hit_share'], 0)}")
     fig = base_figure(title, subtitle)
     fig.add_trace(go.Bar(x=ic.index, y=ic.to_numpy(dtype=float), name="monthly rank IC",
@@ -125,7 +125,7 @@ def quantile_returns_figure(result: StudyResult, horizon: int, *, annualised: bo
     per_q = fmt_num(result.spread_facts.loc[horizon, "names_per_quantile"], 0)
     dates = finite_dates(result.spread[horizon])
     subtitle = (f"Sample {span(dates)}, {int(ss['n_dates'])} dates, about {per_q} names per quantile; "
-                f"cheapest minus dearest {fmt_pct(ss['mean'])} per {horizon} m, Newey-West t = {fmt_t(ss['t_hac'])}; "
+                f"cheapest minus dearest {fmt_pct(ss['mean'])} per {horizon} m, {t_name(ss['se_method'])} = {fmt_t(ss['t_hac'])}; "
                 f"monotonicity {fmt_num(ss['monotonicity'], 2)}")
     fig = base_figure(title + (" (annualised)" if annualised else ""), subtitle)
     fig.add_trace(go.Bar(x=names, y=vals, marker_color=diverging(n), name="mean return",
@@ -146,7 +146,7 @@ def spread_over_time_figure(result: StudyResult, horizon: int) -> go.Figure:
         return message_figure(title, "No date has both the cheapest and the dearest quantile filled.")
     ss = result.spread_summary.loc[horizon]
     subtitle = (f"Sample {span(dates)}, {len(dates)} formation dates; mean {fmt_pct(ss['mean'])}, "
-                f"Newey-West t = {fmt_t(ss['t_hac'])} ({int(ss['hac_lags'])} lags), "
+                f"{t_name(ss['se_method'])} = {fmt_t(ss['t_hac'])} ({int(ss['hac_lags'])} lags), "
                 f"annualised {fmt_pct(ss['mean_annualised'], 1)}")
     fig = base_figure(title, subtitle)
     v = s.to_numpy(dtype=float)
@@ -204,14 +204,14 @@ def scatter_figure(result: StudyResult, horizon: int, date: object | None = None
         row = _ic_row(result, horizon)
         n_dates = int(finite_dates(result.rank_ic[horizon]).size)
         subtitle = (f"{n_pairs:,} pairs over {n_dates} dates in {len(binned)} equal-count bins; "
-                    f"mean rank IC {fmt_num(row['mean_ic'])}, Newey-West t = {fmt_t(row['t_hac'])}")
+                    f"mean rank IC {fmt_num(row['mean_ic'])}, {t_name(row['se_method'])} = {fmt_t(row['t_hac'])}")
         fig = base_figure(title, subtitle)
         fig.add_trace(go.Scatter(x=bx, y=by, mode="markers", name="bin mean",
                                  marker=dict(color=CHEAP, size=12, line=dict(width=1, color="white")),
                                  customdata=binned["count"].to_numpy(),
                                  hovertemplate="z %{x:.2f}: mean return %{y:.2%} (%{customdata} pairs)<extra></extra>"))
         x = bx
-        label = f"mean rank IC = {fmt_num(row['mean_ic'])}<br>Newey-West t = {fmt_t(row['t_hac'])}"
+        label = f"mean rank IC = {fmt_num(row['mean_ic'])}<br>{t_name(row['se_method'])} = {fmt_t(row['t_hac'])}"
     if np.isfinite(b):
         xs = np.array([np.min(x), np.max(x)])
         fig.add_trace(go.Scatter(x=xs, y=a + b * xs, mode="lines", name="least-squares line",
@@ -225,7 +225,7 @@ def scatter_figure(result: StudyResult, horizon: int, date: object | None = None
 
 
 def fm_slopes_figure(result: StudyResult) -> go.Figure:
-    """Mean Fama-MacBeth slope on the signal z-score per horizon, with Newey-West t."""
+    """Mean Fama-MacBeth slope on the signal z-score per horizon, with its headline t."""
     s = result.fm_summary
     title = "Fama-MacBeth slope on the signal z-score"
     if s.empty or not np.isfinite(s["mean_slope"].to_numpy(dtype=float)).any():
@@ -237,7 +237,7 @@ def fm_slopes_figure(result: StudyResult) -> go.Figure:
     dates = pd.DatetimeIndex(sorted(set().union(*[set(finite_dates(result.fm_slopes[h])) for h in hs])))
     controls = [c for c, on in (("sector dummies", result.config.fm_sector_dummies),
                                 ("log market cap", result.config.fm_log_market_cap)) if on]
-    subtitle = (f"Sample {span(dates)}; return per unit of z per horizon, whiskers 95% Newey-West; "
+    subtitle = (f"Sample {span(dates)}; return per unit of z per horizon, whiskers 95% (Hansen-Hodrick above 1 month); "
                 f"controls: {', '.join(controls) if controls else 'none'}")
     fig = base_figure(title, subtitle)
     fig.add_trace(go.Bar(x=labels, y=m, marker_color=[CHEAP if v >= 0 else SERIES["dearest"] for v in np.nan_to_num(m)],
@@ -248,7 +248,7 @@ def fm_slopes_figure(result: StudyResult) -> go.Figure:
     pad = 0.08 * max(float(np.max(np.r_[hi, 0.0]) - np.min(np.r_[lo, 0.0])), 1e-4)
     ticks = [f"<b>{lab}</b><br>t={fmt_num(s.loc[h, 't_hac'], 1)}<br>n={int(s.loc[h, 'n_dates'])}"
              for lab, h in zip(labels, hs)]
-    fig.update_xaxes(tickmode="array", tickvals=labels, ticktext=ticks, title_text="horizon; Newey-West t; dates")
+    fig.update_xaxes(tickmode="array", tickvals=labels, ticktext=ticks, title_text="horizon; t; dates")
     fig.update_yaxes(title_text="slope (return per z)", tickformat=".1%",
                      range=[float(np.min(np.r_[lo, 0.0])) - pad, float(np.max(np.r_[hi, 0.0])) + pad])
     fig.update_layout(showlegend=False)

@@ -164,11 +164,12 @@ def _triggered(values: list[Any]) -> str:
     State({"type": "ds-decimal", "id": ALL}, "value"), State({"type": "ds-idclean", "id": ALL}, "value"),
     State({"type": "ds-idregex", "id": ALL}, "value"), State({"type": "ds-exclude", "id": ALL}, "value"),
     State({"type": "ds-signame", "id": ALL}, "value"), State({"type": "ds-direction", "id": ALL}, "value"),
+    State({"type": "ds-pubdate", "id": ALL}, "value"),
     State("vs-selection", "data"), State(f"{P}-version", "data"),
     prevent_initial_call=True,
 )
 def _reread(clicks: Any, ids: Any, kinds: Any, layouts: Any, headers: Any, dates: Any, decimals: Any,
-            cleans: Any, regexes: Any, excludes: Any, signames: Any, directions: Any, sel_raw: Any,
+            cleans: Any, regexes: Any, excludes: Any, signames: Any, directions: Any, pubdates: Any, sel_raw: Any,
             version: Any) -> Any:
     did = _triggered(clicks)
     j = [i["id"] for i in ids].index(did)
@@ -179,7 +180,7 @@ def _reread(clicks: Any, ids: Any, kinds: Any, layouts: Any, headers: Any, dates
         raise PreventUpdate
     try:
         opts = options_from_controls(old.options, kinds[j], layouts[j], headers[j], dates[j], decimals[j],
-                                     cleans[j], regexes[j], excludes[j], signames[j], directions[j])
+                                     cleans[j], regexes[j], excludes[j], signames[j], directions[j], pubdates[j])
     except ValueSiftError as err:
         return no_update, no_update, alert(str(err))
     return _reread_with(did, opts, sel_raw, version)

@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 import dash
+import numpy as np
 from dash import Input, Output, State, dcc, html, no_update
 
 from valuesift.app.components.common import chart, field, panel_choices
@@ -15,7 +16,7 @@ from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state
 from valuesift.app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES, bounds, help_text, label, options, shown_horizon
 from valuesift.app.sweeps import settings_from_query
-from valuesift.app.words import stage_words
+from valuesift.app.words import evidence_words, stage_words
 from valuesift.core.settings import SETTING_BY_NAME
 
 dash.register_page(__name__, path="/study", name="Study", order=1, title="ValueSift - Study")
@@ -210,16 +211,35 @@ def _scatter(job: Any, horizon: Any, date: Any) -> Any:
 
 
 def _summary(res: Any, h: int) -> Any:
+    """The warnings first (each its plain sentence), then the headline of the shown horizon in words."""
     row = res.ic_summary.loc[h]
     present = res.universe.index[res.universe.any(axis=1).to_numpy()]
     cov = res.coverage
-    return html.P([
-        html.Strong(fs.signal_label(res)), f" over {int(cov['n_universe_dates'])} month-ends "
-        f"({month(present.min())} to {month(present.max())}), {cov['mean_universe_names']:.0f} names on average. "
-        f"At {h} months the mean rank IC is ",
-        html.Strong(f"{row['mean_ic']:.3f}"), f" (Newey-West t = {row['t_hac']:.2f}, 95% interval ",
-        f"{row['ci_low']:.3f} to {row['ci_high']:.3f}, {int(row['n_dates'])} dates).",
-    ])
+    out: list[Any] = [html.Div(str(w.get("message", "")), className="vs-alert vs-alert-warning", role="alert",
+                               **{"data-code": str(w.get("code", ""))}) for w in res.warnings]
+    lead: list[Any] = [html.Strong(fs.signal_label(res)), f" over {int(cov['n_universe_dates'])} month-ends "
+                       f"({month(present.min())} to {month(present.max())}), {cov['mean_universe_names']:.0f} names "
+                       "on average. "]
+    if not np.isfinite(float(row["mean_ic"])):
+        lead.append(f"At {h} months there is no information coefficient: no date has at least "
+                    f"{res.config.min_breadth} names with both a signal and a return (the minimum names per date). "
+                    "Lower that minimum or load more names.")
+    else:
+        method = {"hansen_hodrick": "Hansen-Hodrick", "newey_west": "Newey-West",
+                  "newey_west_fallback": "Newey-West"}.get(str(row["se_method"]), "")
+        lead += [f"At {h} months the mean rank IC is ", html.Strong(f"{row['mean_ic']:.3f}"),
+                 f" ({method} t = {row['t_hac']:.2f}, 95% interval {row['ci_low']:.3f} to {row['ci_high']:.3f}, "
+                 f"{int(row['n_dates'])} dates, {row['independent_periods']:.1f} independent periods): ",
+                 html.Strong(evidence_words(row["evidence"], row["independent_periods"])), "."]
+        tab = res.ic_by_delay
+        if len(tab):
+            d = tab[tab["horizon"] == h].sort_values("delay_months")
+            if len(d):
+                lead.append(" Used 0, 1, 2 and 3 months late the signal's IC is "
+                            + ", ".join(f"{v:.3f}" for v in d["mean_ic"]) + " (a valuation signal fades slowly; a "
+                            "sharp drop points to look-ahead in the files).")
+    out.append(html.P(lead, id=f"{P}-headline"))
+    return out
 
 
 def _notes(res: Any) -> Any:

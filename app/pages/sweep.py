@@ -37,8 +37,17 @@ _METRICS: tuple[tuple[str, str], ...] = (
     ("mean_ic", "Mean IC"), ("ic_t", "HAC t (raw)"), ("ic_t_bh", "t, BH adjusted"),
     ("ic_t_bonferroni", "t, Bonferroni"), ("ic_p", "p (raw)"), ("ic_p_bh", "p, BH"),
     ("ic_p_bonferroni", "p, Bonferroni"), ("spread", "Spread"), ("spread_t", "Spread t"),
-    ("sharpe", "Long-short Sharpe"), ("max_drawdown", "Max drawdown"), ("breadth", "Breadth"),
+    ("spread_t_bh", "Spread t, BH adjusted"),
+    ("sharpe", "Long-short Sharpe (held for the horizon)"), ("sharpe_t", "Sharpe t (Lo)"),
+    ("sharpe_t_bh", "Sharpe t, BH adjusted"), ("max_drawdown", "Max drawdown"), ("breadth", "Breadth"),
     ("n_dates", "Dates"),
+)
+
+#: The hold-out table: in-sample beside out-of-sample (id, header).
+_HOLDOUT: tuple[tuple[str, str], ...] = (
+    ("point_id", "Configuration"), ("horizon", "Horizon (m)"), ("rank_in", "Rank before"), ("ic_t", "IC t before"),
+    ("mean_ic", "Mean IC before"), ("sharpe", "Sharpe before"), ("rank_out", "Rank on hold-out"),
+    ("oos_ic_t", "IC t on hold-out"), ("oos_mean_ic", "Mean IC on hold-out"), ("oos_sharpe", "Sharpe on hold-out"),
 )
 
 
@@ -55,6 +64,8 @@ def table_columns(result: Any) -> list[dict[str, Any]]:
     cols += [{"id": d, "name": _dimension_label(d)} for d in result.dimensions]
     cols += [{"id": "horizon", "name": "Horizon (m)", "type": "numeric"}, {"id": "status", "name": "Status"}]
     for cid, name in _METRICS:
+        if cid not in result.table.columns:
+            continue
         fmt = Format(precision=0 if cid == "n_dates" else 3, scheme=Scheme.fixed)
         cols.append({"id": cid, "name": name, "type": "numeric", "format": fmt})
     cols.append({"id": "error", "name": "Error"})
@@ -63,7 +74,7 @@ def table_columns(result: Any) -> list[dict[str, Any]]:
 
 def table_records(result: Any) -> list[dict[str, Any]]:
     """The comparison table as rows for the page (small: one row per configuration and horizon)."""
-    keep = ["point_id", *result.dimensions, "horizon", "status", *(c for c, _ in _METRICS), "error"]
+    keep = ["point_id", *result.dimensions, "horizon", "status", *(c for c, _ in _METRICS if c in result.table), "error"]
     t = result.table[keep].astype(object)
     t = t.where(t.notna(), None)
     return t.to_dict("records")
@@ -89,8 +100,30 @@ def layout(**_: Any) -> html.Div:
                              page_size=25, style_table={"overflowX": "auto"},
                              style_cell={"fontFamily": "inherit", "fontSize": 14, "padding": "4px 8px"}),
         html.Div(id=f"{P}-open-note", className="vs-notes"),
+        html.Div(id=f"{P}-judged", className="vs-card", children=[
+            html.H2("The best configuration, judged"),
+            html.P(id=f"{P}-deflated", className="vs-summary"),
+            html.P(id=f"{P}-holdout-sentence", className="vs-summary"),
+            dash_table.DataTable(id=f"{P}-holdout", columns=[{"id": c, "name": n} for c, n in _HOLDOUT], data=[],
+                                 page_size=10, style_table={"overflowX": "auto"},
+                                 style_cell={"fontFamily": "inherit", "fontSize": 14, "padding": "4px 8px"}),
+        ]),
         dcc.Location(id=f"{P}-go", refresh=True),
     ])
+
+
+@dash.callback(
+    Output(f"{P}-deflated", "children"), Output(f"{P}-holdout-sentence", "children"), Output(f"{P}-holdout", "data"),
+    Input(f"{P}-pick", "value"),
+)
+def _judged(name: Any) -> Any:
+    from valuesift.app.sweeps import judged_best  # the core computes; the page words
+
+    res = load_named_sweep(state().workspace.root, name)
+    if res is None:
+        return None, None, []
+    deflated, sentence, rows = judged_best(res)
+    return deflated, sentence, rows
 
 
 @dash.callback(

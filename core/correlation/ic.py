@@ -8,16 +8,18 @@ Spearman, C. (1904). Am. J. Psychol. 15(1); Grinold, R. (1989). J. Portfolio Mgm
 from __future__ import annotations
 
 import math
+from collections.abc import Hashable, Mapping
 
 import numpy as np
 import pandas as pd
 
 from valuesift.core.choices import HacLagRule
-from valuesift.core.correlation.rowwise import masked_spearman, pearson_parts
+from valuesift.core.correlation.ranks import RowSort, ranks_within, row_sort
+from valuesift.core.correlation.rowwise import masked_pearson, masked_spearman, pearson_parts
 from valuesift.core.inference.nonoverlap import headline_block
 from valuesift.core.regression.famamacbeth import slope_from_centred
 
-__all__ = ["ic_by_date", "ic_and_slope", "ic_summary", "rolling_ic", "ROLLING_WINDOWS"]
+__all__ = ["ic_by_date", "ic_and_slope", "rank_ic_grid", "ic_summary", "rolling_ic", "ROLLING_WINDOWS"]
 
 
 #: Windows (in dates) of the rolling mean IC.
@@ -25,7 +27,7 @@ ROLLING_WINDOWS: tuple[int, ...] = (12, 36)
 
 
 def ic_by_date(
-    z: np.ndarray, fwd: np.ndarray, min_breadth: int, z_ranks: np.ndarray | None = None
+    z: np.ndarray, fwd: np.ndarray, min_breadth: int, z_ranks: np.ndarray | RowSort | None = None
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Spearman and Pearson IC per date over names with both a signal and a forward return.
 
@@ -38,7 +40,7 @@ def ic_by_date(
     min_breadth : int
         Dates with fewer usable names get NaN ICs (and are reported by the caller).
     z_ranks : ndarray (D x S), optional
-        ``average_ranks(z)``, computed once and reused across horizons.
+        ``average_ranks(z)`` or ``row_sort(z)``, computed once and reused across horizons.
 
     Returns
     -------
@@ -63,8 +65,45 @@ def ic_by_date(
     return np.where(low, np.nan, rho), np.where(low, np.nan, r), n.astype(int)
 
 
+def rank_ic_grid(
+    signals: Mapping[Hashable, np.ndarray], targets: Mapping[Hashable, np.ndarray], min_breadth: int
+) -> dict[tuple[Hashable, Hashable], np.ndarray]:
+    """``ic_by_date(z, y, min_breadth)[0]`` for every pair of a signal and a target, each array sorted once.
+
+    Parameters
+    ----------
+    signals, targets : mapping of key -> ndarray (D x S)
+        E.g. the signal at several delays, and the forward returns per horizon.
+    min_breadth : int
+
+    Returns
+    -------
+    dict of (signal key, target key) -> ndarray (D,)
+        The rank IC per date, the same numbers as :func:`ic_by_date`.
+
+    Notes
+    -----
+    Each pair's Spearman correlation ranks both arrays over the names they
+    share; :func:`~valuesift.core.correlation.ranks.ranks_within` gets those
+    ranks from one sort per array, so S signals and H targets cost S + H sorts
+    instead of 2 S H.
+    """
+    s_sorts = {k: row_sort(z) for k, z in signals.items()}
+    t_sorts = {k: row_sort(y) for k, y in targets.items()}
+    s_fin = {k: np.isfinite(z) for k, z in signals.items()}
+    t_fin = {k: np.isfinite(y) for k, y in targets.items()}
+    out: dict[tuple[Hashable, Hashable], np.ndarray] = {}
+    for ks in signals:
+        for kt in targets:
+            both = s_fin[ks] & t_fin[kt]
+            n = both.sum(axis=1)
+            rho = masked_pearson(ranks_within(s_sorts[ks], both), ranks_within(t_sorts[kt], both), both, n)
+            out[(ks, kt)] = np.where(n < min_breadth, np.nan, rho)
+    return out
+
+
 def ic_and_slope(
-    z: np.ndarray, fwd: np.ndarray, min_breadth: int, z_ranks: np.ndarray | None
+    z: np.ndarray, fwd: np.ndarray, min_breadth: int, z_ranks: np.ndarray | RowSort | None
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """:func:`ic_by_date` plus the Fama-MacBeth slope without controls, sharing the centred arrays.
 

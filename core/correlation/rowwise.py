@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.correlation.ranks import RowSort, average_ranks, ranks_within
 
 __all__ = ["row_pearson", "masked_pearson", "pearson_parts", "row_spearman", "masked_spearman"]
 
@@ -60,12 +60,14 @@ def pearson_parts(
 
 
 def row_spearman(
-    x: np.ndarray, y: np.ndarray, x_ranks: np.ndarray | None = None
+    x: np.ndarray, y: np.ndarray, x_ranks: np.ndarray | RowSort | None = None
 ) -> tuple[np.ndarray, np.ndarray]:
     """Spearman rank correlation per row: Pearson on average ranks of the common positions.
 
-    ``x_ranks`` (optional) are the average ranks of all finite ``x``; rows where
-    ``y`` is finite wherever ``x`` is reuse them instead of ranking again.
+    ``x_ranks`` (optional) are the average ranks of all finite ``x`` (rows where
+    ``y`` is finite wherever ``x`` is reuse them instead of ranking again), or a
+    :func:`~valuesift.core.correlation.ranks.row_sort` of ``x`` (every row's ranks
+    over the common names from that one sort; the same numbers).
     """
     both = np.isfinite(x) & np.isfinite(y)
     n = both.sum(axis=1)
@@ -73,10 +75,12 @@ def row_spearman(
 
 
 def masked_spearman(
-    x: np.ndarray, y: np.ndarray, both: np.ndarray, n: np.ndarray, x_ranks: np.ndarray | None
+    x: np.ndarray, y: np.ndarray, both: np.ndarray, n: np.ndarray, x_ranks: np.ndarray | RowSort | None
 ) -> np.ndarray:
     """:func:`row_spearman` given the common-finite mask ``both`` and its row counts ``n``."""
-    if x_ranks is None:
+    if isinstance(x_ranks, RowSort):  # one sort of x shared by every y: its ranks over any subset in linear time
+        rx = ranks_within(x_ranks, both)
+    elif x_ranks is None:
         rx = average_ranks(np.where(both, x, np.nan))
     else:
         same = (both == np.isfinite(x)).all(axis=1)

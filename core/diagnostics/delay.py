@@ -12,7 +12,7 @@ import numpy as np
 import pandas as pd
 
 from valuesift.core.choices import HacLagRule
-from valuesift.core.correlation.ic import ic_by_date
+from valuesift.core.correlation.ic import rank_ic_grid
 from valuesift.core.inference.hac import headline_inference
 
 __all__ = ["DELAYS", "delayed_signal", "ic_by_delay"]
@@ -67,10 +67,11 @@ def ic_by_delay(
     universe at ``t`` with both values; dates below the minimum breadth are left out.
     """
     rows = []
+    # every delayed signal and every horizon's returns sorted once (the same ICs as ic_by_date per pair)
+    late = rank_ic_grid({d: delayed_signal(z, universe, d) for d in delays if d != 0}, forward, min_breadth)
     for d in delays:
-        zd = None if d == 0 else delayed_signal(z, universe, d)
-        for h, fwd in forward.items():
-            ric = rank_ic_now[h] if zd is None else ic_by_date(zd, fwd, min_breadth)[0]
+        for h in forward:
+            ric = rank_ic_now[h] if d == 0 else late[(d, h)]
             inf = headline_inference(ric, h, rule)
             rows.append({"delay_months": int(d), "horizon": int(h), "mean_ic": inf["mean"], "ic_t": inf["t"],
                          "n_dates": int(inf["n_dates"])})

@@ -22,9 +22,10 @@ from valuesift.core.intake.tally import Tally
 
 __all__ = ["clean_ids", "Ctx", "CODE_REASON", "NONPOS", "NEGAMT", "NODATE", "NOSEC", "DUP", "POSITIVE_KINDS",
            "find_column", "sample", "number_profile", "number_profiles", "date_profile", "decide_decimal",
-           "frequency", "value_column", "tally_values"]
+           "frequency", "value_column", "tally_values", "stack_columns"]
 
 SAMPLE = 300
+_TEXT = pd.StringDtype("pyarrow", na_value=np.nan)  # the "str" dtype of text cells
 POSITIVE_KINDS = frozenset({"prices", "market_cap", "benchmark"})
 # final status codes of value cells beyond the numbers module's codes
 NONPOS, NEGAMT, NODATE, NOSEC, DUP = 10, 11, 12, 13, 14
@@ -141,13 +142,14 @@ def number_profiles(ctx: Ctx, cols: Sequence[int], decimal: str, k: int = 200) -
     for j in cols:
         c = ctx.col(j)
         if pd.api.types.is_numeric_dtype(c.dtype) or pd.api.types.is_datetime64_any_dtype(c.dtype):
-            out[j] = (0.0, int(c.head(k).notna().sum()))
+            out[j] = (0.0, _present(c, k))  # typed cells need no text profiling
             continue
         pa_arr = getattr(c.array, "_pa_array", None)
         pieces.append((j, pa_arr.slice(0, k) if pa_arr is not None else pa.array(c.head(k).astype("str").fillna("").tolist(), pa.string())))
     if not pieces:
         return out
-    chunks = [ch.cast(pa.large_string()) for _, a in pieces for ch in (a.chunks if isinstance(a, pa.ChunkedArray) else [a])]
+    chunks = [ch if ch.type == pa.large_string() else ch.cast(pa.large_string())
+              for _, a in pieces for ch in (a.chunks if isinstance(a, pa.ChunkedArray) else [a])]
     stacked = pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array(chunks, pa.large_string())))
     owner = np.repeat(np.arange(len(pieces)), [len(a) for _, a in pieces])
     text_heads = pieces
@@ -158,6 +160,40 @@ def number_profiles(ctx: Ctx, cols: Sequence[int], decimal: str, k: int = 200) -
     for t, (j, _) in enumerate(text_heads):
         out[j] = (float(bad[t] / size[t]) if size[t] else 0.0, int(size[t]))
     return out
+
+
+def _present(c: pd.Series, k: int) -> int:
+    """``int(c.head(k).notna().sum())``, on the numpy values for numpy dtypes (per column: microseconds, not a Series)."""
+    if isinstance(c.dtype, np.dtype):
+        v = c.to_numpy()[:k]
+        if v.dtype.kind in "fc":
+            return int(v.size - np.count_nonzero(np.isnan(v)))
+        if v.dtype.kind in "Mm":
+            return int(v.size - np.count_nonzero(np.isnat(v)))
+        if v.dtype.kind in "iub":
+            return int(v.size)
+    return int(c.head(k).notna().sum())
+
+
+def stack_columns(series: Sequence[pd.Series]) -> pd.Series:
+    """The columns one below the other over a fresh 0-based index (``pd.concat`` of their reset copies).
+
+    Columns of one numpy number dtype (every Parquet number column) are joined as arrays: the same
+    values and dtype as the concat, without a Series step per column.
+    """
+    if len(series) == 1:
+        return series[0].reset_index(drop=True)
+    dt = series[0].dtype
+    if isinstance(dt, np.dtype) and dt.kind in "fiu" and all(s.dtype == dt for s in series):
+        return pd.Series(np.concatenate([s.to_numpy() for s in series]))
+    if dt == _TEXT and all(s.dtype == _TEXT and hasattr(s.array, "_pa_array") for s in series):
+        # Arrow text columns (a wide CSV): one Arrow array of all their cells, the concat's values and dtype
+        import pyarrow as pa
+
+        chunks = [ch.cast(pa.large_string()) if ch.type != pa.large_string() else ch
+                  for s in series for ch in s.array._pa_array.chunks]
+        return pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array([pa.concat_arrays(chunks)]), dtype=_TEXT))
+    return pd.concat(series, ignore_index=True)
 
 
 def date_profile(s: pd.Series, allow_serial: bool) -> float:
@@ -175,8 +211,24 @@ def decide_decimal(ctx: Ctx, cols: Sequence[int]) -> tuple[str, str]:
     texts = [ctx.col(j) for j in cols[:200] if not pd.api.types.is_numeric_dtype(ctx.col(j).dtype)]
     if not texts:
         return "point", "numbers stored as numbers"
-    smp = pd.concat([sample(t, 40) for t in texts], ignore_index=True)
+    smp = _samples(texts, 40)
     return detect_decimal(smp.astype("str").tolist(), ctx.grid.delimiter)
+
+
+def _samples(texts: Sequence[pd.Series], k: int) -> pd.Series:
+    """``pd.concat([sample(t, k) for t in texts], ignore_index=True)``; text columns trimmed in one pass."""
+    if len(texts) < 2 or not all(t.dtype == _TEXT for t in texts):
+        return pd.concat([sample(t, k) for t in texts], ignore_index=True)
+    heads = [t.head(20 * k) for t in texts]
+    allh = pd.concat(heads, ignore_index=True).fillna("").str.strip()
+    owner = np.repeat(np.arange(len(heads)), [len(h) for h in heads])
+    keep = (allh != "").to_numpy(dtype=bool, na_value=False)
+    kept_owner = owner[keep]
+    # position of each kept cell among its column's kept cells (columns are contiguous, in order)
+    starts = np.searchsorted(kept_owner, np.arange(len(heads)))
+    rank = np.arange(kept_owner.size) - starts[kept_owner]
+    pick = np.flatnonzero(keep)[rank < k]
+    return allh.iloc[pick].reset_index(drop=True)
 
 
 def frequency(dates: np.ndarray) -> str | None:

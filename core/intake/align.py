@@ -82,9 +82,12 @@ def align_to_months(data: pd.DataFrame, calendar: pd.DatetimeIndex, *, staleness
     if data.empty or len(calendar) == 0:
         return AlignResult(pd.DataFrame(np.nan, index=calendar, columns=cols), pd.DataFrame(False, index=calendar, columns=cols), 0, 0, 0)
     dates = data["date"].to_numpy(dtype="datetime64[ns]")
-    month = dates.astype("datetime64[M]")
     cal_m = calendar.to_numpy(dtype="datetime64[ns]").astype("datetime64[M]")
-    m_idx = (month - cal_m[0]).astype(np.int64)
+    # calendar arithmetic once per distinct date (a month-end file repeats each date for every security)
+    d_code, d_uniq = pd.factorize(dates.view(np.int64))
+    du = np.asarray(d_uniq, dtype=np.int64).view("datetime64[ns]")
+    mu = (du.astype("datetime64[M]") - cal_m[0]).astype(np.int64)
+    m_idx = mu[d_code]
     inside = (m_idx >= 0) & (m_idx < len(calendar))
     outside = int((~inside).sum())
     sc = sec_codes.astype(np.int64)
@@ -99,8 +102,9 @@ def align_to_months(data: pd.DataFrame, calendar: pd.DatetimeIndex, *, staleness
     last[:-1] = ko[:-1] != ko[1:]
     pick = order[last & inside[order]]
     superseded = int(inside.sum() - pick.size)
-    me = (cal_m[m_idx[pick]] + np.timedelta64(1, "M")).astype("datetime64[D]") - np.timedelta64(1, "D")
-    age = (me - dates[pick].astype("datetime64[D]")).astype(np.int64)
+    me_u = (cal_m[np.clip(mu, 0, len(calendar) - 1)] + np.timedelta64(1, "M")).astype("datetime64[D]") - np.timedelta64(1, "D")
+    age_u = (me_u - du.astype("datetime64[D]")).astype(np.int64)  # used only for dates inside the calendar
+    age = age_u[d_code[pick]]
     stale_pick = age > staleness_days if frequency not in LOW_FREQUENCIES else np.zeros(pick.size, dtype=bool)
     # map the data's security codes to the requested columns
     col_pos = cols.get_indexer(pd.Index(np.asarray(uniq, dtype=object), dtype="str"))

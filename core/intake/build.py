@@ -111,7 +111,7 @@ def _build(files: Sequence[ParsedFile], o: PanelOptions) -> Panel:
     if ef is not None:
         ea = align_to_months(ef.data, cal, staleness_days=o.staleness_days, frequency=ef.report.frequency)
         _note_align(ef, ea.superseded, ea.n_stale, ea.outside, align_rows)
-        _note_unknown(ef, set(ef.data["security"]) - set(secs), "earnings rows", notes, align_rows, len_of=ef.data)
+        _note_unknown(ef, set(ef.data["security"].unique()) - set(secs), "earnings rows", notes, align_rows, len_of=ef.data)
         eps = ea.values.reindex(columns=secs)
         if ef.report.value_form == "pe":
             pe = eps
@@ -169,13 +169,13 @@ def _build(files: Sequence[ParsedFile], o: PanelOptions) -> Panel:
     if mf is not None:
         ma = align_to_months(mf.data, cal, staleness_days=o.staleness_days, frequency=mf.report.frequency)
         _note_align(mf, ma.superseded, ma.n_stale, ma.outside, align_rows)
-        _note_unknown(mf, set(mf.data["security"]) - set(secs), "market-cap rows", notes, align_rows, len_of=mf.data)
+        _note_unknown(mf, set(mf.data["security"].unique()) - set(secs), "market-cap rows", notes, align_rows, len_of=mf.data)
         mcap = ma.values.reindex(columns=secs)
     signals = []
     for sf in by.get("signal", []):
         sa = align_to_months(sf.data, cal, staleness_days=o.staleness_days, frequency=sf.report.frequency)
         _note_align(sf, sa.superseded, sa.n_stale, sa.outside, align_rows)
-        _note_unknown(sf, set(sf.data["security"]) - set(secs), "signal rows", notes, align_rows, len_of=sf.data)
+        _note_unknown(sf, set(sf.data["security"].unique()) - set(secs), "signal rows", notes, align_rows, len_of=sf.data)
         nm = sf.options.signal_name or os.path.splitext(os.path.basename(sf.name))[0]
         signals.append(UserSignal(nm, sa.values.reindex(columns=secs), sf.options.higher_is_cheaper))
 
@@ -219,7 +219,7 @@ def _dividends(frame: pd.DataFrame | None, f: ParsedFile | None, secs: pd.Index,
                notes: list[str], rows: list[tuple[str, str, int]], o: PanelOptions) -> pd.DataFrame | None:
     if frame is None or f is None:
         return None
-    unknown = set(frame["security"]) - set(secs)
+    unknown = set(frame["security"].unique()) - set(secs)
     _note_unknown(f, unknown, "dividends", notes, rows, len_of=frame)
     d = frame[frame["security"].isin(secs)].copy()
     me = month_end_index(d["ex_date"])
@@ -270,7 +270,7 @@ def _sectors(f: ParsedFile | None, secs: pd.Index, notes: list[str], rows: list[
     if f is None:
         return None
     d = f.data
-    _note_unknown(f, set(d["security"]) - set(secs), "sector rows", notes, rows, len_of=d)
+    _note_unknown(f, set(d["security"].unique()) - set(secs), "sector rows", notes, rows, len_of=d)
     s = d[d["security"].isin(secs)].set_index("security")["sector"].astype("str")
     s.index.name = "security"
     missing = sorted(set(secs) - set(s.index))

@@ -8,7 +8,7 @@ import pandas as pd
 from valuesift.core.intake.options import PanelOptions
 from valuesift.core.intake.report import FileReport
 
-__all__ = ["security_table", "longest_flat_run", "SECURITY_FLAGS"]
+__all__ = ["security_table", "longest_flat_run", "longest_flat_runs", "SECURITY_FLAGS"]
 
 
 #: The security flag codes a report lists, in the order it lists them (the app holds their words).
@@ -24,15 +24,39 @@ def longest_flat_run(values: np.ndarray) -> int:
     >>> longest_flat_run(np.array([1.0, 2, 2, 2, np.nan, 3]))
     3
     """
-    v = values[np.isfinite(values)]
-    if v.size == 0:
-        return 0
-    same = np.concatenate([[False], v[1:] == v[:-1]])
-    best = run = 1
-    for s in same[1:]:
-        run = run + 1 if s else 1
-        best = max(best, run)
-    return int(best)
+    return int(longest_flat_runs(np.asarray(values, dtype=float).reshape(-1, 1))[0])
+
+
+def longest_flat_runs(values: np.ndarray) -> np.ndarray:
+    """:func:`longest_flat_run` of every column of a (dates x securities) array at once (int64 per column).
+
+    Notes
+    -----
+    The finite values of each column, in date order, are laid end to end; a run
+    starts wherever a value differs from the one before it or a new column begins;
+    each column's answer is its longest run (0 for a column without finite values).
+
+    Examples
+    --------
+    >>> longest_flat_runs(np.array([[1.0, 5], [2, 5], [2, np.nan], [2, 5]])).tolist()
+    [3, 3]
+    """
+    v = np.asarray(values, dtype=float)
+    n = v.shape[1]
+    out = np.zeros(n, dtype="int64")
+    fin = np.isfinite(v).T
+    vals = v.T[fin]  # column by column, dates in order
+    if vals.size == 0:
+        return out
+    col = np.repeat(np.arange(n), fin.sum(axis=1))
+    new = np.ones(vals.size, dtype=bool)
+    new[1:] = (vals[1:] != vals[:-1]) | (col[1:] != col[:-1])
+    starts = np.flatnonzero(new)
+    lengths = np.diff(np.append(starts, vals.size))
+    run_col = col[starts]
+    cols, first = np.unique(run_col, return_index=True)
+    out[cols] = np.maximum.reduceat(lengths, first)
+    return out
 
 
 def security_table(prices: pd.DataFrame, stale: pd.DataFrame, eps: pd.DataFrame | None, splits: pd.DataFrame,
@@ -63,7 +87,7 @@ def security_table(prices: pd.DataFrame, stale: pd.DataFrame, eps: pd.DataFrame 
     span = np.where(any_ok, last_i - first_i + 1, 0)
     n_gaps = (span - n_valid).astype("int64")
     stale_months = stale.reindex(columns=prices.columns).fillna(False).to_numpy(dtype=bool).sum(axis=0).astype("int64")
-    flat = np.array([longest_flat_run(v[:, j]) for j in range(v.shape[1])], dtype="int64")
+    flat = longest_flat_runs(v)
     split_date = np.full(len(prices.columns), np.datetime64("NaT"), dtype="datetime64[ns]")
     split_ratio = np.full(len(prices.columns), np.nan)
     flags: list[list[str]] = [[] for _ in range(len(prices.columns))]
@@ -88,8 +112,12 @@ def security_table(prices: pd.DataFrame, stale: pd.DataFrame, eps: pd.DataFrame 
         if stale_months[k] > 0 or flat[k] >= options.flat_run_months:
             flags[k].append("stale")
     out = pd.DataFrame(index=pd.Index(prices.columns, name="security"))
-    out["first_valid"] = pd.Series([cal[i] if i >= 0 else pd.NaT for i in first_i], index=out.index, dtype="datetime64[ns]")
-    out["last_valid"] = pd.Series([cal[i] if i >= 0 else pd.NaT for i in last_i], index=out.index, dtype="datetime64[ns]")
+    cal_ns = np.asarray(cal, dtype="datetime64[ns]")
+    nat = np.datetime64("NaT", "ns")
+    first_d = np.where(first_i >= 0, cal_ns[np.maximum(first_i, 0)], nat) if n else np.full(first_i.shape, nat)
+    last_d = np.where(last_i >= 0, cal_ns[np.maximum(last_i, 0)], nat) if n else np.full(last_i.shape, nat)
+    out["first_valid"] = pd.Series(first_d, index=out.index, dtype="datetime64[ns]")
+    out["last_valid"] = pd.Series(last_d, index=out.index, dtype="datetime64[ns]")
     out["n_valid"] = n_valid.astype("int64")
     out["coverage"] = n_valid / n if n else 0.0
     out["n_gaps"] = n_gaps
@@ -111,8 +139,9 @@ def security_table(prices: pd.DataFrame, stale: pd.DataFrame, eps: pd.DataFrame 
         out["max_abs_pe"] = mx
         has_e = np.isfinite(e).any(axis=0)
         neg = (np.nan_to_num(e, nan=0.0) < 0).any(axis=0)
+        ext_any = ext.any(axis=0)
         for k in range(len(out)):
-            if ext[:, k].any():
+            if ext_any[k]:
                 flags[k].append("extreme_pe")
             if neg[k]:
                 flags[k].append("negative_earnings")

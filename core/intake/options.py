@@ -5,7 +5,7 @@ from __future__ import annotations
 import codecs
 import re
 from dataclasses import dataclass
-from typing import Any, get_args
+from typing import get_args
 
 from valuesift.core.choices import DateOrder, DecimalStyle, DuplicateRule, EarningsForm, FileKind, IdCleanup, Layout
 from valuesift.core.errors import ConfigError
@@ -119,6 +119,68 @@ class ReadOptions:
 MAX_ID_REGEX_CHARS = 200
 
 
+def _nested_repeat(pattern: str) -> bool:
+    """True when a repeated group (``(...)*``, ``(...)+``, ``(...){2,}``) holds a repeat itself.
+
+    A plain scan of the pattern text (escapes and character classes skipped), so that no
+    private part of the standard library's parser is needed.
+    """
+    stack: list[bool] = [False]  # per open group: does it hold a repeat?
+    i, n = 0, len(pattern)
+
+    def quantifier_at(k: int) -> int:
+        """Length of a variable repeat (``*``, ``+``, ``{m,}``, ``{m,n}`` with n > m) at ``k``, else 0."""
+        if k < n and pattern[k] in "*+":
+            return 1
+        if k < n and pattern[k] == "{":
+            close = pattern.find("}", k)
+            body = pattern[k + 1:close] if close > 0 else ""
+            parts = body.split(",")
+            if close > 0 and len(parts) == 2 and parts[0].strip().isdigit() and (
+                    parts[1].strip() == "" or parts[1].strip().isdigit()):
+                lo, hi = int(parts[0]), parts[1].strip()
+                if hi == "" or int(hi) > max(lo, 1):  # a variable count; a fixed {m} cannot backtrack
+                    return close - k + 1
+        return 0
+
+    while i < n:
+        ch = pattern[i]
+        if ch == "\\":
+            i += 2
+            if quantifier_at(i):
+                stack[-1] = True
+            continue
+        if ch == "[":
+            j = i + 1
+            if j < n and pattern[j] == "^":
+                j += 1
+            if j < n and pattern[j] == "]":
+                j += 1
+            while j < n and pattern[j] != "]":
+                j += 2 if pattern[j] == "\\" else 1
+            i = j + 1
+            if quantifier_at(i):
+                stack[-1] = True
+            continue
+        if ch == "(":
+            stack.append(False)
+            i += 1
+            continue
+        if ch == ")" and len(stack) > 1:
+            inner = stack.pop()
+            i += 1
+            q = quantifier_at(i)
+            if q and inner:
+                return True
+            if q or inner:
+                stack[-1] = True
+            continue
+        i += 1
+        if quantifier_at(i):
+            stack[-1] = True
+    return False
+
+
 def _check_regex_cost(pattern: str) -> None:
     """Refuse an identifier pattern that could take exponential time (a repeat inside a repeat, such as ``(a+)+``).
 
@@ -129,33 +191,7 @@ def _check_regex_cost(pattern: str) -> None:
     if len(pattern) > MAX_ID_REGEX_CHARS:
         raise ConfigError(f"Setting id_regex is {len(pattern)} characters long, above the limit of {MAX_ID_REGEX_CHARS}.",
                           hint="An identifier pattern is usually short, such as ([A-Z]{2}[0-9]+).")
-    try:
-        from re import _parser as sre_parse  # the standard library's own parser of the pattern
-    except ImportError:  # pragma: no cover - older Pythons
-        return
-    repeats = {sre_parse.MAX_REPEAT, sre_parse.MIN_REPEAT}
-    repeats |= {getattr(sre_parse, "POSSESSIVE_REPEAT")} if hasattr(sre_parse, "POSSESSIVE_REPEAT") else set()
-
-    def walk(items: Any, inside: bool) -> bool:
-        for op, av in items:
-            if op in repeats:
-                lo, hi, sub = av
-                if inside and hi != 1:
-                    return True
-                if walk(sub, inside or hi > 1):
-                    return True
-            elif op is sre_parse.SUBPATTERN:
-                if walk(av[-1], inside):
-                    return True
-            elif op is sre_parse.BRANCH:
-                if any(walk(b, inside) for b in av[1]):
-                    return True
-            elif op in (sre_parse.ASSERT, sre_parse.ASSERT_NOT):
-                if walk(av[1], inside):
-                    return True
-        return False
-
-    if walk(sre_parse.parse(pattern), False):
+    if _nested_repeat(pattern):
         raise ConfigError(f"Setting id_regex={pattern!r} repeats a group that itself repeats, which can take "
                           "minutes on one long identifier.",
                           hint="Remove the inner or the outer repeat, for example write ([A-Z]+) instead of ([A-Z]+)+.")

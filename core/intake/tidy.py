@@ -20,7 +20,7 @@ from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake import numbers as nb
 from valuesift.core.intake._common import (
     DUP, NEGAMT, NODATE, NONPOS, NOSEC, POSITIVE_KINDS, Ctx, clean_ids, date_profile, decide_decimal,
-    find_column, frequency, number_profiles, tally_values, value_column,
+    find_column, frequency, number_profiles, stack_columns, tally_values, value_column,
 )
 from valuesift.core.intake.dates import parse_dates
 from valuesift.core.intake.kinds import guess_kind, infer_earnings_form
@@ -223,7 +223,7 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
     date_ok = (dres.status == 0) & ~future
 
     # values
-    stacked = pd.concat([ctx.col(j).reset_index(drop=True) for j in vcols], ignore_index=True) if len(vcols) > 1 else ctx.col(vcols[0]).reset_index(drop=True)
+    stacked = stack_columns([ctx.col(j) for j in vcols])
     if vcols != rest:
         decimal, dec_reason = decide_decimal(ctx, vcols)
     ctx.notes.append(f"decimal {decimal}: {dec_reason}")

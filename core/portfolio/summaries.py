@@ -14,7 +14,7 @@ import math
 import numpy as np
 import pandas as pd
 
-from valuesift.core.inference.hac import mean_inference
+from valuesift.core.inference.hac import headline_inference, mean_inference
 from valuesift.core.inference.sharpe import sharpe_ratio_se, sharpe_ratio_t
 
 __all__ = ["sharpe_inference", "cohort_summary", "drawdown_summary", "DRAWDOWN_DEPTH"]
@@ -64,12 +64,13 @@ def cohort_summary(excess: pd.Series, holding_months: int) -> pd.Series:
     Notes
     -----
     ``t_naive = mean / (sd / sqrt(n))`` treats the cohorts as independent, which overlapping
-    cohorts are not; ``t_hac`` uses Newey-West with ``holding_months - 1`` lags (Hansen &
+    cohorts are not; ``t_hac`` is the headline t with ``holding_months - 1`` lags (Hansen &
     Hodrick 1980).
     """
     ex = pd.to_numeric(excess, errors="coerce")
     ex = ex[np.isfinite(ex.to_numpy(dtype=float))]
     inf = mean_inference(ex.to_numpy(dtype=float), max(int(holding_months) - 1, 0))
+    head = headline_inference(ex.to_numpy(dtype=float), max(int(holding_months), 1), "overlap")
     n = int(ex.size)
     beat = int((ex > 0).sum())
     return pd.Series({
@@ -79,8 +80,8 @@ def cohort_summary(excess: pd.Series, holding_months: int) -> pd.Series:
         "mean_excess": inf["mean"],
         "sd_excess": inf["sd"],
         "t_naive": inf["t_naive"],
-        "t_hac": inf["t_hac"],
-        "hac_lags": inf["hac_lags"],
+        "t_hac": head["t"],
+        "hac_lags": float(head["lags"]),
         "best_formed": ex.idxmax() if n else pd.NaT,
         "best_excess": float(ex.max()) if n else math.nan,
         "worst_formed": ex.idxmin() if n else pd.NaT,

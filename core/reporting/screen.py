@@ -24,7 +24,7 @@ STALE_EPS_MONTHS = 12
 
 #: The screen's flag codes, in the order they are listed (the app holds their words).
 SCREEN_FLAGS: tuple[str, ...] = ("outside_universe", "eps_not_positive", "stale_price", "old_eps", "no_quantile",
-                                 "no_signal")
+                                 "no_signal", "signal_not_meaningful")
 
 SINGLE_NAME_CAUTION = (
     "A single security's signal against its own later returns is a noisy relation: "
@@ -89,6 +89,8 @@ def screen_table(result: "StudyResult", date: object | None = None) -> pd.DataFr
     uni = result.universe.iloc[i].to_numpy(dtype=bool)
     info = result.security_info.reindex(secs)
     eps_now = _row_at(result.eps_used, i, n)
+    aside = (_row_at(result.signal_set_aside.astype(float), i, n) > 0 if len(result.signal_set_aside)
+             else np.zeros(n, dtype=bool))
     with np.errstate(invalid="ignore"):
         hits = [
             ~uni,
@@ -96,7 +98,8 @@ def screen_table(result: "StudyResult", date: object | None = None) -> pd.DataFr
             np.isfinite(pa) & (pa >= STALE_MONTHS),
             np.isfinite(ea) & (ea >= STALE_EPS_MONTHS),
             uni & ~np.isfinite(q),
-            ~np.isfinite(raw),
+            ~np.isfinite(raw) & ~aside,
+            aside,
         ]
     joined = np.full(n, "", dtype=object)
     for code, hit in zip(SCREEN_FLAGS, hits):

@@ -38,7 +38,11 @@ def summary_dict(result: "StudyResult") -> dict[str, Any]:
         ``monotonicity``, ``fm_slope``, ``fm_t`` (headline, method in ``fm_se_method``).
         Top level ``warnings``: a list of ``{"code", "message", ...}``.  Each backtest
         portfolio has ``hit_rate_against`` (``"zero"``, ``"universe"``, ``"benchmark"``
-        or ``"none"``).  NaN becomes ``None``.
+        or ``"none"``); the cheapest quantile and the long-short carry a ``relative`` block
+        (``active_return_ann, tracking_error_ann, information_ratio, information_ratio_residual,
+        beta, beta_t, alpha_ann, alpha_t, comparison, ...``; see ``StudyResult.relative``).
+        Top level ``decay`` (``half_life_months, rank_autocorrelation_1m, ...``) and
+        ``period_difference`` (per horizon).  NaN becomes ``None``.
     """
     out: dict[str, Any] = {"config": result.config.to_dict(), "signal": result.signal_name, "horizons": {}}
     ic, sp, fm = result.ic_summary, result.spread_summary, result.fm_summary
@@ -83,6 +87,26 @@ def summary_dict(result: "StudyResult") -> dict[str, Any]:
                            "hit_rate_against": result.backtest.hit_rate_against.get(str(p), "none")}
                        for p in st.index},
     }
+    rel = getattr(result, "relative", None)
+    if rel is not None and not rel.empty:
+        for p in rel.index:
+            if p in out["backtest"]["portfolios"]:
+                out["backtest"]["portfolios"][p]["relative"] = _jsonable(
+                    {k: (bool(v) if isinstance(v, (bool, np.bool_)) else v) for k, v in rel.loc[p].to_dict().items()})
+    facts = getattr(result, "decay_facts", None)
+    if facts is not None and len(facts):
+        out["decay"] = _jsonable({str(k): float(v) for k, v in facts.items()})
+    cw = getattr(result, "cap_weighted", None)
+    if cw is not None and not cw.empty:
+        out["cap_weighted"] = {str(int(r["horizon"])): _jsonable({k: (bool(v) if isinstance(v, (bool, np.bool_)) else v)
+                                                                 for k, v in r.items() if k != "horizon"})
+                               for r in cw.to_dict("records")}
+    pdiff = getattr(result, "period_difference", None)
+    if pdiff is not None and not pdiff.empty:
+        out["period_difference"] = {str(int(r["horizon"])): _jsonable({k: (bool(v) if isinstance(v, (bool, np.bool_))
+                                                                            else v) for k, v in r.items()
+                                                                       if k != "horizon"})
+                                    for r in pdiff.to_dict("records")}
     # The same per-horizon blocks also sit at the top level under their horizon
     # key ("1", "3", ...), so ``summary["12"]["mean_ic"]`` works as documented in README.
     for key, block in out["horizons"].items():

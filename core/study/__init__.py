@@ -16,6 +16,8 @@ Pipeline (:func:`run_study`, steps in :mod:`valuesift.core.study.steps`)
 5. ``core.reporting.screen``: the screen table for the latest date.
 6. :mod:`valuesift.core.study.derived`: the fields derived for display (fitted lines, bands,
    rolling spread, Sharpe t, cohort and drawdown records, coverage).
+7. :mod:`valuesift.core.study.stability`: relative to the comparison, by period, regime and sector,
+   decay, Fama-MacBeth with controls, cap-weighted view.
 """
 
 from __future__ import annotations
@@ -32,6 +34,7 @@ from valuesift.core.reporting.screen import screen_table
 from valuesift.core.reporting.summary import ic_by_date_frame, summary_dict
 from valuesift.core.result import StudyResult
 from valuesift.core.study.derived import derived_fields
+from valuesift.core.study.stability import stability_fields
 from valuesift.core.study.steps import compute_study
 
 __all__ = ["StudyConfig", "StudyResult", "run_study", "summary_dict", "ic_by_date_frame", "BUILTIN_SIGNALS"]
@@ -41,6 +44,8 @@ def run_study(
     panel: Panel,
     config: StudyConfig,
     progress: Callable[[str, float], None] | None = None,
+    *,
+    detail: bool = True,
 ) -> StudyResult:
     """Run a full study of ``config.signal`` on ``panel``.
 
@@ -52,6 +57,10 @@ def run_study(
         Validated settings.
     progress : callable(stage: str, fraction: float), optional
         Called at the start of each stage with the fraction done (0..1).
+    detail : bool, default True
+        False leaves out the fields that only the study's own pages and report read (the screen, the
+        derived display fields and the stability fields of :mod:`valuesift.core.study.stability`):
+        a comparison of several signals uses it.  Every other number is the same either way.
 
     Returns
     -------
@@ -83,8 +92,12 @@ def run_study(
         raise ConfigError("run_study needs a Panel.", hint="Build one with intake or core.panel.Panel(...).")
     fields = compute_study(panel, config, progress)
     res = StudyResult(config=config, screen=pd.DataFrame(), **fields)
-    res = replace(res, screen=screen_table(res))
-    res = replace(res, **derived_fields(res, panel))
+    if detail:
+        res = replace(res, screen=screen_table(res))
+        res = replace(res, **derived_fields(res, panel))
+        if progress is not None:
+            progress("stability, decay and controls", 0.97)
+        res = replace(res, **stability_fields(res, panel))
     if progress is not None:
         progress("done", 1.0)
     return res

@@ -16,10 +16,11 @@ from valuesift.core.arrays import row_mean
 from valuesift.core.correlation.ic import (
     ic_and_slope,
     ic_by_date,
+    rank_ic_grid,
     ic_summary,
     rolling_ic,
 )
-from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.correlation.ranks import row_sort
 from valuesift.core.diagnostics.delay import DELAYS, delayed_signal, ic_by_delay
 from valuesift.core.diagnostics.warnings import input_warnings, lookahead_warnings
 from valuesift.core.errors import ConfigError, InsufficientDataError
@@ -140,22 +141,28 @@ def _lag(panel: Panel, cfg: "StudyConfig") -> int:
     return 0 if panel.eps_dated_by_availability else cfg.reporting_lag_months
 
 
-def _signal(panel: Panel, cfg: "StudyConfig", u0: np.ndarray) -> tuple[RawSignal, int]:
-    """The studied signal (oriented) and how many values of 0 or below were set aside."""
+def _signal(panel: Panel, cfg: "StudyConfig", u0: np.ndarray) -> tuple[RawSignal, np.ndarray, list[str]]:
+    """The studied signal (oriented), the cells set aside as not meaningful, and notes on what was done."""
     lag = _lag(panel, cfg)
-    if cfg.signal != "composite":
-        rs, n_aside = orient_lower_is_cheaper(raw_signal(panel, cfg.signal, lag, cfg.eps_max_age_months),
-                                              cfg.nonpositive_lower_is_cheaper, u0)
-        return rs, n_aside
+    names = (cfg.signal,) if cfg.signal != "composite" else cfg.composite_of
+    aside = np.zeros(u0.shape, dtype=bool)
+    notes: list[str] = []
     parts = []
-    total = 0
-    for name in cfg.composite_of:
-        rs, n_aside = orient_lower_is_cheaper(raw_signal(panel, name, lag, cfg.eps_max_age_months),
-                                              cfg.nonpositive_lower_is_cheaper, u0)
-        total += n_aside
+    for name in names:
+        raw = raw_signal(panel, name, lag, cfg.eps_max_age_months)
+        rs, _ = orient_lower_is_cheaper(raw, cfg.nonpositive_lower_is_cheaper, u0)
+        if raw.sign < 0:
+            with np.errstate(invalid="ignore"):
+                aside |= u0 & np.isfinite(raw.values) & ~np.isfinite(rs.values)
+            notes.append(f"The signal {name!r} is lower-is-cheaper: " + (
+                "it is studied as its reciprocal (higher = cheaper; values of 0 or below keep their order and rank "
+                "dearest)." if cfg.nonpositive_lower_is_cheaper == "reciprocal" else
+                "its values of 0 or below are not meaningful and are set aside (not ranked; flagged on the screen)."))
+        if cfg.signal != "composite":
+            return rs, aside, notes
         cl = clean_values(rs.values, u0, cfg.outlier_rule, cfg.winsor_percentiles, cfg.robust_z_limit)
         parts.append(standardise(cl, rs.sign, cfg.zscore_method))
-    return RawSignal("composite", composite_zmean(parts), 1.0), total
+    return RawSignal("composite", composite_zmean(parts), 1.0), aside, notes
 
 
 def _earnings_file(panel: Panel) -> Any:
@@ -231,7 +238,9 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
                                     f"universe filter ({cfg.universe!r}, minimum history {cfg.min_history_months} "
                                     "months)", "none", hint="Widen the universe filter or lower min_history_months.")
     tick("signals", 0.1)
-    sig, n_set_aside = _signal(panel, cfg, u0)
+    sig, set_aside, sig_notes = _signal(panel, cfg, u0)
+    notes.extend(sig_notes)
+    n_set_aside = int(set_aside.sum())
     universe = u0 & np.isfinite(sig.values)
     if not universe.any():
         raise InsufficientDataError(f"the signal {cfg.signal!r}", "at least one universe name with a signal value",
@@ -281,7 +290,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     ric = np.full((t_len, len(hcols)), np.nan)
     pic = np.full_like(ric, np.nan)
     brd = np.zeros((t_len, len(hcols)), dtype=int)
-    zranks = average_ranks(zeval)  # ranked once, shared by every horizon
+    zranks = row_sort(zeval)  # sorted once: every horizon ranks its own names from it (same numbers)
     # Without Fama-MacBeth controls the slope comes from the IC's own centred arrays (same numbers).
     fm_plain = not (cfg.fm_log_market_cap or cfg.fm_sector_dummies)
 
@@ -306,11 +315,13 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     h0 = min(cfg.horizons)
     drop_t: dict[int, float] = {}
     persistence: dict[int, float] = {}
+    # each delayed signal and both targets sorted once (rank_ic_grid: the same ICs as ic_by_date per pair)
+    late = rank_ic_grid({d: delayed_signal(zeval, universe, d) for d in DELAYS[1:]},
+                        {"h0": fwd[h0], "now": np.where(universe, zeval, np.nan)}, cfg.min_breadth)
     for d in DELAYS[1:]:
-        zd = delayed_signal(zeval, universe, d)
-        ric_d = ic_by_date(zd, fwd[h0], cfg.min_breadth)[0]
+        ric_d = late[(d, "h0")]
         # how much of the signal's ranking survives d months: the IC may fall that much without any look-ahead
-        rho_d = ic_by_date(zd, np.where(universe, zeval, np.nan), cfg.min_breadth)[0]
+        rho_d = late[(d, "now")]
         with np.errstate(invalid="ignore"):
             persistence[d] = float(np.nanmean(rho_d)) if np.isfinite(rho_d).any() else float("nan")
         drop_t[d] = float(headline_inference(ric_by_h[h0] * persistence[d] - ric_d, h0, cfg.hac_lag_rule)["t"])
@@ -390,8 +401,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
         eps_age = months_since_valid(np.isfinite(stamped))
     sec_lab = [sector_names[c] for c in codes] if panel.sectors is not None else [NO_SECTOR] * n_sec
     hold = panel.holdings.reindex(secs).to_numpy(dtype=float) if panel.holdings is not None else np.full(n_sec, np.nan)
-    notes.append("Standard errors: Hansen-Hodrick (every overlap lag weighted fully) for horizons above one "
-                 "month, Newey-West for one month; the Bartlett figure is kept beside it (see the methodology).")
+    notes.append("Standard errors: Hansen-Hodrick above one month, Newey-West at one month (see the methodology).")
     uses_eps = cfg.signal == "earnings_yield" or (cfg.signal == "composite" and "earnings_yield" in cfg.composite_of)
     efile = _earnings_file(panel)
     ey_u = None
@@ -446,5 +456,6 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
         "date_notes": date_notes,
         "notes": tuple(notes),
         "ic_by_delay": delay_tab,
+        "signal_set_aside": _frame(set_aside, dates, secs),
         "warnings": tuple(warns),
     }

@@ -131,6 +131,8 @@ class SweepGrid:
     dimensions: tuple[str, ...]
     horizons: tuple[int, ...]
     points: tuple[GridPoint, ...]
+    #: Combinations of the grid that repeated a configuration already in it (counted once, left out).
+    duplicates: int = 0
 
     @property
     def n_tests(self) -> int:
@@ -222,6 +224,7 @@ def parse_grid(data: dict[str, Any], source: str = "grid") -> SweepGrid:
                    "Vary fewer settings at once or split the grid into several files.")
     points: list[GridPoint] = []
     seen: set[str] = set()
+    dup = 0
     for combo in itertools.product(*(settings_of[d] for d in dims)):
         merged: dict[str, Any] = {**base_cfg.to_dict(), "horizons": list(horizons)}
         for _, s in combo:
@@ -233,11 +236,12 @@ def parse_grid(data: dict[str, Any], source: str = "grid") -> SweepGrid:
             raise _err(source, f"[vary] combination {where}", err.message, err.hint or "Change one of these values.") from err
         cid = config_id(cfg)
         if cid in seen:
+            dup += 1
             continue
         seen.add(cid)
         points.append(GridPoint(cid, cfg, tuple((d, lab) for d, (lab, _) in zip(dims, combo))))
     name = meta.get("name", Path(source).stem) if isinstance(meta, dict) else Path(source).stem
-    return SweepGrid(str(name), source, tuple(dims), horizons, tuple(points))
+    return SweepGrid(str(name), source, tuple(dims), horizons, tuple(points), duplicates=dup)
 
 
 def _listify(s: dict[str, Any]) -> dict[str, Any]:

@@ -41,6 +41,7 @@ def save_sweep(result: SweepResult, out_dir: str | os.PathLike[str]) -> list[Pat
         "input_key": result.input_key, "n_points": result.n_points, "n_failed": result.n_failed,
         "n_tests": result.n_tests, "computed": result.computed, "reused": result.reused,
         "statement": result.statement, "configs": result.configs,
+        "duplicates": result.duplicates, "holdout": result.holdout,
     }
     meta.write_text(json.dumps(doc, indent=2, sort_keys=True, default=str) + "\n", encoding="utf-8")
     return [csv, pq, meta]
@@ -63,4 +64,5 @@ def load_sweep(directory: str | os.PathLike[str]) -> SweepResult:
                           hint=f"Point to the --out folder of 'valuesift sweep' (it holds {META_JSON} "
                                f"and {TABLE_PARQUET}).") from err
     return SweepResult(str(doc["name"]), tuple(doc["dimensions"]), tuple(int(h) for h in doc["horizons"]), table,
-                       dict(doc["configs"]), str(doc["input_key"]), int(doc["computed"]), int(doc["reused"]))
+                       dict(doc["configs"]), str(doc["input_key"]), int(doc["computed"]), int(doc["reused"]),
+                       duplicates=int(doc.get("duplicates", 0)), holdout=doc.get("holdout"))

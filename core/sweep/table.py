@@ -11,14 +11,23 @@ from scipy import stats as _st
 
 from valuesift.core.multiple_testing.adjust import ALPHA, adjust_pvalues, two_sided_p
 
-__all__ = ["comparison_table", "METRIC_COLUMNS"]
+__all__ = ["comparison_table", "METRIC_COLUMNS", "OOS_COLUMNS"]
 
 
 #: Numeric columns per (grid point, horizon), in table order (after the adjusted ones are added).
 METRIC_COLUMNS: tuple[str, ...] = (
     "mean_ic", "ic_t", "ic_p", "ic_p_bh", "ic_p_bonferroni", "ic_t_bh", "ic_t_bonferroni",
-    "spread", "spread_t", "sharpe", "max_drawdown", "breadth", "n_dates",
+    "spread", "spread_t", "spread_p", "spread_p_bh", "spread_t_bh", "spread_t_bonferroni",
+    "sharpe", "sharpe_t", "sharpe_p", "sharpe_p_bh", "sharpe_t_bh", "sharpe_t_bonferroni",
+    "max_drawdown", "breadth", "n_dates", "too_short", "sr_monthly", "skew", "kurtosis", "n_months",
 )
+#: Hold-out columns (present when the sweep was run with a hold-out).
+OOS_COLUMNS: tuple[str, ...] = (
+    "oos_mean_ic", "oos_ic_t", "oos_spread", "oos_spread_t", "oos_n_dates", "oos_too_short", "oos_sharpe",
+    "oos_sharpe_t", "oos_max_drawdown",
+)
+_RAW = ("mean_ic", "ic_t", "spread", "spread_t", "sharpe", "sharpe_t", "max_drawdown", "breadth", "n_dates",
+        "too_short", "sr_monthly", "skew", "kurtosis", "n_months")
 
 
 def _t_from_p(p: np.ndarray, sign: np.ndarray) -> np.ndarray:
@@ -51,13 +60,15 @@ def comparison_table(rows: list[dict[str, Any]], dimensions: tuple[str, ...]) ->
     Notes
     -----
     The adjustment runs across every row with a finite HAC t (all points and
-    horizons of the sweep).  ``ic_t_bh`` and ``ic_t_bonferroni`` put the
+    horizons of the sweep); the spread t and the Sharpe ratio's t (Lo 2002) are adjusted
+    the same way (``spread_t_bh``, ``sharpe_t_bh``, ...).  ``sharpe`` is the long-short held for
+    the row's horizon, so it varies by horizon.  ``ic_t_bh`` and ``ic_t_bonferroni`` put the
     adjusted p back on the t scale, ``sign(t) Phi^{-1}(1 - p_adj / 2)``, so an
     adjusted t above 1.96 means significant at 5 % after adjustment.
     """
     df = pd.DataFrame(rows)
     base = ["point_id", *dimensions, "horizon", "status", "error"]
-    for c in base + ["mean_ic", "ic_t", "spread", "spread_t", "sharpe", "max_drawdown", "breadth", "n_dates"]:
+    for c in base + list(_RAW):
         if c not in df.columns:
             df[c] = np.nan if c not in ("status", "error", "point_id") else None
     t = df["ic_t"].to_numpy(dtype=float)
@@ -70,5 +81,16 @@ def comparison_table(rows: list[dict[str, Any]], dimensions: tuple[str, ...]) ->
     df["ic_t_bonferroni"] = _t_from_p(bon, t)
     df["significant_bh"] = np.isfinite(bh) & (bh <= ALPHA)
     df["significant_bonferroni"] = np.isfinite(bon) & (bon <= ALPHA)
+    for stat in ("spread", "sharpe"):  # the same adjustment for the spread t and the Sharpe ratio's t
+        ts = df[f"{stat}_t"].to_numpy(dtype=float)
+        ps = two_sided_p(ts)
+        sbh, sbon = adjust_pvalues(ps)
+        df[f"{stat}_p"], df[f"{stat}_p_bh"] = ps, sbh
+        df[f"{stat}_t_bh"], df[f"{stat}_t_bonferroni"] = _t_from_p(sbh, ts), _t_from_p(sbon, ts)
     df["horizon"] = df["horizon"].astype(int)
-    return df[base + list(METRIC_COLUMNS) + ["significant_bh", "significant_bonferroni"]].reset_index(drop=True)
+    for c in ("too_short", "oos_too_short"):  # missing for failed points: a nullable boolean
+        if c in df.columns:
+            df[c] = pd.array([None if v is None or (isinstance(v, float) and np.isnan(v)) else bool(v)
+                              for v in df[c]], dtype="boolean")
+    oos = [c for c in OOS_COLUMNS if c in df.columns]
+    return df[base + list(METRIC_COLUMNS) + ["significant_bh", "significant_bonferroni"] + oos].reset_index(drop=True)

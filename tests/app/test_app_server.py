@@ -23,7 +23,8 @@ def test_pages_and_navigation(plain_app: dash.Dash) -> None:
     assert names["Company"]["path_template"] == "/company/<code>"
     from valuesift.app.shell import nav_links
 
-    assert [link.children for link in nav_links()] == ["Data", "Study", "Screen", "Sweep", "Export"]
+    assert [link.children for link in nav_links()] == ["Data", "Study", "Screen", "Sweep", "Export", "Compare",
+                                                      "Stability"]
 
 
 def test_footer_caution_on_every_page(plain_app: dash.Dash) -> None:

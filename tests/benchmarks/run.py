@@ -5,7 +5,7 @@
 
 Options: ``--sizes`` (of S, M, I1, I2, L), ``--repeats`` (timed runs per
 measurement; the median is reported), ``--no-xl`` (skip the daily intake
-sizes), ``--no-baseline``, ``--no-dashboard``, ``--json PATH`` (default
+sizes), ``--no-baseline``, ``--no-dashboard``, ``--no-whole``, ``--json PATH`` (default
 ``tests/benchmarks/results/latest.json``, git-ignored), ``--markdown PATH``
 (write the table as Markdown, e.g. ``tests/benchmarks/RESULTS.md``).
 
@@ -21,7 +21,13 @@ What is measured (targets and the latest figures: README, "Performance"):
   own process so its peak resident memory is its own;
 * the dashboard's server-side work on size M (``dashboard.py``);
 * growth: the study's time and memory at S, M, I1, I2, L and the fitted
-  exponent of time (and memory) against N x T (log-log least squares).
+  exponent of time (and memory) against N x T (log-log least squares);
+* whole process (``whole.py``): ``valuesift study --no-bundle`` on the L Parquet
+  pair against the idiomatic-pandas reference (``notebook_reference.py``),
+  ``valuesift --help``, the modules a study imports, intake of the L Parquet and
+  CSV pairs against pyarrow / pandas readers, panel building, and the study's
+  numbers against the fingerprint written before the speed work (to 1e-12);
+* the engine's gap to a tight numpy kernel (price-only forward returns + rank IC).
 """
 
 from __future__ import annotations
@@ -48,7 +54,9 @@ if str(ROOT) not in sys.path:  # also runnable as a plain script
 
 from valuesift.core.config import StudyConfig
 from valuesift.core.study import run_study
-from tests.benchmarks.baseline import compare, dividend_dict, engine_forward_ic, notebook_forward_ic  # noqa: E402
+from tests.benchmarks.baseline import (  # noqa: E402
+    compare, dividend_dict, engine_forward_ic, notebook_forward_ic, tight_forward_ic,
+)
 from tests.benchmarks.synth import GROWTH_SIZES, SIZES, daily_files, monthly_panel  # noqa: E402
 
 __all__ = ["main", "time_study", "memory_study", "forward_ic", "fit_exponent"]
@@ -123,6 +131,17 @@ def forward_ic(panel: Any, cfg: StudyConfig, repeats: int, baseline: bool) -> di
     for h in cfg.horizons:  # the benchmark's engine call is the study's own computation
         assert np.array_equal(eng["fwd"][h], res.forward_returns[h].to_numpy(), equal_nan=True)
         assert np.array_equal(eng["rank_ic"][h], res.rank_ic[h].to_numpy(), equal_nan=True)
+    import warnings
+
+    tk = []
+    for _ in range(max(1, repeats)):
+        t0 = time.perf_counter()
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)  # all-NaN rows of nanmean (dates without names)
+            tight_forward_ic(price, uni, z, cfg.horizons, cfg.min_breadth)
+        tk.append(time.perf_counter() - t0)
+    out["tight_kernel_s"] = _median(tk)
+    out["engine_over_tight"] = out["engine_s"] / out["tight_kernel_s"]
     if baseline:
         divs = dividend_dict(panel)
         t0 = time.perf_counter()
@@ -192,6 +211,10 @@ def _rows(r: dict[str, Any]) -> list[tuple[str, str, str, str, str]]:
     for name, f in r.get("forward_ic", {}).items():
         rows.append(("fwd returns + IC, engine", name, f"{f['engine_s'] * 1000:.0f} ms "
                      f"(1 thread {f['engine_1thread_s'] * 1000:.0f} ms)", "", ""))
+        if "tight_kernel_s" in f:
+            rows.append(("  tight numpy kernel (price-only returns, rank IC)", name,
+                         f"{f['tight_kernel_s'] * 1000:.0f} ms; engine / kernel = {f['engine_over_tight']:.2f}x",
+                         "(reported)", ""))
         if "notebook_s" in f:
             rows.append(("fwd returns + IC, notebook baseline", name, f"{f['notebook_s']:.1f} s", "", ""))
             tgt = name == "L"
@@ -201,20 +224,47 @@ def _rows(r: dict[str, Any]) -> list[tuple[str, str, str, str, str]]:
             rows.append(("  baseline agreement (max abs diff)", name, f"{worst:.1e}", "<= 1e-9", verdict(worst <= 1e-9)))
     x = r.get("intake_xl")
     if x:
-        for layout, tgt_s in (("parquet_wide", 10.0), ("parquet_long", 10.0), ("csv_long", 60.0)):
+        for layout, tgt_s in (("parquet_wide", 5.0), ("parquet_long", 7.0), ("csv_long", 20.0)):
             d = x.get(layout, {})
             if "error" in d or not d:
                 rows.append((f"XL {layout} -> month-end panel", "XL", "failed", f"<= {tgt_s:.0f} s", "MISSED"))
                 continue
             rows.append((f"XL {layout} -> month-end panel", "XL 3000x7560d", f"{d['total_s']:.1f} s",
                          f"<= {tgt_s:.0f} s", verdict(d["total_s"] <= tgt_s)))
-            rows.append((f"  read prices / EPS / dividends / align", "XL",
+            rows.append(("  read prices / EPS / dividends / align", "XL",
                          f"{d['read_prices_s']:.1f} / {d['read_eps_s']:.1f} / {d['read_dividends_s']:.1f} / "
                          f"{d['month_end_panel_s']:.1f} s", "", ""))
-            rows.append((f"  peak RSS / parsed data", "XL", f"{d['peak_rss_bytes'] / MB:.0f} MB / "
+            rows.append(("  peak RSS / parsed data", "XL", f"{d['peak_rss_bytes'] / MB:.0f} MB / "
                          f"{d['parsed_bytes'] / MB:.0f} MB = {d['peak_over_parsed']:.1f}x "
-                         f"(above start {d['increment_over_parsed']:.1f}x)", "<= 4x",
-                         verdict(d["peak_over_parsed"] <= 4.0)))
+                         f"(above start {d['increment_over_parsed']:.1f}x)", "<= 3x",
+                         verdict(d["peak_over_parsed"] <= 3.0)))
+    w = r.get("whole")
+    if w:
+        st = w["study"]
+        v, ref = st["valuesift"], st["reference"]
+        rows.append(("study --no-bundle, whole process (wall)", "L Parquet pair",
+                     f"{v['wall_s']:.2f} s vs reference {ref['wall_s']:.2f} s = {st['wall_ratio']:.2f}x", "<= 0.8x",
+                     verdict(st["wall_ratio"] <= 0.8)))
+        rows.append(("study --no-bundle, whole process (CPU)", "L Parquet pair",
+                     f"{v['cpu_s']:.2f} s vs reference {ref['cpu_s']:.2f} s = {st['cpu_ratio']:.2f}x", "(reported)", ""))
+        rows.append(("study --no-bundle, peak memory", "L Parquet pair",
+                     f"{v['peak_rss_mb']:.0f} MB vs reference {ref['peak_rss_mb']:.0f} MB = "
+                     f"{v['peak_rss_mb'] / ref['peak_rss_mb']:.2f}x", "(reported)", ""))
+        heavy = w["study_heavy_imports"]
+        rows.append(("study --no-bundle imports scipy.stats/plotting/Dash", "", ", ".join(heavy) or "none", "none",
+                     verdict(not heavy)))
+        rows.append(("valuesift --help, whole process", "", f"{w['help']['wall_s']:.2f} s (CPU {w['help']['cpu_s']:.2f} s)",
+                     "< 0.5 s", verdict(w["help"]["wall_s"] < 0.5)))
+        for label, ref_name in (("parquet", "pyarrow read_table().to_pandas()"), ("csv", "pandas.read_csv")):
+            d = w["intake"][label]
+            rows.append((f"intake of the L {label} pair (in process)", "L",
+                         f"{d['valuesift_s']:.2f} s vs {ref_name} {d['reference_s']:.2f} s = {d['ratio']:.2f}x",
+                         "<= 2x", verdict(d["ratio"] <= 2.0)))
+        rows.append(("panel building (parsed L Parquet pair)", "L", f"{w['intake']['panel_s']:.2f} s", "<= 0.3 s",
+                     verdict(w["intake"]["panel_s"] <= 0.3)))
+        eq = w["equality"]
+        rows.append(("study numbers vs the pre-change reference", "L", f"max diff {eq['max_abs_diff']:.1e} over "
+                     f"{eq['parts']} parts", "<= 1e-12", verdict(eq["ok"])))
     dsh = r.get("dashboard")
     if dsh:
         rows.append(("dashboard: cold study (service layer)", "M", f"{dsh['cold_study_s']:.2f} s", "<= 1.5 s",
@@ -272,6 +322,7 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
     ap.add_argument("--no-xl", action="store_true")
     ap.add_argument("--no-baseline", action="store_true")
     ap.add_argument("--no-dashboard", action="store_true")
+    ap.add_argument("--no-whole", action="store_true", help="skip the whole-process and intake-vs-reader measurements")
     ap.add_argument("--baseline-sizes", default="S,M,L")
     ap.add_argument("--json", default=str(HERE / "results" / "latest.json"))
     ap.add_argument("--markdown", default=None)
@@ -324,6 +375,12 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
         if len(big) >= 3:  # S is dominated by fixed per-call costs; the fit over M and up shows the scaling
             bc = [r["study"][s]["cells"] for s in big]
             r["growth"]["time_exponent_M_up"] = fit_exponent(bc, [r["study"][s]["wall_s"] for s in big])
+    if not a.no_whole:
+        from tests.benchmarks.whole import measure_whole
+
+        r["whole"] = measure_whole(repeats=max(3, min(a.repeats, 5)))
+        print(f"[{time.perf_counter() - t_start:6.0f} s] whole process: study {r['whole']['study']['wall_ratio']:.2f}x "
+              f"the reference, --help {r['whole']['help']['wall_s']:.2f} s", flush=True)
     if not a.no_xl:
         xl = SIZES["XL"]
         r["intake_xl"] = intake_xl(xl.n, xl.t)

@@ -26,7 +26,8 @@ import pandas as pd
 
 from valuesift.core.panel import Panel
 
-__all__ = ["Size", "SIZES", "GROWTH_SIZES", "monthly_panel", "daily_files", "DailyFiles", "cache_root"]
+__all__ = ["Size", "SIZES", "GROWTH_SIZES", "monthly_panel", "daily_files", "DailyFiles", "monthly_files", "MonthlyFiles",
+           "cache_root"]
 
 
 @dataclass(frozen=True)
@@ -225,3 +226,39 @@ def _write_daily(folder: Path, names: dict[str, str], n: int, t: int, seed: int,
     divs = pd.DataFrame({"security": secs[si[ok]], "ex_date": dates[ti[ok]].strftime("%Y-%m-%d"), "amount": amt[ok]})
     divs.to_csv(folder / names["dividends_csv"], index=False)
     return {"price_cells": int(pt.num_rows), "eps_cells": int(et.num_rows), "dividend_events": int(ok.sum())}
+
+
+# -- monthly files for the whole-process study ---------------------------------------------------
+
+
+@dataclass(frozen=True)
+class MonthlyFiles:
+    """Paths of one cached monthly prices + EPS pair, wide (a ``date`` column, one column per security)."""
+
+    folder: Path
+    n: int
+    t: int
+    prices_parquet: Path
+    eps_parquet: Path
+    prices_csv: Path
+    eps_csv: Path
+
+
+def monthly_files(n: int, t: int, seed: int = 0) -> MonthlyFiles:
+    """Write (or reuse) :func:`monthly_panel`'s prices and EPS as wide Parquet and wide CSV files."""
+    folder = cache_root() / f"monthly_{n}x{t}_s{seed}"
+    names = {"prices_parquet": "prices.parquet", "eps_parquet": "earnings.parquet",
+             "prices_csv": "prices.csv", "eps_csv": "earnings.csv"}
+    done = folder / "done.json"
+    if not done.exists():
+        folder.mkdir(parents=True, exist_ok=True)
+        panel = monthly_panel(n, t, seed=seed)
+        for key, frame in (("prices", panel.prices), ("eps", panel.eps)):
+            wide = frame.copy()
+            wide.columns = [str(c) for c in wide.columns]
+            wide.index = pd.Index(wide.index.strftime("%Y-%m-%d"), name="date")
+            wide = wide.reset_index()
+            wide.to_parquet(folder / names[f"{key}_parquet"], index=False)
+            wide.to_csv(folder / names[f"{key}_csv"], index=False)
+        done.write_text(json.dumps({"n": n, "t": t}))
+    return MonthlyFiles(folder=folder, n=n, t=t, **{k: folder / v for k, v in names.items()})

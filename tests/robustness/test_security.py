@@ -115,10 +115,16 @@ def test_debug_only_with_dev(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) ->
 
 
 def _screen() -> pd.DataFrame:
+    """A screen as core returns it (codes and numbers), with hostile identifiers and a hostile sector."""
     n = len(HOSTILE_IDS)
-    return pd.DataFrame({"sector": ["=1+1"] + ["Mills"] * (n - 1), "signal": [0.05 + i / 100 for i in range(n)],
-                         "zscore": [float(i) - 4 for i in range(n)], "flags": [""] * n},
-                        index=pd.Index(HOSTILE_IDS, name="security"))
+    df = pd.DataFrame({"sector": ["=1+1"] + ["Mills"] * (n - 1), "signal": [0.05 + i / 100 for i in range(n)],
+                       "zscore": [float(i) - 4 for i in range(n)], "flags": [""] * n,
+                       "pe": [10.0 + i for i in range(n)], "quantile": [float(1 + i % 5) for i in range(n)],
+                       "months_since_price": [0.0] * n, "months_since_eps": [0.0] * n},
+                      index=pd.Index(HOSTILE_IDS, name="security"))
+    df.attrs["n_quantiles"] = 5
+    df.attrs["date"] = "2024-12-31"
+    return df
 
 
 def test_exported_csv_neutralises_formulas() -> None:

@@ -64,13 +64,15 @@ def test_summary_page_numbers_equal_summary_json(built: Any) -> None:
     assert page.startswith("Summary") or " Summary " in f" {page}"
     for h in summary["config"]["horizons"]:
         b = summary[str(h)]
-        assert f"{100 * abs(b['spread_annualised']):.1f}% a year; t = {b['spread_t']:.2f}" in page, h
-        assert f"{100 * b['spread_annualised']:.1f}%" in page
+        assert f"{100 * b['spread_annualised']:.1f}%" in page and f"{b['spread_t']:.2f}" in page, h
         assert f"{b['mean_ic']:.3f}" in page and f"{b['ic_t']:.2f}" in page
         assert f"{b['ic_ci_low']:.3f} to {b['ic_ci_high']:.3f}" in page
         assert f"{b['fm_t']:.2f}" in page
-    # the reading follows the numbers: the demo's planted relation is strong (|t| >= 3) at every horizon
-    assert "not distinguishable from noise" not in page.split("How to read t")[0]
+    # the summary leads with the answer, and the shown horizon's sentence carries its numbers
+    assert page.lstrip().startswith("Summary The clearest horizon is")
+    b = summary["12"]
+    assert f"{100 * abs(b['spread_annualised']):.1f}% a year; t = {b['spread_t']:.2f}" in page
+    assert "not distinguishable from noise" not in page
 
 
 @poppler
@@ -108,18 +110,33 @@ def test_screen_page_lists_cheapest_and_dearest_holdings(built: Any, demo_result
     text = _flat(_text(paths.folder / "report.pdf", 1, paths.pages))
     s = demo_result.screen
     held = s[s["holding_weight"].notna() & np.isfinite(s["zscore"].to_numpy(dtype=float))]
-    assert "Cheapest 15" in text and "Dearest 15" in text
+    # "lowest-ranked", not "dearest": the lower 15 of 30 holdings include middle quantiles
+    assert "The 15 highest-ranked (cheapest)" in text and "The 15 lowest-ranked" in text and "Dearest 15" not in text
     for sec in list(held.index[:15]) + list(held.index[-15:]):
         assert sec in text, sec
     assert "Appendix: data quality" in text and "prices.csv" in text
 
 
 def test_verdict_wording_follows_t() -> None:
-    # Common practice: |t| below 2 is not distinguishable from zero at the 5 % level (normal 97.5 % point 1.96).
-    assert verdict(1.2) == verdict(-1.99) == "not distinguishable from noise"
-    assert "5% level" in verdict(2.4) and "5% level" in verdict(-2.01)
-    assert "strong" in verdict(3.5)
+    # Common practice: |t| below 2 is not distinguishable from zero at the 5 % level (normal 97.5 % point 1.96);
+    # that is absence of evidence, not evidence of absence. Sign-aware: a negative t is the reverse relation.
+    assert verdict(1.2) == verdict(-1.99) == "no evidence either way at this sample size"
+    assert "5% level" in verdict(2.4) and "reverse" in verdict(-2.01)
+    assert "strong" in verdict(3.5) and "reverse" in verdict(-3.5)
     assert "cannot be judged" in verdict(float("nan"))
+
+
+def test_too_short_horizons_get_no_verdict_word(demo_panel: Any) -> None:
+    # The demo's 36-month horizon rests on 4 independent periods: its sentences carry numbers, no verdict.
+    from valuesift.app.bundle.text import answer_sentences
+    from valuesift.core.study import StudyConfig, run_study
+
+    res = run_study(demo_panel, StudyConfig(horizons=(1, 36)))
+    for sent in headline_sentences(res, 36):
+        for word in ("strong evidence", "some evidence", "no evidence either way"):
+            assert word not in sent
+    assert "too short to judge" in headline_sentences(res, 36)[0]
+    assert "Too short to judge: 36 months (4.0 independent periods)." in answer_sentences(res)
 
 
 def test_headline_is_generated_from_the_numbers(demo_result: Any) -> None:
@@ -127,10 +144,12 @@ def test_headline_is_generated_from_the_numbers(demo_result: Any) -> None:
     h = 12
     ss.loc[h, "mean_annualised"] = -0.031
     ss.loc[h, "t_hac"] = -0.84
+    ss.loc[h, "evidence"] = "no_evidence"
     weak = dataclasses.replace(demo_result, spread_summary=ss)
     first = headline_sentences(weak, h)[0]
-    assert "the dearest fifth of the universe out-earned the cheapest fifth by 3.1% a year; t = -0.84" in first
-    assert "not distinguishable from noise" in first
+    assert "the dearest fifth of the universe (equal-weighted, gross of costs, in-sample) out-earned the cheapest " \
+           "fifth by 3.1% a year; t = -0.84" in first
+    assert "no evidence either way at this sample size" in first
     strong = headline_sentences(demo_result, h)[0]
     assert "the cheapest fifth" in strong and strong != first
 

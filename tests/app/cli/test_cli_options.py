@@ -24,8 +24,7 @@ def test_every_option_of_every_command_has_help() -> None:
             if isinstance(act, (argparse._HelpAction, argparse._SubParsersAction)):
                 continue
             assert act.help and act.help != argparse.SUPPRESS, (name, act.option_strings or act.dest)
-        # --help itself must render (argparse expands %-formats in help text: a bare '%' crashes it).
-        assert "usage:" in sub.format_help()
+        assert sub.format_help()  # every help text formats (a bare % in a help string breaks --help)
 
 
 def test_study_options_are_the_table_rows_with_their_help_and_default() -> None:

@@ -97,7 +97,7 @@ def test_upload_the_demo_files(page, server: str, demo_dir: Path) -> None:  # ty
     bad.write_bytes(b"")
     page.locator("#data-upload input[type=file]").set_input_files([str(bad)])
     expect(page.locator("#data-upload-alert .vs-alert-error")).to_contain_text("broken-prices.csv")
-    expect(page.locator(".vs-dataset")).to_have_count(6)          # a rejected file stores nothing
+    expect(page.locator(".vs-dataset")).to_have_count(6)          # a rejected file is not kept (issue 14, item 11)
     expect(page.locator(".vs-dataset-failed")).to_have_count(0)
     _shot(page, "data")
     assert not page.errors
@@ -111,7 +111,7 @@ def test_study_updates_with_horizon_and_universe(page, server: str) -> None:  # 
     expect(_title(page, "study-ic-time")).to_contain_text("12-month horizon")
     expect(page.locator("#study-ic-time .gtitle-subtitle, #study-ic-time .gtitle")).not_to_have_count(0)
     assert page.locator("#study-ic-time .trace.bars .point").count() > 100
-    expect(page.locator("#study-summary")).to_contain_text("Newey-West t")
+    expect(page.locator("#study-summary")).to_contain_text("Hansen-Hodrick t")
     first_summary = page.locator("#study-summary").inner_text()
     page.locator("#study-horizon").get_by_text("3 m", exact=True).click()
     expect(_title(page, "study-ic-time")).to_contain_text("3-month horizon")
@@ -121,6 +121,15 @@ def test_study_updates_with_horizon_and_universe(page, server: str) -> None:  # 
     page.locator("#study-universe").get_by_text("The holdings", exact=True).click()
     expect(page.locator("#study-summary")).not_to_have_text(first_summary)
     expect(page.locator("#study-summary")).to_contain_text("30 names on average")
+    # The minimum-breadth control takes effect: above the 30 holdings no date has an IC, and the chart says so.
+    breadth = page.locator("#study-min-breadth input, input#study-min-breadth").first
+    breadth.fill("31")
+    breadth.press("Enter")
+    expect(page.locator("#study-ic-horizon .annotation-text")).to_contain_text("No horizon has enough dates")
+    breadth.fill("10")
+    breadth.press("Enter")
+    expect(page.locator("#study-ic-horizon .annotation-text")).to_have_count(0)
+    assert page.locator("#study-ic-horizon .trace.bars .point").count() == 6     # one bar per default horizon
     expect(_title(page, "study-growth")).to_contain_text("Growth of 1")
     # One date's scatter.
     page.locator("#study-scatter-date").click()

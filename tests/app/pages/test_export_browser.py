@@ -41,7 +41,7 @@ def test_export_downloads_the_bundle_of_the_study_on_screen(server: str, tmp_pat
         try:
             # The Study page's study first, then its navigation link to Export: the same key is used.
             page.goto(server + "/study")
-            expect(page.locator("#study-summary")).to_contain_text("Newey-West t", timeout=WAIT)
+            expect(page.locator("#study-summary")).to_contain_text("Hansen-Hodrick t", timeout=WAIT)
             page.locator("#nav-export").click()
             expect(page.locator("#export-study-line")).to_contain_text("Exporting: earnings yield", timeout=WAIT)
             page.locator("#export-name").fill("Spring committee")

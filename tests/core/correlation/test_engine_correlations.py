@@ -104,3 +104,43 @@ def test_rank_ic_invariant_under_monotone_transform_and_permutation() -> None:
     rho3, pr3, _ = ic_by_date(z[:, perm], f[:, perm], 3)
     np.testing.assert_allclose(rho, rho3, atol=1e-12)
     np.testing.assert_allclose(pr, pr3, atol=1e-12)
+
+
+def _tied_panel(seed: int) -> tuple[np.ndarray, np.ndarray]:
+    rng = np.random.default_rng(seed)
+    x = rng.integers(0, 6, size=(40, 60)).astype(float)  # heavy ties
+    x[:20] = rng.normal(size=(20, 60))  # and rows without ties
+    x[rng.random(x.shape) < 0.15] = np.nan
+    mask = np.isfinite(x) & (rng.random(x.shape) < 0.8)
+    return x, mask
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_ranks_within_match_scipy_rankdata_on_the_subset(seed: int) -> None:
+    # scipy.stats.rankdata(method="average") of each row's members; and average_ranks to the bit.
+    from valuesift.core.correlation.ranks import ranks_within, row_sort
+
+    x, mask = _tied_panel(seed)
+    got = ranks_within(row_sort(x), mask)
+    assert np.array_equal(got, average_ranks(np.where(mask, x, np.nan)), equal_nan=True)
+    for i in range(x.shape[0]):
+        assert np.array_equal(got[i][mask[i]], stats.rankdata(x[i][mask[i]]))
+        assert np.isnan(got[i][~mask[i]]).all()
+
+
+@pytest.mark.parametrize("seed", [0, 1])
+def test_rank_ic_grid_matches_spearmanr_and_ic_by_date(seed: int) -> None:
+    # scipy.stats.spearmanr per date over the names both arrays hold; ic_by_date to the bit.
+    from valuesift.core.correlation.ic import rank_ic_grid
+
+    rng = np.random.default_rng(seed)
+    x, _ = _tied_panel(seed)
+    ys = {h: np.where(rng.random(x.shape) < 0.1, np.nan, rng.normal(size=x.shape)) for h in (1, 3)}
+    zs = {0: x, 1: np.vstack([np.full((1, x.shape[1]), np.nan), x[:-1]])}
+    grid = rank_ic_grid(zs, ys, 5)
+    for (d, h), ric in grid.items():
+        assert np.array_equal(ric, ic_by_date(zs[d], ys[h], 5)[0], equal_nan=True)
+        for t in range(x.shape[0]):
+            ok = np.isfinite(zs[d][t]) & np.isfinite(ys[h][t])
+            if ok.sum() >= 5:
+                assert ric[t] == pytest.approx(stats.spearmanr(zs[d][t][ok], ys[h][t][ok]).statistic, abs=1e-12)

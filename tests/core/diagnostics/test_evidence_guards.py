@@ -15,7 +15,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "engine"))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from _panels import make_panel  # noqa: E402
 
 from valuesift.core.errors import ConfigError  # noqa: E402
@@ -99,8 +99,13 @@ def test_pe_lower_is_cheaper_never_ranks_loss_makers_cheapest() -> None:
     q = aside.quantile.iloc[-2]
     assert q.iloc[:5].isna().all()  # negative P/E: set aside, never in the cheapest quantile
     assert "nonpositive_set_aside" in _codes(aside)
+    flags = aside.screen["flags"].iloc[:0]  # the screen flags them (codes; the app words them)
+    flagged = aside.screen.loc[list(p.prices.columns[:5]), "flags"]
+    assert all("signal_not_meaningful" in f for f in flagged), flags
+    assert any("set aside" in n for n in aside.notes)
     recip = run_study(p, StudyConfig(signal="pe", horizons=(1,), nonpositive_lower_is_cheaper="reciprocal"))
     assert (recip.quantile.iloc[-2].iloc[:5] == 1).all()  # E/P keeps them, ranked dearest
+    assert any("reciprocal" in n for n in recip.notes)
     with pytest.raises(ConfigError) as err:
         run_study(p.with_(signals=(UserSignal("pe", -pe.abs(), higher_is_cheaper=False),)),
                   StudyConfig(signal="pe", horizons=(1,)))

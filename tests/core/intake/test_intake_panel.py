@@ -258,3 +258,29 @@ def test_panel_options_validated() -> None:
         with pytest.raises(ConfigError):
             PanelOptions(**bad)  # type: ignore[arg-type]
     assert PanelOptions(confirmed_splits={"A"}).confirmed_splits == frozenset({"A"})  # type: ignore[arg-type]
+
+
+def _flat_run_loop(v: np.ndarray) -> int:
+    """The per-series loop ``longest_flat_run`` used before it was vectorised (the reference here)."""
+    v = v[np.isfinite(v)]
+    if v.size == 0:
+        return 0
+    best = run = 1
+    for a, b in zip(v[:-1], v[1:]):
+        run = run + 1 if a == b else 1
+        best = max(best, run)
+    return best
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_longest_flat_runs_matches_the_loop(seed: int) -> None:
+    from valuesift.core.intake.flags import longest_flat_runs
+
+    rng = np.random.default_rng(seed)
+    v = rng.integers(0, 3, size=(60, 40)).astype(float)  # many repeats
+    v[rng.random(v.shape) < 0.2] = np.nan
+    v[:, 5] = np.nan  # a column without values
+    v[3, 7] = np.inf
+    got = longest_flat_runs(v)
+    assert got.tolist() == [_flat_run_loop(v[:, j]) for j in range(v.shape[1])]
+    assert [longest_flat_run(v[:, j]) for j in range(v.shape[1])] == got.tolist()

@@ -34,9 +34,11 @@ def test_cohort_record_against_scipy_and_statsmodels(holding: int) -> None:
     cs = cohort_summary(ex, holding)
     x = ex.dropna().to_numpy()
     # Reference: scipy.stats.ttest_1samp (the naive t); statsmodels OLS on a constant with HAC,
-    # maxlags = holding - 1 and no small-sample correction (Newey-West, as reference case 5).
+    # maxlags = holding - 1 and no small-sample correction; the uniform kernel (Hansen & Hodrick 1980,
+    # reference case 17) for overlapping cohorts (with 0 lags both kernels are the plain variance).
     assert cs["t_naive"] == pytest.approx(stats.ttest_1samp(x, 0.0).statistic, rel=1e-12)
-    fit = sm.OLS(x, np.ones_like(x)).fit(cov_type="HAC", cov_kwds={"maxlags": holding - 1})
+    fit = sm.OLS(x, np.ones_like(x)).fit(cov_type="HAC", cov_kwds={"maxlags": holding - 1, "kernel": "uniform",
+                                                                  "use_correction": False})
     assert cs["t_hac"] == pytest.approx(float(fit.tvalues[0]), rel=1e-9)
     assert cs["n_cohorts"] == 38 and cs["n_beat"] == int((x > 0).sum())
     assert cs["share_beat"] == pytest.approx((x > 0).mean())

@@ -49,11 +49,15 @@ def _by_hand(panel: Any, cfg: StudyConfig) -> dict[int, dict[str, float]] | str:
         res = run_study(panel, cfg)
     except ValueSiftError as err:
         return str(err)
+    from valuesift.core.portfolio.holding import backtest_at_holding, monthly_inputs
+
     s = summary_dict(res)
-    ls = res.backtest.stats.loc["long_short"]
+    inputs = monthly_inputs(panel)
+    # the Sharpe ratio of each row is the long-short held for the row's horizon (issue 12: it varies by horizon)
+    ls = {h: backtest_at_holding(res, inputs, h).stats.loc["long_short"] for h in cfg.horizons}
     return {h: {"mean_ic": s[str(h)]["mean_ic"], "ic_t": s[str(h)]["ic_t"], "spread": s[str(h)]["spread"],
-                "spread_t": s[str(h)]["spread_t"], "sharpe": float(ls["sharpe"]),
-                "max_drawdown": float(ls["max_drawdown"]), "breadth": float(res.ic_summary.at[h, "mean_breadth"]),
+                "spread_t": s[str(h)]["spread_t"], "sharpe": float(ls[h]["sharpe"]),
+                "max_drawdown": float(ls[h]["max_drawdown"]), "breadth": float(res.ic_summary.at[h, "mean_breadth"]),
                 "n_dates": int(res.ic_summary.at[h, "n_dates"])} for h in cfg.horizons}
 
 

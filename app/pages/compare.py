@@ -1,0 +1,177 @@
+"""Compare page: two to eight signals (and saved studies) side by side on the data in use and the Study page's
+settings; the rank correlation between them as a heat map; which one carries information the others do not.
+
+Callbacks are thin: the comparison comes from :func:`valuesift.app.compare_service.compare_now`, the charts
+from :mod:`valuesift.app.figures.compare`, the sentences from :mod:`valuesift.app.bundle.stability_text`.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import dash
+from dash import Input, Output, State, dcc, html, no_update
+
+from valuesift.app.bundle.stability_text import compare_sentences, evidence_phrase
+from valuesift.app.compare_service import compare_now
+from valuesift.app.components.common import field, panel_choices, text_table
+from valuesift.app.components.graphs import graph_card, height_style
+from valuesift.app.figures.common import fmt_num, fmt_pct
+from valuesift.app.figures.compare import compare_ic_figure, correlation_heatmap_figure, joint_fm_figure, signal_words
+from valuesift.app.jobs_ui import alert
+from valuesift.app.saved_studies import delete_study, save_study, saved_studies
+from valuesift.app.services import current_owner, normalise_selection, state
+from valuesift.app.settings import config_from_settings, shown_horizon
+from valuesift.core.errors import ValueSiftError
+
+dash.register_page(__name__, path="/compare", name="Compare", order=5, title="ValueSift - Compare")
+
+P = "compare"
+_BUILTIN = [{"label": "Earnings yield", "value": "earnings_yield"},
+            {"label": "Dividend yield", "value": "dividend_yield"},
+            {"label": "Composite of both yields", "value": "composite"}]
+
+
+def layout(**_: Any) -> html.Div:
+    return html.Div(className="vs-page vs-two-col", children=[
+        html.Aside(className="vs-sidebar", children=[
+            html.Fieldset(id=f"{P}-controls", className="vs-controls", children=[
+                html.Legend("What to compare"),
+                field("Signals", dcc.Checklist(id=f"{P}-signals", options=_BUILTIN,
+                                               value=["earnings_yield", "dividend_yield", "composite"],
+                                               persistence=True, persistence_type="local"),
+                      "Each is studied with the Study page's settings on the data in use; it keeps its own dates."),
+                field("Saved studies", dcc.Dropdown(id=f"{P}-saved", multi=True, options=[], value=[],
+                                                    placeholder="add saved studies"),
+                      "A saved study keeps its own settings."),
+                html.Button("Compare", id=f"{P}-run", n_clicks=0, className="vs-button"),
+            ]),
+            html.Fieldset(className="vs-controls", children=[
+                html.Legend("Save the current study"),
+                field("Name", dcc.Input(id=f"{P}-save-name", type="text", maxLength=60, debounce=False,
+                                        placeholder="e.g. yield, 3-month lag")),
+                html.Button("Save", id=f"{P}-save", n_clicks=0, className="vs-button"),
+                html.Button("Delete the chosen saved studies", id=f"{P}-delete", n_clicks=0,
+                            className="vs-button vs-button-quiet"),
+                html.Div(id=f"{P}-save-note", className="vs-hint"),
+            ]),
+        ]),
+        html.Section(className="vs-content", children=[
+            html.H1("Compare signals"),
+            html.Div(id=f"{P}-alert"),
+            html.Div(id=f"{P}-results", hidden=True, children=[
+                field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[], value=None,
+                                                      className="vs-horizon-pick")),
+                html.Div(id=f"{P}-sentences", className="vs-summary"),
+                html.Div(id=f"{P}-table", className="vs-card"),
+                html.Div(className="vs-grid", children=[graph_card(f"{P}-heatmap"), graph_card(f"{P}-ic")]),
+                graph_card(f"{P}-joint"),
+                html.Div(id=f"{P}-notes", className="vs-notes"),
+            ]),
+            dcc.Store(id=f"{P}-done"),
+        ]),
+    ])
+
+
+@dash.callback(Output(f"{P}-signals", "options"), Input("vs-selection", "data"))
+def _signal_options(sel: Any) -> Any:
+    st = state()
+    try:
+        ch = panel_choices(st.panel(normalise_selection(sel))) if st.usable_ids(normalise_selection(sel)) else None
+    except Exception:  # the Data page says why a panel cannot be built
+        ch = None
+    extra = [{"label": f"Your signal: {n}", "value": n} for n in (ch or {}).get("signals", [])]
+    return _BUILTIN + extra
+
+
+@dash.callback(
+    Output(f"{P}-saved", "options"), Output(f"{P}-save-note", "children"), Output(f"{P}-saved", "value"),
+    Input(f"{P}-save", "n_clicks"), Input(f"{P}-delete", "n_clicks"),
+    State(f"{P}-save-name", "value"), State("vs-selection", "data"), State("vs-settings", "data"),
+    State(f"{P}-saved", "value"),
+)
+def _save(n_save: Any, n_delete: Any, name: Any, sel: Any, settings: Any, chosen: Any) -> Any:
+    st = state()
+    owner = current_owner()
+    note: Any = None
+    value: Any = no_update
+    trig = dash.ctx.triggered_id
+    if trig == f"{P}-save" and n_save:
+        try:
+            if not st.usable_ids(normalise_selection(sel)):
+                raise ValueSiftError("No data is in use: open the demo or upload files on the Data page first.")
+            save_study(st.workspace, str(name or ""), normalise_selection(sel), config_from_settings(settings), owner)
+            note = f"Saved as {str(name).strip()!r}: the Study page's settings on the data in use."
+        except ValueSiftError as err:
+            note = str(err)
+    elif trig == f"{P}-delete" and n_delete:
+        for n in chosen or []:
+            delete_study(st.workspace, str(n), owner)
+        note, value = (f"Deleted {len(chosen or [])} saved studies.", [])
+    opts = [{"label": f"{n} (saved {rec.get('saved', '')[:10]})", "value": n}
+            for n, rec in saved_studies(st.workspace, owner).items()]
+    return opts, note, value
+
+
+@dash.callback(
+    Output(f"{P}-done", "data"), Output(f"{P}-alert", "children"),
+    Input(f"{P}-run", "n_clicks"),
+    State("vs-selection", "data"), State("vs-settings", "data"), State(f"{P}-signals", "value"),
+    State(f"{P}-saved", "value"),
+    running=[(Output(f"{P}-run", "disabled"), True, False)],
+    prevent_initial_call=True,
+)
+def _run(n: Any, sel: Any, settings: Any, signals: Any, saved: Any) -> Any:
+    st = state()
+    if not st.usable_ids(normalise_selection(sel)):
+        return None, alert("No price file is in use yet. Upload your files (or open the demo) on the Data page.", "info")
+    try:
+        cmp, left = compare_now(st, sel, config_from_settings(settings), list(signals or []), list(saved or []))
+    except ValueSiftError as err:
+        return None, alert(str(err))
+    return {"sel": normalise_selection(sel), "settings": settings, "signals": list(signals or []),
+            "saved": list(saved or []), "left": left, "horizons": list(cmp.config.horizons)}, None
+
+
+@dash.callback(
+    Output(f"{P}-horizon", "options"), Output(f"{P}-horizon", "value"),
+    Input(f"{P}-done", "data"), State(f"{P}-horizon", "value"),
+)
+def _horizons(done: Any, current: Any) -> Any:
+    if not isinstance(done, dict):
+        return no_update, no_update
+    hs = [int(h) for h in done["horizons"]]
+    return [{"label": f"{h} m", "value": h} for h in hs], shown_horizon(hs, current)
+
+
+def _table(cmp: Any, h: int) -> Any:
+    t = cmp.table[cmp.table["horizon"] == h]
+    rows = [[signal_words(r["signal"]), fmt_num(r["mean_ic"], 3), fmt_num(r["ic_t"], 2), fmt_pct(r["spread"], 2),
+             fmt_num(r["spread_t"], 2), fmt_num(r["sharpe"], 2), fmt_pct(r["max_drawdown"], 1),
+             fmt_pct(r["turnover"], 1), fmt_num(r["mean_breadth"], 0), int(r["n_dates"]),
+             evidence_phrase(r["evidence"])] for _, r in t.iterrows()]
+    head = ["Signal", "Mean IC", "IC t", "Spread", "Spread t", "Sharpe (cheapest, held for the horizon)",
+            "Worst drawdown", "Turnover a month", "Names", "Dates", "Verdict"]
+    return text_table(rows, head)
+
+
+@dash.callback(
+    Output(f"{P}-results", "hidden"), Output(f"{P}-sentences", "children"), Output(f"{P}-table", "children"),
+    Output(f"{P}-heatmap", "figure"), Output(f"{P}-ic", "figure"), Output(f"{P}-joint", "figure"),
+    Output(f"{P}-notes", "children"), Output(f"{P}-heatmap", "style"), Output(f"{P}-ic", "style"),
+    Output(f"{P}-joint", "style"),
+    Input(f"{P}-done", "data"), Input(f"{P}-horizon", "value"),
+)
+def _show(done: Any, horizon: Any) -> Any:
+    if not isinstance(done, dict):
+        return True, None, None, no_update, no_update, no_update, None, no_update, no_update, no_update
+    st = state()
+    try:
+        cmp, _ = compare_now(st, done["sel"], config_from_settings(done["settings"]), done["signals"], done["saved"])
+    except ValueSiftError as err:
+        return True, alert(str(err)), None, no_update, no_update, no_update, None, no_update, no_update, no_update
+    h = shown_horizon(list(cmp.config.horizons), horizon)
+    notes = [html.Li(n) for n in [*cmp.notes, *done.get("left", [])]]
+    figs = [correlation_heatmap_figure(cmp), compare_ic_figure(cmp, h), joint_fm_figure(cmp, h)]
+    return (False, [html.P(s) for s in compare_sentences(cmp, h)], _table(cmp, h), *figs, html.Ul(notes),
+            *[height_style(f) for f in figs])
