@@ -309,13 +309,16 @@ def test_every_study_control_changes_what_is_drawn_and_what_is_stored(page, serv
             _shot(page, f"study-control-{name}")
             raise AssertionError(f"changing {name} to {value!r} changed nothing that is drawn") from err
     _shot(page, "study-all-controls")
-    # Minimum breadth above every date's number of names: one rule for every chart, so the study says why it
-    # cannot run (a sentence naming the control), and no chart is drawn from dates the IC leaves out.
+    # Minimum breadth above every date's number of names: one rule for every chart and table, so the headline
+    # says why there is no IC and every chart says why it is empty (never "nan", never a quantile chart drawn
+    # from dates the IC leaves out).
     _number(page, "study-min-breadth", "5000")
-    expect(page.locator("#study-alert")).to_contain_text("Lower 'Minimum names per date'")
-    expect(page.locator("#study-results")).to_be_hidden()
+    expect(page.locator("#study-summary")).to_contain_text("there is no information coefficient")
+    expect(page.locator("#study-quantiles")).to_contain_text("No date has returns for every quantile")
+    expect(page.locator("#study-spread")).to_contain_text("No date has both the cheapest and the dearest")
+    assert "nan" not in page.locator("#study-summary").inner_text().replace(",", " ").split()
     _number(page, "study-min-breadth", "10")
-    expect(page.locator("#study-results")).to_be_visible()
+    expect(page.locator("#study-summary")).to_contain_text("the mean rank IC is")
     assert not page.errors
 
 
