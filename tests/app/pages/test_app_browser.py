@@ -228,9 +228,13 @@ def _pick(pg: object, control: str, option: str) -> None:
 
 
 def _number(pg: object, control: str, value: str) -> None:
+    from playwright.sync_api import expect
+
     box = pg.locator(f"#{control} input, input#{control}").first  # type: ignore[attr-defined]
+    expect(box).to_be_enabled()            # not while a study runs (the controls are disabled then)
     box.fill(value)
     box.press("Enter")
+    box.press("Tab")                       # a debounced number input commits on Enter or on leaving it
 
 
 def test_every_study_control_changes_what_is_drawn_and_what_is_stored(page, server: str) -> None:  # type: ignore[no-untyped-def]
@@ -276,7 +280,7 @@ def test_every_study_control_changes_what_is_drawn_and_what_is_stored(page, serv
     drawn = _wait_redrawn(page, drawn)
     # Every other Study control: a value away from the default changes the drawn numbers and is stored.
     steps = [
-        ("min_breadth", lambda: _number(page, "study-min-breadth", "115"), 115),
+        ("min_breadth", lambda: _number(page, "study-min-breadth", "120"), 120),   # above most dates
         ("min_breadth", lambda: _number(page, "study-min-breadth", "10"), 10),     # back, for the steps below
         ("min_history_months", lambda: _number(page, "study-min-history", "24"), 24),
         ("outlier_rule", lambda: _pick(page, "study-outliers", "Leave as they are"), "none"),
