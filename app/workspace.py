@@ -120,8 +120,9 @@ def nothing_usable(pf: ParsedFile) -> str:
         example = (f" (for example row {int(ex.iloc[0]['row'])}, column {ex.iloc[0]['column']!r}: "
                    f"{str(ex.iloc[0]['value'])[:24]!r})") if len(ex) else ""
         why = f": {int(top.iloc[0]['count']):,} cells were {reason_words(reason)}{example}"
-    return (f"With these reading choices nothing in {rep.name} could be used{why}. The file keeps its earlier "
-            "reading; go back to the detected reading or choose differently (the date order, say).")
+    return (f"With these reading choices nothing in {rep.name} could be used{why}. Nothing was changed: the file "
+            "keeps its earlier reading. Choose differently (the date order, say), or use 'Go back to the detected "
+            "reading'.")
 
 
 def options_to_dict(options: ReadOptions) -> dict[str, Any]:
@@ -342,6 +343,8 @@ class Workspace:
             pf = read_table(raw, name=name, options=options)
         except (IntakeError, ValueSiftError) as err:
             return self._failed(name, sha, len(raw), options, str(err), demo, owner)
+        if len(pf.data) == 0:      # read, but nothing usable: a failure, never an empty "read" file
+            return self._failed(name, sha, len(raw), options, nothing_usable(pf), demo, owner)
         wrote_raw = False
         try:
             with self._lock:

@@ -7,10 +7,11 @@ from typing import Any
 
 from dash import dcc, html
 
+from valuesift.app.words import reason_words
 from valuesift.app.components.common import text_table
 from valuesift.app.workspace import DatasetRecord
 
-__all__ = ["dataset_card", "card_order", "KIND_OPTIONS", "options_from_controls"]
+__all__ = ["dataset_card", "card_order", "KIND_OPTIONS", "options_from_controls", "detected_options", "has_overrides"]
 
 KIND_OPTIONS = [{"label": k, "value": k} for k in
                 ("prices", "earnings", "dividends", "sectors", "holdings", "benchmark", "market_cap", "signal")]
@@ -111,8 +112,22 @@ def _controls(rec: DatasetRecord) -> html.Div:
         html.Div(className="vs-row", children=[
             html.Button("Read again with these choices", id=_pid("ds-reread", rec.id), n_clicks=0,
                         className="vs-button"),
+            *([html.Button("Go back to the detected reading", id=_pid("ds-detected", rec.id), n_clicks=0,
+                           className="vs-button vs-button-quiet")] if has_overrides(o) else []),
         ]),
     ])
+
+
+def detected_options(options: Any) -> Any:
+    """The reading intake detects by itself: every reading override cleared (left-out columns, own signal's
+    name and direction kept, since they are not guesses of the reader)."""
+    return replace(options, kind=None, layout="auto", header_row=None, date_order="auto", decimal="auto",
+                   id_cleanup="none", id_regex=None)
+
+
+def has_overrides(options: Any) -> bool:
+    """Whether any reading choice differs from what intake detects by itself."""
+    return detected_options(options) != options
 
 
 _KIND_RANK = {k["value"]: i for i, k in enumerate(KIND_OPTIONS)}
@@ -150,6 +165,9 @@ def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
             ]))
         body.append(text_table(_summary_rows(r), class_name="vs-table vs-kv"))
         cols, rows = _frame_rows(r.get("by_reason"))
+        if rows and "reason" in cols:      # the reason codes in words
+            k = cols.index("reason")
+            rows = [[reason_words(v) if j == k else v for j, v in enumerate(row)] for row in rows]
         if rows:
             body.append(html.H4("Cells not used, by reason"))
             body.append(text_table(rows, cols))

@@ -12,7 +12,7 @@ from dash import ALL, Input, Output, State, ctx, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
 from valuesift.app.components.common import GRAPH_CONFIG, text_table
-from valuesift.app.components.intake_view import card_order, dataset_card, options_from_controls
+from valuesift.app.components.intake_view import card_order, dataset_card, detected_options, options_from_controls
 from valuesift.app.figures.common import message_figure
 from valuesift.app.figures.data import coverage_figure
 from valuesift.app.jobs_ui import alert
@@ -204,6 +204,22 @@ def _drop_suspects(clicks: Any, sel_raw: Any, version: Any) -> Any:
     sus = sus.get("__tuple__", []) if isinstance(sus, dict) else list(sus)
     cols = tuple(dict.fromkeys([*old.options.exclude_columns, *map(str, sus)]))
     return _reread_with(did, replace(old.options, exclude_columns=cols), sel_raw, version)
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
+    Output(f"{P}-upload-alert", "children", allow_duplicate=True),
+    Input({"type": "ds-detected", "id": ALL}, "n_clicks"),
+    State("vs-selection", "data"), State(f"{P}-version", "data"),
+    prevent_initial_call=True,
+)
+def _detected(clicks: Any, sel_raw: Any, version: Any) -> Any:
+    did = _triggered(clicks)
+    try:
+        old = state().workspace.get(did, owner=current_owner())
+    except KeyError:
+        raise PreventUpdate
+    return _reread_with(did, detected_options(old.options), sel_raw, version)
 
 
 def _reread_with(did: str, opts: Any, sel_raw: Any, version: Any) -> Any:

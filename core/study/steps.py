@@ -340,7 +340,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     # date gets no IC (above), no quantiles, so no spread, quantile return, backtest cohort or screen band.
     thin = (n_z >= n_q) & (n_z < cfg.min_breadth)
     q = np.where(thin[:, None], np.nan, q)
-    if not np.isfinite(q).any():
+    if not np.isfinite(q).any() and not thin.any():
         need = max(n_q, cfg.min_breadth)
         raise InsufficientDataError(f"{n_q} quantiles", f"at least {need} names with a signal on some date "
                                     f"(the minimum names per date is {cfg.min_breadth})",

@@ -144,3 +144,18 @@ def test_serve_demo_uses_the_persistent_workspace(monkeypatch: pytest.MonkeyPatc
     server_mod.serve(port=8998, demo=True)
     server_mod.serve(port=8998, demo=True, workspace=str(tmp_path / "mine"))
     assert seen == [tmp_path / "ws", tmp_path / "mine"]
+
+
+def test_a_reading_that_leaves_nothing_usable_fails_and_keeps_the_earlier_reading(tmp_path: Path) -> None:
+    from valuesift.app.components.intake_view import detected_options, has_overrides
+
+    ws = Workspace(tmp_path)
+    first = ws.add_upload("prices.csv", PRICES)
+    wrong = ws.reread(first.id, ReadOptions(date_order="mdy"))      # 31/01/2020 is no month/day/year date
+    assert not wrong.ok and "nothing in prices.csv could be used" in (wrong.error or "")
+    assert "not a date" in (wrong.error or "") and "row 2" in (wrong.error or "")
+    assert [r.id for r in ws.records()] == [first.id]                # nothing changed
+    assert len(ws.parsed_file(first.id).data) > 0
+    opts = ReadOptions(date_order="mdy", layout="wide", exclude_columns=("Index Level",))
+    assert has_overrides(opts) and not has_overrides(detected_options(opts))
+    assert detected_options(opts).exclude_columns == ("Index Level",)  # left-out columns are not a guess

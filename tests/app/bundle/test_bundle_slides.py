@@ -15,6 +15,7 @@ from valuesift.app.bundle import CHART_KEYS
 from valuesift.app.bundle.build import creation_time, settings_hash, source_line
 from valuesift.app.caution import CAUTION
 from valuesift.app.bundle.text import CHART_READINGS
+from valuesift.app.bundle.stability_text import STABILITY_READINGS
 from valuesift.core.errors import ConfigError
 
 
@@ -54,7 +55,7 @@ def test_chart_slides_read_as_the_report_with_the_reading_as_speaker_notes(deck:
                                                                            demo_panel: Any) -> None:
     chart_slides = list(deck.slides)[2:2 + len(CHART_KEYS)]
     for key, slide in zip(CHART_KEYS, chart_slides):
-        reading = [str(x) for x in CHART_READINGS[key](demo_result, 12, demo_panel)]
+        reading = [str(x) for x in {**CHART_READINGS, **STABILITY_READINGS}[key](demo_result, 12, demo_panel)]
         body = "\n".join(_texts(slide))
         notes = slide.notes_slide.notes_text_frame.text
         for sentence in reading:

@@ -61,7 +61,7 @@ def test_check_reports_every_readable_file_when_the_panel_fails(monkeypatch: pyt
     def _fail(*_a: object, **_k: object) -> None:
         raise IntakeError("prices.csv", Reason.UNREADABLE, "the panel cannot be built")
 
-    monkeypatch.setattr(commands, "build_panel", _fail)
+    monkeypatch.setattr("valuesift.core.intake.build_panel", _fail)
     assert main(["check", str(SAMPLE / "prices.csv"), str(SAMPLE / "sectors.csv")]) == 2
     out, err = capsys.readouterr()
     assert "File prices.csv" in out and "File sectors.csv" in out   # both reports, although the panel failed

@@ -76,6 +76,15 @@ def test_upload_the_demo_files(page, server: str, demo_dir: Path) -> None:  # ty
     expect(prices).to_contain_text("columns left out")
     expect(prices).to_contain_text("Maren All-Share")
     expect(page.locator("#data-splits")).to_contain_text("not applied")
+    # A wrong date order leaves nothing usable: the read fails loudly and the file keeps its reading.
+    prices.locator("summary", has_text="Change how this file is read").click()
+    prices.locator("button[id*='ds-dates']").click()
+    page.locator(".dash-dropdown-content").get_by_role("option", name="month/day/year").click()
+    prices.get_by_role("button", name="Read again with these choices").click()
+    expect(page.locator("#data-upload-alert .vs-alert-error")).to_contain_text("nothing in prices.csv could be used")
+    expect(page.locator("#data-upload-alert .vs-alert-error")).to_contain_text("not a date")
+    expect(prices).to_contain_text("columns left out")          # the earlier reading is still in use
+    expect(prices).not_to_contain_text("None")
     # Confirm the suspected split: the adjustment is applied to the panel.
     page.locator("#data-split-pick input[type=checkbox]").first.check()
     page.get_by_role("button", name="Apply the adjustment to the confirmed splits").click()
@@ -219,9 +228,13 @@ def _pick(pg: object, control: str, option: str) -> None:
 
 
 def _number(pg: object, control: str, value: str) -> None:
+    from playwright.sync_api import expect
+
     box = pg.locator(f"#{control} input, input#{control}").first  # type: ignore[attr-defined]
+    expect(box).to_be_enabled()            # not while a study runs (the controls are disabled then)
     box.fill(value)
     box.press("Enter")
+    box.press("Tab")                       # a debounced number input commits on Enter or on leaving it
 
 
 def test_every_study_control_changes_what_is_drawn_and_what_is_stored(page, server: str) -> None:  # type: ignore[no-untyped-def]
@@ -267,7 +280,8 @@ def test_every_study_control_changes_what_is_drawn_and_what_is_stored(page, serv
     drawn = _wait_redrawn(page, drawn)
     # Every other Study control: a value away from the default changes the drawn numbers and is stored.
     steps = [
-        ("min_breadth", lambda: _number(page, "study-min-breadth", "115"), 115),
+        ("min_breadth", lambda: _number(page, "study-min-breadth", "120"), 120),   # above most dates
+        ("min_breadth", lambda: _number(page, "study-min-breadth", "10"), 10),     # back, for the steps below
         ("min_history_months", lambda: _number(page, "study-min-history", "24"), 24),
         ("outlier_rule", lambda: _pick(page, "study-outliers", "Leave as they are"), "none"),
         ("zscore_method", lambda: page.locator("#study-zscore").get_by_text("Median and absolute deviation",
@@ -287,16 +301,28 @@ def test_every_study_control_changes_what_is_drawn_and_what_is_stored(page, serv
             _pick(page, "study-outliers", "Winsorise at percentiles")
             drawn = _wait_redrawn(page, drawn)
         act()
-        page.wait_for_function(f"() => JSON.parse(localStorage.getItem('vs-settings') || '{{}}')['{name}'] == "
-                               f"{str(value).lower() if isinstance(value, bool) else repr(value)}")
-        drawn = _wait_redrawn(page, drawn)
+        try:
+            page.wait_for_function(f"() => JSON.parse(localStorage.getItem('vs-settings') || '{{}}')['{name}'] == "
+                                   f"{str(value).lower() if isinstance(value, bool) else repr(value)}")
+        except Exception as err:  # noqa: BLE001 - name the control in the failure
+            raise AssertionError(f"{name} not stored as {value!r}: {_settings(page)}") from err
+        expect(page.locator("#study-alert")).to_have_text("")      # the study ran (a failure would say why)
+        try:
+            drawn = _wait_redrawn(page, drawn)
+        except Exception as err:  # noqa: BLE001 - name the control in the failure
+            _shot(page, f"study-control-{name}")
+            raise AssertionError(f"changing {name} to {value!r} changed nothing that is drawn") from err
     _shot(page, "study-all-controls")
-    # Minimum breadth above every date's number of names: the page says why, never "nan".
+    # Minimum breadth above every date's number of names: one rule for every chart and table, so the headline
+    # says why there is no IC and every chart says why it is empty (never "nan", never a quantile chart drawn
+    # from dates the IC leaves out).
     _number(page, "study-min-breadth", "5000")
-    expect(page.locator("#study-alert, #study-summary, #study-headline")).not_to_have_count(0)
-    page.wait_for_function("() => (document.querySelector('#study-alert') || {}).textContent.length > 0")
-    assert "nan" not in page.locator("#study-alert").inner_text().lower().split()
+    expect(page.locator("#study-summary")).to_contain_text("there is no information coefficient")
+    expect(page.locator("#study-quantiles")).to_contain_text("No date has returns for every quantile")
+    expect(page.locator("#study-spread")).to_contain_text("No date has both the cheapest and the dearest")
+    assert "nan" not in page.locator("#study-summary").inner_text().replace(",", " ").split()
     _number(page, "study-min-breadth", "10")
+    expect(page.locator("#study-summary")).to_contain_text("the mean rank IC is")
     assert not page.errors
 
 

@@ -113,8 +113,8 @@ def test_no_two_cards_overlap_on_any_page_for_the_demo_and_an_eight_stock_file(s
             expect(pg.locator("#data-upload-alert")).to_contain_text("Read 2 of 2 file(s)")
             pg.locator(".vs-dataset", has=pg.locator("h3", has_text="prices.csv")).first.wait_for()
             pg.goto(server + "/study")
-            # With the default minimum of 10 names per date the study says why it cannot run, in words.
-            expect(pg.locator("#study-alert")).to_contain_text("Lower 'Minimum names per date'")
+            # With the default minimum of 10 names per date the headline says why there is no IC, in words.
+            expect(pg.locator("#study-summary")).to_contain_text("there is no information coefficient")
             box = pg.locator("#study-min-breadth")
             box.fill("5")
             box.press("Enter")

@@ -261,6 +261,9 @@ def test_min_breadth_and_constant_signal_dates_are_reported(panel) -> None:  # t
     assert res.quantile.iloc[15].isna().all() and np.isnan(res.spread.iloc[15, 0])
     assert np.isnan(res.fm_slopes.iloc[15, 0])
     assert res.quantile.iloc[14].notna().sum() >= 8
+    # Every date below the minimum: the study still runs, with nothing drawn from those dates.
+    none = run_study(panel.with_(eps=eps, prices=prices), StudyConfig(horizons=(1,), min_breadth=10_000))
+    assert none.quantile.isna().all().all() and none.spread.isna().all().all() and none.fm_slopes.isna().all().all()
 
 
 @pytest.mark.parametrize(
