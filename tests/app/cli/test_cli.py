@@ -55,7 +55,6 @@ def test_check_unreadable_file_names_it_and_exits_2(tmp_path: Path, capsys: pyte
 
 def test_check_reports_every_readable_file_when_the_panel_fails(monkeypatch: pytest.MonkeyPatch,
                                                                 capsys: pytest.CaptureFixture[str]) -> None:
-    import valuesift.app.cli_commands as commands
     from valuesift.core.errors import IntakeError, Reason
 
     def _fail(*_a: object, **_k: object) -> None:

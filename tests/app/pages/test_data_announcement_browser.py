@@ -52,7 +52,7 @@ def test_naming_the_publication_date_column_rereads_the_earnings(server: str, tm
         page.locator("#data-upload input[type=file]").set_input_files(_files(tmp_path))
         expect(page.locator("#data-upload-alert")).to_contain_text("Read 2 of 2 file(s)")
         card = page.locator(".vs-dataset", has=page.locator("h3", has_text="earnings.csv"))
-        expect(card).not_to_contain_text("became public")
+        expect(card).not_to_contain_text("dated by the announcement column")
         card.locator("summary", has_text="Change how this file is read").click()
         card.locator("input[id*='ds-pubdate']").fill("went_public")
         card.get_by_role("button", name="Read again with these choices").click()
