@@ -23,7 +23,7 @@ from valuesift.app.bundle.text import (
     universe_words,
 )
 from valuesift.app.caution import CAUTION
-from valuesift.app.figures.common import fmt_num, fmt_pct, span
+from valuesift.app.figures.common import fmt_num, fmt_pct, months, span
 from valuesift.app.figures.study import return_label, signal_label
 from valuesift.app.words import intake_report_lines, reason_words, screen_in_words, settings_in_words, stage_words
 from valuesift.core.result import StudyResult
@@ -173,7 +173,7 @@ def report_input(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     if "cheapest" in bts.index:
         c = bts.loc["cheapest"]
         windows = result.backtest.cohort_windows
-        after.append(f"Backtest (monthly rebalanced, held {result.backtest.holding_months} month(s), costs "
+        after.append(f"Backtest (monthly rebalanced, held {months(result.backtest.holding_months)}, costs "
                      f"{fmt_num(result.config.transaction_cost_bps, 0)} bp, equal-weighted, in-sample): the cheapest "
                      f"{word} earned {fmt_pct(c['ann_return'], 1)} a year, Sharpe {fmt_num(c['sharpe'], 2)} (risk-free "
                      f"rate {fmt_pct(result.config.risk_free_annual, 1)}), worst drawdown "

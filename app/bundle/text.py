@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from valuesift.app.figures.common import fmt_num, fmt_pct, month, span
+from valuesift.app.figures.common import fmt_num, fmt_pct, month, months, span
 from valuesift.app.words import EVIDENCE_WORDS, evidence_words
 from valuesift.core.portfolio.summaries import DRAWDOWN_DEPTH
 from valuesift.core.result import StudyResult
@@ -387,7 +387,7 @@ def _cohorts(result: StudyResult, h: int, panel: Any) -> list[str]:
         return ["No cohort completed its holding period.", ""]
     windows = _f(bt.cohort_windows)
     line1 = (f"{int(cs['n_beat'])} of {int(cs['n_cohorts'])} cohorts ({fmt_pct(cs['share_beat'], 0)}) of the "
-             f"cheapest quantile beat the {bt.comparison} over {bt.holding_months} month(s)"
+             f"cheapest quantile beat the {bt.comparison} over {months(bt.holding_months)}"
              + (f", resting on about {windows:.0f} independent windows" if bt.holding_months > 1 and np.isfinite(windows)
                 else "") + f"; mean excess {fmt_pct(cs['mean_excess'], 2)}.")
     line2 = (f"Best cohort formed {month(cs['best_formed'])} ({fmt_pct(cs['best_excess'], 1)}), worst formed "

@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
-from valuesift.app.figures.common import base_figure, finite_dates, fmt_num, fmt_pct, message_figure, span
+from valuesift.app.figures.common import base_figure, finite_dates, fmt_num, fmt_pct, message_figure, months, span
 from valuesift.app.figures.theme import CHEAP, SERIES
 from valuesift.core.result import StudyResult
 
@@ -48,7 +48,7 @@ def _months(result: StudyResult) -> pd.DatetimeIndex:
 def growth_figure(result: StudyResult) -> go.Figure:
     """Growth of 1 for each backtest portfolio (log scale), costs deducted."""
     bt = result.backtest
-    title = f"Growth of 1, quantile portfolios held {bt.holding_months} month(s)"
+    title = f"Growth of 1, quantile portfolios held {months(bt.holding_months)}"
     dates = _months(result)
     if bt.growth.empty or len(dates) == 0:
         return message_figure(title, "The backtest has no month with returns.")
@@ -115,7 +115,7 @@ def cohort_figure(result: StudyResult) -> go.Figure:
     cs = result.cohort_summary
     n = int(cs["n_cohorts"])
     lags = int(cs["hac_lags"])
-    subtitle = (f"{n} cohorts formed {span(ex.index)}, each held {bt.holding_months} month(s); "
+    subtitle = (f"{n} cohorts formed {span(ex.index)}, each held {months(bt.holding_months)}; "
                 f"{int(cs['n_beat'])} of {n} ({fmt_pct(cs['share_beat'], 0)}) beat it; mean excess "
                 f"{fmt_pct(cs['mean_excess'])}, "
                 + (f"Hansen-Hodrick t = {fmt_num(cs['t_hac'], 2)} ({lags} lags for the overlap; naive t "

@@ -19,6 +19,12 @@ def month(ts: object) -> str:
     return pd.Timestamp(ts).strftime("%b %Y")  # type: ignore[arg-type]
 
 
+def months(n: object) -> str:
+    """'1 month', '3 months'."""
+    k = int(n)  # type: ignore[call-overload]
+    return f"{k} month" if k == 1 else f"{k} months"
+
+
 def span(dates: Iterable[object]) -> str:
     """'Jan 2011 to Dec 2023' for a collection of dates (empty -> 'no dates')."""
     idx = pd.DatetimeIndex(list(dates))

@@ -129,7 +129,9 @@ def quantile_returns_figure(result: StudyResult, horizon: int, *, annualised: bo
                 f"monotonicity {fmt_num(ss['monotonicity'], 2)}")
     fig = base_figure(title + (" (annualised)" if annualised else ""), subtitle)
     fig.add_trace(go.Bar(x=names, y=vals, marker_color=diverging(n), name="mean return",
-                         text=[fmt_pct(v, 1) for v in vals], textposition="outside",
+                         # whole percents above six bars: a label then fits its bar's width without touching
+                         # the next one's
+                         text=[fmt_pct(v, 1 if n <= 6 else 0) for v in vals], textposition="outside",
                          hovertemplate="quantile %{x}: %{y:.2%}<extra></extra>"))
     fig.update_yaxes(title_text=return_label(result, horizon), tickformat=".1%")
     fig.update_xaxes(title_text="quantile of the signal (1 = dearest)")

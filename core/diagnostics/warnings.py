@@ -145,13 +145,15 @@ def input_warnings(
                           "then ranks the smallest loss-maker as the cheapest, which says little about value. "
                           "Read the results with that in mind or choose another signal.",
                           n_values=int(ey.size)))
-    short = {h: ip for h, ip in independent_periods.items() if ip < too_short_limit}
+    # A horizon with no usable date at all (0 periods) is not "short": the headline says why it has no number.
+    short = {h: ip for h, ip in independent_periods.items() if 0 < ip < too_short_limit}
     if short:
-        hs = ", ".join(f"{h} months ({ip:.1f})" for h, ip in sorted(short.items()))
+        hs = ", ".join(f"{h} month{'s' if h != 1 else ''} ({ip:.1f} independent periods)"
+                       for h, ip in sorted(short.items()))
         out.append(_w("too_short_history",
-                      f"Too short to judge at {hs} independent periods: fewer than {too_short_limit:.0f} "
-                      "non-overlapping windows. Those horizons' numbers are shown but get no verdict; load a "
-                      "longer history or look at shorter horizons.",
+                      f"Too short to judge at {hs}: fewer than {too_short_limit:.0f} non-overlapping windows. "
+                      "Those horizons' numbers are shown but get no verdict; load a longer history or look at "
+                      "shorter horizons.",
                       horizons=sorted(int(h) for h in short)))
     if universe_rule == "holdings":
         asof = holdings_date if holdings_date is not None else last_date

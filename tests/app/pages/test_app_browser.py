@@ -217,7 +217,9 @@ def _wait_redrawn(pg: object, before: str) -> str:
     pg.wait_for_function("""(before) => {  // a finished study with other numbers than before
         const r = document.querySelector('#study-results'); const s = document.querySelector('#study-summary');
         const box = document.querySelector('#study-progress-box');
-        return r && !r.hidden && box && box.hidden && (s.textContent + r.textContent) != before; }""",
+        // ... and settled: no callback still pending (a value typed while the page redraws is the next step's)
+        return r && !r.hidden && box && box.hidden && (s.textContent + r.textContent) != before &&
+            !document.querySelector('[data-dash-is-loading="true"]'); }""",
                          arg=before)  # type: ignore[attr-defined]
     return _drawn(pg)
 
