@@ -56,6 +56,12 @@ def add_intake_options(p: argparse.ArgumentParser) -> None:
     g = p.add_argument_group("reading files (every choice overrides auto-detection)")
     g.add_argument("--exclude", action="append", default=[], metavar="COLUMN",
                    help="column to leave out of every file (e.g. a market index among the securities); repeatable")
+    g.add_argument("--date-column", default=None, metavar="COLUMN",
+                   help="the column that holds the dates, in every file read (default: detected)")
+    g.add_argument("--security-column", default=None, metavar="COLUMN",
+                   help="long layout: the column that holds the security identifiers (default: detected)")
+    g.add_argument("--value-column", default=None, metavar="COLUMN",
+                   help="long layout: the column that holds the values (default: detected)")
     g.add_argument("--date-order", choices=["auto", "dmy", "mdy", "ymd"], default="auto",
                    help="day/month order for dates such as 03/04/2020 (default: decide from the data)")
     g.add_argument("--decimal", choices=["auto", "point", "comma"], default="auto",
@@ -79,6 +85,9 @@ def add_intake_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--keep-suspect-dividends", action="store_true",
                    help="keep dividends that fall in a month without a price or exceed 10 %% of the month's price "
                         "(default: they are set aside and listed in the report)")
+    g.add_argument("--earnings-form", choices=["auto", "eps", "pe"], default="auto",
+                   help="whether the earnings file holds EPS or P/E ratios (default: decide from the header or "
+                        "file name, else EPS)")
     g.add_argument("--earnings-date-column", default=None, metavar="COLUMN",
                    help="long earnings file: the column with the date each figure became public (announcement, "
                         "report or release date); each EPS is then used from the first month-end on or after it, "
@@ -95,6 +104,9 @@ def read_options_from_args(args: argparse.Namespace, kind: str | None = None, **
         kind=kind,  # type: ignore[arg-type]
         layout=args.layout,
         header_row=args.header_row,
+        date_column=getattr(args, "date_column", None),
+        security_column=getattr(args, "security_column", None),
+        value_column=getattr(args, "value_column", None),
         date_order=args.date_order,
         decimal=args.decimal,
         id_cleanup=args.id_cleanup,
@@ -102,6 +114,7 @@ def read_options_from_args(args: argparse.Namespace, kind: str | None = None, **
         exclude_columns=tuple(args.exclude),
         duplicate_rule=args.duplicates,
         earnings_date_column=getattr(args, "earnings_date_column", None) if kind == "earnings" else None,
+        earnings_form=getattr(args, "earnings_form", "auto") if kind == "earnings" else "auto",
         **extra,
     )
 

@@ -119,8 +119,34 @@ def _facts(result: StudyResult, panel: Any, horizon: int, created: datetime, stu
         ("Data period", f"{span(dates)} ({len(dates)} month-ends); universe present {span(used.index)}"),
         ("Returns", f"{return_label(result, horizon).replace(f'{horizon}-month ', '')}, dividends "
                     f"{'reinvested' if result.config.dividend_treatment == 'reinvest' else 'kept as cash'}"),
+        *_set_aside_facts(panel),
         ("Prepared", f"{created.strftime('%Y-%m-%d %H:%M')} UTC with ValueSift {core.__version__}"),
     ]
+
+
+def _set_aside_facts(panel: Any) -> list[tuple[str, str]]:
+    """The reading decisions a committee should see first: columns left out and suspected splits."""
+    rep = getattr(panel, "report", None)
+    if rep is None:
+        return []
+    out = []
+    left = [f"{f.name}: {', '.join(map(str, f.excluded_columns))}" for f in rep.files if f.excluded_columns]
+    out.append(("Columns left out", "; ".join(left) if left else "none"))
+    sp = rep.suspected_splits
+    if len(sp):
+        applied = sp[sp["applied"].astype(bool)]
+        pending = sp[~sp["applied"].astype(bool)]
+        words = []
+        if len(applied):
+            words.append(f"{len(applied)} applied ({', '.join(map(str, applied['security'].head(6)))}"
+                         f"{' and more' if len(applied) > 6 else ''})")
+        if len(pending):
+            words.append(f"{len(pending)} not applied, prices used as read ("
+                         f"{', '.join(map(str, pending['security'].head(6)))}{' and more' if len(pending) > 6 else ''})")
+        out.append(("Suspected splits", "; ".join(words) + "; see the appendix"))
+    else:
+        out.append(("Suspected splits", "none found"))
+    return out
 
 
 def _config_rows(result: StudyResult) -> list[tuple[str, str]]:

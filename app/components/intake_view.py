@@ -10,11 +10,18 @@ from dash import dcc, html
 from valuesift.app.words import reason_words
 from valuesift.app.components.common import text_table
 from valuesift.app.workspace import DatasetRecord
+from valuesift.core.intake.options import READ_CHOICES
 
 __all__ = ["dataset_card", "card_order", "KIND_OPTIONS", "options_from_controls", "detected_options", "has_overrides"]
 
-KIND_OPTIONS = [{"label": k, "value": k} for k in
-                ("prices", "earnings", "dividends", "sectors", "holdings", "benchmark", "market_cap", "signal")]
+KIND_OPTIONS = [{"label": w, "value": k} for k, w in (
+    ("prices", "prices"), ("earnings", "earnings"), ("dividends", "dividends"), ("sectors", "sectors"),
+    ("holdings", "holdings"), ("benchmark", "benchmark"), ("market_cap", "market capitalisation"),
+    ("signal", "your own signal"))]
+_EARNINGS_FORMS = [{"label": "detect (EPS unless the header says P/E)", "value": "auto"},
+                   {"label": "EPS", "value": "eps"}, {"label": "P/E", "value": "pe"}]
+_DUPLICATES = [{"label": "the last one wins", "value": "last"}, {"label": "the first one wins", "value": "first"},
+               {"label": "stop with an error", "value": "error"}]
 _LAYOUTS = [{"label": "detect", "value": "auto"}, {"label": "wide: one column per security", "value": "wide"},
             {"label": "long: date, security, value", "value": "long"}]
 _DATE_ORDERS = [{"label": "detect", "value": "auto"}, {"label": "day/month/year", "value": "dmy"},
@@ -23,6 +30,11 @@ _DECIMALS = [{"label": "detect", "value": "auto"}, {"label": "point (1,234.5)", 
              {"label": "comma (1.234,5)", "value": "comma"}]
 _CLEANUPS = [{"label": "leave as read", "value": "none"}, {"label": "upper case", "value": "upper"},
              {"label": "first word only", "value": "first_token"}, {"label": "pattern (regex)", "value": "regex"}]
+
+
+def _L(name: str) -> str:
+    """A reading choice's label, from the one table core.intake.options.READ_CHOICES."""
+    return READ_CHOICES[name][0]
 
 
 def _pid(kind: str, did: str) -> dict[str, str]:
@@ -66,6 +78,14 @@ def _frame_rows(v: Any) -> tuple[list[str], list[list[Any]]]:
     return [], []
 
 
+def _in_words(cols: list[str], rows: list[list[Any]]) -> tuple[list[str], list[list[Any]]]:
+    """A report table with its reason codes in words."""
+    if rows and "reason" in cols:
+        k = cols.index("reason")
+        rows = [[reason_words(v) if j == k else v for j, v in enumerate(row)] for row in rows]
+    return cols, rows
+
+
 def _tuple(v: Any) -> list[Any]:
     if isinstance(v, dict) and "__tuple__" in v:
         return list(v["__tuple__"])
@@ -79,22 +99,22 @@ def _controls(rec: DatasetRecord) -> html.Div:
     return html.Details(className="vs-overrides", open=not rec.ok, children=[
         html.Summary("Change how this file is read"),
         html.Div(className="vs-override-grid", children=[
-            html.Div([html.Label("File holds"), dcc.Dropdown(id=_pid("ds-kind", rec.id), options=KIND_OPTIONS,
+            html.Div([html.Label(_L("kind")), dcc.Dropdown(id=_pid("ds-kind", rec.id), options=KIND_OPTIONS,
                                                              value=o.kind, placeholder="detect")]),
-            html.Div([html.Label("Layout"), dcc.Dropdown(id=_pid("ds-layout", rec.id), options=_LAYOUTS,
+            html.Div([html.Label(_L("layout")), dcc.Dropdown(id=_pid("ds-layout", rec.id), options=_LAYOUTS,
                                                          value=o.layout, clearable=False)]),
-            html.Div([html.Label("Header row (1-based)"), dcc.Input(id=_pid("ds-header", rec.id), type="number",
+            html.Div([html.Label(_L("header_row") + " (counted from 1)"), dcc.Input(id=_pid("ds-header", rec.id), type="number",
                                                                     min=1, step=1, value=o.header_row,
                                                                     placeholder="detect")]),
-            html.Div([html.Label("Date order"), dcc.Dropdown(id=_pid("ds-dates", rec.id), options=_DATE_ORDERS,
+            html.Div([html.Label(_L("date_order")), dcc.Dropdown(id=_pid("ds-dates", rec.id), options=_DATE_ORDERS,
                                                              value=o.date_order, clearable=False)]),
-            html.Div([html.Label("Decimal style"), dcc.Dropdown(id=_pid("ds-decimal", rec.id), options=_DECIMALS,
+            html.Div([html.Label(_L("decimal")), dcc.Dropdown(id=_pid("ds-decimal", rec.id), options=_DECIMALS,
                                                                 value=o.decimal, clearable=False)]),
-            html.Div([html.Label("Identifier clean-up"), dcc.Dropdown(id=_pid("ds-idclean", rec.id), options=_CLEANUPS,
+            html.Div([html.Label(_L("id_cleanup")), dcc.Dropdown(id=_pid("ds-idclean", rec.id), options=_CLEANUPS,
                                                                       value=o.id_cleanup, clearable=False)]),
-            html.Div([html.Label("Identifier pattern"), dcc.Input(id=_pid("ds-idregex", rec.id), type="text",
+            html.Div([html.Label(_L("id_regex")), dcc.Input(id=_pid("ds-idregex", rec.id), type="text",
                                                                   value=o.id_regex or "", placeholder=r"e.g. ([A-Z]{3}\d{2})")]),
-            html.Div([html.Label("Signal name (own signal files)"),
+            html.Div([html.Label(_L("signal_name") + " (own signal files)"),
                       dcc.Input(id=_pid("ds-signame", rec.id), type="text", value=o.signal_name or "",
                                 placeholder="e.g. book yield")]),
             html.Div([html.Label("Higher signal values mean"),
@@ -102,10 +122,23 @@ def _controls(rec: DatasetRecord) -> html.Div:
                                    value="cheaper" if o.higher_is_cheaper else "dearer",
                                    options=[{"label": "cheaper (like a yield)", "value": "cheaper"},
                                             {"label": "dearer (like a ratio of price)", "value": "dearer"}])]),
-            html.Div([html.Label("Date each figure became public (earnings, long layout)"),
+            html.Div([html.Label(_L("earnings_date_column") + " (earnings, long layout)"),
                       dcc.Input(id=_pid("ds-pubdate", rec.id), type="text", value=o.earnings_date_column or "",
                                 placeholder=str(rep.get("availability_column") or "detect by name"))]),
-            html.Div([html.Label("Columns to leave out (comma-separated)"),
+            html.Div([html.Label(_L("earnings_form") + " (earnings files)"),
+                      dcc.Dropdown(id=_pid("ds-earnform", rec.id), options=_EARNINGS_FORMS, value=o.earnings_form,
+                                   clearable=False)]),
+            html.Div([html.Label(_L("date_column")), dcc.Input(id=_pid("ds-datecol", rec.id), type="text",
+                                                            value=o.date_column or "", placeholder="detect")]),
+            html.Div([html.Label(_L("security_column") + " (long layout)"),
+                      dcc.Input(id=_pid("ds-seccol", rec.id), type="text", value=o.security_column or "",
+                                placeholder="detect")]),
+            html.Div([html.Label(_L("value_column") + " (long layout)"),
+                      dcc.Input(id=_pid("ds-valcol", rec.id), type="text", value=o.value_column or "",
+                                placeholder="detect")]),
+            html.Div([html.Label(_L("duplicate_rule")), dcc.Dropdown(id=_pid("ds-dups", rec.id), options=_DUPLICATES,
+                                                                    value=o.duplicate_rule, clearable=False)]),
+            html.Div([html.Label(_L("exclude_columns") + " (comma-separated)"),
                       dcc.Input(id=_pid("ds-exclude", rec.id), type="text", value=", ".join(o.exclude_columns),
                                 placeholder=", ".join(suspects) if suspects else "none")]),
         ]),
@@ -122,7 +155,8 @@ def detected_options(options: Any) -> Any:
     """The reading intake detects by itself: every reading override cleared (left-out columns, own signal's
     name and direction kept, since they are not guesses of the reader)."""
     return replace(options, kind=None, layout="auto", header_row=None, date_order="auto", decimal="auto",
-                   id_cleanup="none", id_regex=None)
+                   id_cleanup="none", id_regex=None, date_column=None, security_column=None, value_column=None,
+                   duplicate_rule="last", earnings_form="auto")
 
 
 def has_overrides(options: Any) -> bool:
@@ -164,14 +198,11 @@ def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
                             className="vs-button vs-button-small"),
             ]))
         body.append(text_table(_summary_rows(r), class_name="vs-table vs-kv"))
-        cols, rows = _frame_rows(r.get("by_reason"))
-        if rows and "reason" in cols:      # the reason codes in words
-            k = cols.index("reason")
-            rows = [[reason_words(v) if j == k else v for j, v in enumerate(row)] for row in rows]
+        cols, rows = _in_words(*_frame_rows(r.get("by_reason")))
         if rows:
             body.append(html.H4("Cells not used, by reason"))
             body.append(text_table(rows, cols))
-        cols, rows = _frame_rows(r.get("examples"))
+        cols, rows = _in_words(*_frame_rows(r.get("examples")))
         if rows:
             body.append(html.Details([html.Summary(f"Where (first examples, {len(rows)} shown)"),
                                       text_table(rows, cols)]))
@@ -183,9 +214,15 @@ def dataset_card(rec: DatasetRecord, in_use: bool) -> html.Div:
                     id=f"card-{rec.id}", children=[head, *body])
 
 
+def _text(v: Any) -> str | None:
+    return (str(v).strip() or None) if v else None
+
+
 def options_from_controls(base: Any, kind: Any, layout: Any, header: Any, dates: Any, decimal: Any,
                           idclean: Any, idregex: Any, exclude: Any, signal_name: Any = None,
-                          direction: Any = "cheaper", pubdate: Any = None) -> Any:
+                          direction: Any = "cheaper", pubdate: Any = None, date_column: Any = None,
+                          security_column: Any = None, value_column: Any = None, duplicates: Any = None,
+                          earnings_form: Any = None) -> Any:
     """New ReadOptions from the card's controls (ConfigError names a bad choice)."""
     cols = tuple(c.strip() for c in str(exclude or "").split(",") if c.strip())
     return replace(
@@ -201,4 +238,9 @@ def options_from_controls(base: Any, kind: Any, layout: Any, header: Any, dates:
         signal_name=(str(signal_name).strip() or None) if signal_name else None,
         higher_is_cheaper=direction != "dearer",
         earnings_date_column=(str(pubdate).strip() or None) if pubdate else None,
+        date_column=_text(date_column),
+        security_column=_text(security_column),
+        value_column=_text(value_column),
+        duplicate_rule=duplicates or base.duplicate_rule,
+        earnings_form=earnings_form or base.earnings_form,
     )

@@ -10,6 +10,7 @@ from valuesift.app.escape import chart_text
 from valuesift.app.figures.common import base_figure, finite_dates, fmt_num, fmt_t, message_figure, month, span
 from valuesift.app.figures.study import return_label, signal_label
 from valuesift.app.figures.theme import CHEAP, DEAR, MUTED, diverging
+from valuesift.app.words import quantile_words, t_name
 from valuesift.core.reporting.screen import security_history
 from valuesift.core.result import StudyResult
 
@@ -41,7 +42,8 @@ def signal_history_figure(result: StudyResult, security: str) -> go.Figure:
     q = result.config.n_quantiles
     last = dates.max()
     qnow = result.quantile.loc[last, security] if security in result.quantile.columns else np.nan
-    label = "" if not np.isfinite(qnow) else f"; quantile {int(q - qnow + 1)} of {q} (1 = cheapest) on {month(last)}"
+    # the study's one numbering (1 = dearest .. n = cheapest), as on the page's header and the Screen
+    label = "" if not np.isfinite(qnow) else f"; quantile {quantile_words(qnow, q)} on {month(last)}"
     subtitle = (f"{len(dates)} month-ends with a value ({span(dates)}); universe of "
                 f"{fmt_num(result.coverage.get('mean_universe_names'), 0)} names "
                 f"on average; bands: the universe's {q} quantiles (blue = cheaper, brown = dearer){label}")
@@ -76,8 +78,14 @@ def later_returns_figure(result: StudyResult, security: str, horizon: int) -> go
         return message_figure(title, "No forward return can be measured for this security.")
     med = result.forward_return_median[horizon].to_numpy(dtype=float)
     r, t, n = hist.attrs["correlation"], hist.attrs["correlation_t"], hist.attrs["n_pairs"]
+    periods = hist.attrs["independent_periods"]
+    if hist.attrs["too_short"]:
+        judged = f"too short to judge ({fmt_num(periods, 1)} independent periods)"
+    else:
+        judged = (f"{t_name(hist.attrs['correlation_t_method'])} = {fmt_t(t)}, about {fmt_num(periods, 0)} "
+                  "independent periods; one name: weak evidence at best")
     subtitle = (f"{len(dates)} dates ({span(dates)}); its signal z against its return z: r = {fmt_num(r, 2)}, "
-                f"t = {fmt_t(t)} over {n} overlapping dates (one name: weak evidence)")
+                f"{judged}")
     fig = base_figure(title, subtitle, height=400, wide=True)
     v = fwd.to_numpy(dtype=float)
     fig.add_trace(go.Bar(x=fwd.index, y=v, name=chart_text(security),

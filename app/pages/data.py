@@ -12,13 +12,15 @@ from dash import ALL, Input, Output, State, ctx, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
 from valuesift.app.components.common import GRAPH_CONFIG, text_table
-from valuesift.app.components.intake_view import card_order, dataset_card, detected_options, options_from_controls
+from valuesift.app.components.intake_view import (KIND_OPTIONS, card_order, dataset_card, detected_options,
+                                                   options_from_controls)
 from valuesift.app.figures.common import message_figure
 from valuesift.app.figures.data import coverage_figure
 from valuesift.app.jobs_ui import alert
 from valuesift.app.services import current_owner, normalise_selection, selection_key, state
 from valuesift.core.errors import ValueSiftError
 from valuesift.core.intake import ReadOptions
+from valuesift.core.intake.options import READ_CHOICES
 
 dash.register_page(__name__, path="/data", name="Data", order=0, title="ValueSift - Data")
 
@@ -38,6 +40,11 @@ def layout(**_: Any) -> html.Div:
                    className_active="vs-upload-active",
                    children=html.Div(["Drag and drop files here, or ", html.Span("choose files", className="vs-link"),
                                       html.Div(f"up to {max_bytes / 1024 / 1024:.0f} MB per upload", className="vs-hint")])),
+        html.Div(className="vs-row vs-upload-choices", children=[
+            html.Label([READ_CHOICES["kind"][0], " (of the files dropped next)"], htmlFor=f"{P}-upload-kind"),
+            dcc.Dropdown(id=f"{P}-upload-kind", options=KIND_OPTIONS, value=None, clearable=True,
+                         placeholder="detect from each file's name and header", className="vs-upload-kind"),
+        ]),
         dcc.Loading(html.Div(id=f"{P}-upload-alert"), type="dot"),
         html.P(["Files are kept in the workspace folder ", html.Code(str(state().workspace.root), id=f"{P}-workspace"),
                 ": they are here again after a restart (start the server with --workspace to use another folder)."],
@@ -88,10 +95,10 @@ def _with(sel: dict[str, list[str]], rec: Any) -> dict[str, list[str]]:
     Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
     Output(f"{P}-upload-alert", "children"), Output(f"{P}-upload", "contents"),
     Input(f"{P}-upload", "contents"), State(f"{P}-upload", "filename"), State("vs-selection", "data"),
-    State(f"{P}-version", "data"),
+    State(f"{P}-version", "data"), State(f"{P}-upload-kind", "value"),
     prevent_initial_call=True,
 )
-def _upload(contents: Any, names: Any, sel_raw: Any, version: Any) -> Any:
+def _upload(contents: Any, names: Any, sel_raw: Any, version: Any, kind: Any = None) -> Any:
     if not contents:
         raise PreventUpdate
     st = state()
@@ -119,7 +126,7 @@ def _upload(contents: Any, names: Any, sel_raw: Any, version: Any) -> Any:
                 messages.append(alert(f"{name} is already loaded (as {known.name}); it is used as it was read, "
                                       "with the choices made for it.", "info"))
             else:
-                rec = st.workspace.add_upload(name, raw, ReadOptions(max_bytes=st.max_upload_bytes),
+                rec = st.workspace.add_upload(name, raw, ReadOptions(kind=kind or None, max_bytes=st.max_upload_bytes),
                                               owner=current_owner() or "")
             del raw
         finally:
@@ -165,12 +172,15 @@ def _triggered(values: list[Any]) -> str:
     State({"type": "ds-idregex", "id": ALL}, "value"), State({"type": "ds-exclude", "id": ALL}, "value"),
     State({"type": "ds-signame", "id": ALL}, "value"), State({"type": "ds-direction", "id": ALL}, "value"),
     State({"type": "ds-pubdate", "id": ALL}, "value"),
+    State({"type": "ds-datecol", "id": ALL}, "value"), State({"type": "ds-seccol", "id": ALL}, "value"),
+    State({"type": "ds-valcol", "id": ALL}, "value"), State({"type": "ds-dups", "id": ALL}, "value"),
+    State({"type": "ds-earnform", "id": ALL}, "value"),
     State("vs-selection", "data"), State(f"{P}-version", "data"),
     prevent_initial_call=True,
 )
 def _reread(clicks: Any, ids: Any, kinds: Any, layouts: Any, headers: Any, dates: Any, decimals: Any,
-            cleans: Any, regexes: Any, excludes: Any, signames: Any, directions: Any, pubdates: Any, sel_raw: Any,
-            version: Any) -> Any:
+            cleans: Any, regexes: Any, excludes: Any, signames: Any, directions: Any, pubdates: Any,
+            datecols: Any, seccols: Any, valcols: Any, dups: Any, forms: Any, sel_raw: Any, version: Any) -> Any:
     did = _triggered(clicks)
     j = [i["id"] for i in ids].index(did)
     st = state()
@@ -180,7 +190,8 @@ def _reread(clicks: Any, ids: Any, kinds: Any, layouts: Any, headers: Any, dates
         raise PreventUpdate
     try:
         opts = options_from_controls(old.options, kinds[j], layouts[j], headers[j], dates[j], decimals[j],
-                                     cleans[j], regexes[j], excludes[j], signames[j], directions[j], pubdates[j])
+                                     cleans[j], regexes[j], excludes[j], signames[j], directions[j], pubdates[j],
+                                     datecols[j], seccols[j], valcols[j], dups[j], forms[j])
     except ValueSiftError as err:
         return no_update, no_update, alert(str(err))
     return _reread_with(did, opts, sel_raw, version)

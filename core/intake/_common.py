@@ -15,7 +15,7 @@ from valuesift.core.intake import numbers as nb
 from valuesift.core.intake.dates import parse_dates
 from valuesift.core.intake.kinds import VALUE_WORDS
 from valuesift.core.intake.numbers import detect_decimal, parse_numbers
-from valuesift.core.intake.options import ReadOptions
+from valuesift.core.intake.options import ReadOptions, choice_words
 from valuesift.core.intake.readers import Grid
 from valuesift.core.intake.sniff import norm_name
 from valuesift.core.intake.tally import Tally
@@ -111,7 +111,7 @@ def find_column(ctx: Ctx, wanted: str, setting: str) -> int:
             return j
     if wanted.strip().lower() in low:
         return low.index(wanted.strip().lower())
-    raise IntakeError(ctx.name, Reason.COLUMN_NOT_FOUND, f"{setting}={wanted!r} is not a column of the file.",
+    raise IntakeError(ctx.name, Reason.COLUMN_NOT_FOUND, f"{choice_words(setting)} names {wanted!r}, which is not a column of the file.",
                       column=wanted, row=ctx.grid.header_row,
                       hint=f"Columns found: {', '.join(map(repr, ctx.header[:12]))}{' ...' if len(ctx.header) > 12 else ''}.")
 
@@ -264,10 +264,10 @@ def value_column(ctx: Ctx, kind: str, candidates: Sequence[int], numeric: Sequen
         return numeric[0]
     if not numeric:
         raise IntakeError(ctx.name, Reason.NO_VALUE_COLUMN, f"no column of numbers found for the {kind} values.",
-                          row=ctx.grid.header_row, hint="Set value_column to the column that holds them.")
+                          row=ctx.grid.header_row, hint=f"Set {choice_words('value_column')} to the column that holds them.")
     raise IntakeError(ctx.name, Reason.AMBIGUOUS_LAYOUT,
                       f"several columns could hold the {kind} values: {', '.join(repr(ctx.header[j]) for j in numeric)}.",
-                      row=ctx.grid.header_row, hint="Set value_column to the one to use.")
+                      row=ctx.grid.header_row, hint=f"Set {choice_words('value_column')} to the one to use.")
 
 
 def tally_values(ctx: Ctx, final: np.ndarray, vcols: Sequence[int], stacked: pd.Series) -> None:

@@ -42,6 +42,11 @@ class ParsedFile:
     size: int
 
 
+#: what to do about a file above the size limit
+_RAISE_LIMIT = ("If the file is genuine, raise the size limit (--max-upload-mb when you serve the dashboard; "
+                "max_bytes of the reading choices in Python).")
+
+
 def _load(source: str | os.PathLike[str] | bytes, name: str | None, options: ReadOptions) -> tuple[bytes, str]:
     if isinstance(source, (bytes, bytearray, memoryview)):
         if not name:
@@ -50,7 +55,7 @@ def _load(source: str | os.PathLike[str] | bytes, name: str | None, options: Rea
         raw = bytes(source)
         if len(raw) > options.max_bytes:
             raise IntakeError(name, Reason.TOO_LARGE, f"the file has {len(raw):,} bytes, above the limit of {options.max_bytes:,}.",
-                              hint="Raise max_bytes if the file is genuine.")
+                              hint=_RAISE_LIMIT)
         return raw, name
     path = os.fspath(source)
     label = name or os.path.basename(path)
@@ -61,7 +66,7 @@ def _load(source: str | os.PathLike[str] | bytes, name: str | None, options: Rea
                           hint="Check the path.") from err
     if size > options.max_bytes:
         raise IntakeError(label, Reason.TOO_LARGE, f"the file has {size:,} bytes, above the limit of {options.max_bytes:,}.",
-                          hint="Raise max_bytes if the file is genuine.")
+                          hint=_RAISE_LIMIT)
     try:
         with open(path, "rb") as fh:
             raw = fh.read(options.max_bytes + 1)
@@ -69,7 +74,7 @@ def _load(source: str | os.PathLike[str] | bytes, name: str | None, options: Rea
         raise IntakeError(label, Reason.UNREADABLE, "the file cannot be read.", hint="Check the path and permissions.") from err
     if len(raw) > options.max_bytes:
         raise IntakeError(label, Reason.TOO_LARGE, f"the file is above the limit of {options.max_bytes:,} bytes.",
-                          hint="Raise max_bytes if the file is genuine.")
+                          hint=_RAISE_LIMIT)
     return raw, label
 
 

@@ -10,14 +10,44 @@ from typing import get_args
 from valuesift.core.choices import DateOrder, DecimalStyle, DuplicateRule, EarningsForm, FileKind, IdCleanup, Layout
 from valuesift.core.errors import ConfigError
 
-__all__ = ["ReadOptions", "PanelOptions"]
+__all__ = ["ReadOptions", "PanelOptions", "READ_CHOICES", "choice_words"]
+
+#: Each reading choice in words, with its command-line flag: the one home of the names the Data page's
+#: "Change how this file is read" controls carry, the command-line options use and every error and note
+#: of intake names (a message never names a field of :class:`ReadOptions`).
+READ_CHOICES: dict[str, tuple[str, str | None]] = {
+    "kind": ("File holds", None),
+    "layout": ("Layout", "--layout"),
+    "header_row": ("Header row", "--header-row"),
+    "date_column": ("Date column", "--date-column"),
+    "security_column": ("Security column", "--security-column"),
+    "value_column": ("Value column", "--value-column"),
+    "date_order": ("Date order", "--date-order"),
+    "decimal": ("Decimal style", "--decimal"),
+    "delimiter": ("Delimiter", None),
+    "encoding": ("Text encoding", None),
+    "sheet": ("Worksheet", None),
+    "id_cleanup": ("Identifier clean-up", "--id-cleanup"),
+    "id_regex": ("Identifier pattern", "--id-regex"),
+    "exclude_columns": ("Columns to leave out", "--exclude"),
+    "earnings_form": ("Earnings read as", "--earnings-form"),
+    "earnings_date_column": ("Date each figure became public", "--earnings-date-column"),
+    "duplicate_rule": ("Repeated date and security", "--duplicates"),
+    "signal_name": ("Signal name", "--signal-name"),
+}
+
+
+def choice_words(name: str) -> str:
+    """A reading choice as a person finds it: ``"'Date column' (--date-column)"``."""
+    label, flag = READ_CHOICES[name]
+    return f"'{label}'" + (f" ({flag})" if flag else "")
 
 
 def _check_choice(setting: str, value: object, alias: object) -> None:
     allowed = get_args(alias)
     if value not in allowed:
         raise ConfigError(
-            f"Setting {setting}={value!r} is not allowed.",
+            f"{choice_words(setting)} {value!r} is not allowed.",
             hint=f"Use one of: {', '.join(map(repr, allowed))}.",
         )
 
@@ -92,27 +122,30 @@ class ReadOptions:
         _check_choice("earnings_form", self.earnings_form, EarningsForm)
         _check_choice("duplicate_rule", self.duplicate_rule, DuplicateRule)
         if self.header_row is not None and (not isinstance(self.header_row, int) or self.header_row < 1):
-            raise ConfigError(f"Setting header_row={self.header_row!r} is not allowed.", hint="Give a 1-based row number.")
+            raise ConfigError(f"{choice_words('header_row')} {self.header_row!r} is not allowed.",
+                              hint="Give a row number counted from 1.")
         if self.delimiter is not None and len(self.delimiter) != 1:
-            raise ConfigError(f"Setting delimiter={self.delimiter!r} is not allowed.", hint="Give one character.")
+            raise ConfigError(f"{choice_words('delimiter')} {self.delimiter!r} is not allowed.", hint="Give one character.")
         if self.encoding is not None:
             try:
                 codecs.lookup(self.encoding)
             except LookupError as err:
-                raise ConfigError(f"Setting encoding={self.encoding!r} is not a known encoding.", hint="Try 'utf-8' or 'cp1252'.") from err
+                raise ConfigError(f"{choice_words('encoding')} {self.encoding!r} is not a known encoding.", hint="Try 'utf-8' or 'cp1252'.") from err
         if self.id_cleanup == "regex":
             if not self.id_regex:
-                raise ConfigError("Setting id_cleanup='regex' needs id_regex.", hint="Give a regular expression.")
+                raise ConfigError(f"{choice_words('id_cleanup')} by pattern needs an {choice_words('id_regex')}.",
+                                  hint="Give a regular expression.")
             try:
                 re.compile(self.id_regex)
             except re.error as err:
-                raise ConfigError(f"Setting id_regex={self.id_regex!r} is not a valid regular expression.", hint=str(err)) from err
+                raise ConfigError(f"{choice_words('id_regex')} {self.id_regex!r} is not a valid regular expression.",
+                                  hint=str(err)) from err
             _check_regex_cost(self.id_regex)
         if isinstance(self.exclude_columns, str):
-            raise ConfigError("Setting exclude_columns must be a tuple of column names, not one string.",
-                              hint=f"Write exclude_columns=({self.exclude_columns!r},).")
+            raise ConfigError(f"{choice_words('exclude_columns')} must be a list of column names, not one string.",
+                              hint="Separate the names with commas; each is one column to leave out.")
         if not isinstance(self.max_bytes, int) or self.max_bytes <= 0:
-            raise ConfigError(f"Setting max_bytes={self.max_bytes!r} is not allowed.", hint="Give a positive byte count.")
+            raise ConfigError(f"The largest file size {self.max_bytes!r} is not allowed.", hint="Give a positive byte count.")
 
 
 #: the longest identifier pattern accepted (it is run on every identifier of a file)
@@ -189,10 +222,10 @@ def _check_regex_cost(pattern: str) -> None:
     long, so a pattern without nested repeats stays polynomial in that bound.
     """
     if len(pattern) > MAX_ID_REGEX_CHARS:
-        raise ConfigError(f"Setting id_regex is {len(pattern)} characters long, above the limit of {MAX_ID_REGEX_CHARS}.",
+        raise ConfigError(f"{choice_words('id_regex')} is {len(pattern)} characters long, above the limit of {MAX_ID_REGEX_CHARS}.",
                           hint="An identifier pattern is usually short, such as ([A-Z]{2}[0-9]+).")
     if _nested_repeat(pattern):
-        raise ConfigError(f"Setting id_regex={pattern!r} repeats a group that itself repeats, which can take "
+        raise ConfigError(f"{choice_words('id_regex')} {pattern!r} repeats a group that itself repeats, which can take "
                           "minutes on one long identifier.",
                           hint="Remove the inner or the outer repeat, for example write ([A-Z]+) instead of ([A-Z]+)+.")
 
@@ -238,14 +271,14 @@ class PanelOptions:
 
     def __post_init__(self) -> None:
         if not isinstance(self.staleness_days, int) or self.staleness_days < 0:
-            raise ConfigError(f"Setting staleness_days={self.staleness_days!r} is not allowed.", hint="Give 0 or more days.")
+            raise ConfigError(f"The staleness limit (--staleness-days) {self.staleness_days!r} is not allowed.", hint="Give 0 or more days.")
         if not (0.0 < float(self.split_threshold) < 1.0):
-            raise ConfigError(f"Setting split_threshold={self.split_threshold!r} is not allowed.", hint="Give a share between 0 and 1, e.g. 0.4.")
+            raise ConfigError(f"The split threshold {self.split_threshold!r} is not allowed.", hint="Give a share between 0 and 1, e.g. 0.4.")
         if not float(self.extreme_pe) > 0:
-            raise ConfigError(f"Setting extreme_pe={self.extreme_pe!r} is not allowed.", hint="Give a positive number, e.g. 200.")
+            raise ConfigError(f"The extreme P/E limit {self.extreme_pe!r} is not allowed.", hint="Give a positive number, e.g. 200.")
         if not isinstance(self.flat_run_months, int) or self.flat_run_months < 2:
-            raise ConfigError(f"Setting flat_run_months={self.flat_run_months!r} is not allowed.", hint="Give 2 or more.")
+            raise ConfigError(f"The flat-price run length {self.flat_run_months!r} is not allowed.", hint="Give 2 or more.")
         if isinstance(self.confirmed_splits, str):
-            raise ConfigError("Setting confirmed_splits must be a set of security codes, not one string.",
+            raise ConfigError("The confirmed splits (--confirm-split) must be a set of security codes, not one string.",
                               hint=f"Write confirmed_splits=frozenset({{{self.confirmed_splits!r}}}).")
         object.__setattr__(self, "confirmed_splits", frozenset(self.confirmed_splits))

@@ -20,7 +20,7 @@ import pyarrow.csv as pacsv
 import pyarrow.parquet as pq
 
 from valuesift.core.errors import IntakeError, Reason
-from valuesift.core.intake.options import ReadOptions
+from valuesift.core.intake.options import ReadOptions, choice_words
 from valuesift.core.intake.sniff import MAX_CELL_CHARS, decode, find_header, is_value, sample_records, sniff_delimiter
 
 __all__ = ["Grid", "read_grid", "detect_format", "XLSX_EXPANSION_LIMIT", "FAST_PATH_MIN_CHARS", "MAX_COLUMNS",
@@ -109,11 +109,11 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
         h_line = options.header_row - 1
         lines_total = text.count("\n") + 1
         if h_line >= lines_total:
-            raise IntakeError(name, Reason.BAD_OPTION, f"header_row={options.header_row} is beyond the end of the file ({lines_total} lines).",
+            raise IntakeError(name, Reason.BAD_OPTION, f"{choice_words('header_row')} {options.header_row} is beyond the end of the file ({lines_total} lines).",
                               hint="Give the row number of the header as the file shows it.")
         offset = _line_offset(text, h_line)
         if offset < 0:
-            raise IntakeError(name, Reason.NO_HEADER, "the header row is past the end of the file.", hint="Check header_row.")
+            raise IntakeError(name, Reason.NO_HEADER, "the header row is past the end of the file.", hint=f"Check {choice_words('header_row')}.")
         header, _, end, _ = sample_records(text[offset:], delim, 1)[0]
         end += offset
     else:
@@ -123,7 +123,7 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
     while header and not header[-1]:
         header.pop()
     if len(header) < 1:
-        raise IntakeError(name, Reason.NO_HEADER, "the header row is empty.", row=h_line + 1, hint="Set header_row to the row with column names.")
+        raise IntakeError(name, Reason.NO_HEADER, "the header row is empty.", row=h_line + 1, hint=f"Set {choice_words('header_row')} to the row with column names.")
     _check_width(len(header), name, h_line + 1)
     body = text[end:]
     grid = None
@@ -321,7 +321,7 @@ def _check_zip(raw: bytes, name: str, options: ReadOptions) -> None:
     limit = XLSX_EXPANSION_LIMIT * options.max_bytes
     if total > limit:
         raise IntakeError(name, Reason.TOO_LARGE, f"the spreadsheet unpacks to {total:,} bytes, above the limit of {limit:,}.",
-                          hint="Export the sheet you need as CSV, or raise max_bytes if the file is genuine.")
+                          hint="Export the sheet you need as CSV, or, if the file is genuine, raise the size limit (--max-upload-mb when you serve the dashboard).")
 
 
 def _sheet_rows(raw: bytes, name: str, options: ReadOptions) -> tuple[list[list[Any]], str, list[str]]:
@@ -379,7 +379,7 @@ def _read_xlsx(raw: bytes, name: str, options: ReadOptions) -> Grid:
     if options.header_row is not None:
         h = options.header_row - 1
         if h >= len(rows):
-            raise IntakeError(name, Reason.BAD_OPTION, f"header_row={options.header_row} is beyond the last row ({len(rows)}).",
+            raise IntakeError(name, Reason.BAD_OPTION, f"{choice_words('header_row')} {options.header_row} is beyond the last row ({len(rows)}).",
                               hint="Give the row number of the header as the sheet shows it.")
     else:
         _check_cells(rows[:80], name, range(1, 81))

@@ -11,6 +11,7 @@ from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake import numbers as nb
 from valuesift.core.intake._common import DUP, NOSEC, Ctx, clean_ids, decide_decimal, find_column, number_profile, tally_values, value_column
 from valuesift.core.intake.numbers import parse_numbers
+from valuesift.core.intake.options import choice_words
 from valuesift.core.intake.sniff import SECURITY_WORDS, norm_name
 
 __all__ = ["tidy_records"]
@@ -42,7 +43,7 @@ def tidy_records(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, d
     raw_ids = ctx.text(s)
     ids, misses = clean_ids(raw_ids, o)
     if misses:
-        ctx.notes.append(f"{misses} identifiers did not match id_regex and were kept as written")
+        ctx.notes.append(f"{misses} identifiers did not match the identifier pattern and were kept as written")
     sec_blank = (ids == "").to_numpy(dtype=bool)
     rows = g.rows
     ctx.tally.add_parsed(int((~sec_blank).sum()))
@@ -72,7 +73,7 @@ def tidy_records(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, d
         if o.duplicate_rule == "error":
             k = int(np.flatnonzero(frame.duplicated(["security"], keep="first").to_numpy())[0])
             raise IntakeError(ctx.name, Reason.DUPLICATE_ENTRY, f"security {frame['security'].iloc[k]!r} appears more than once.",
-                              row=int(rows[valid[k]]), column=ctx.header[v], hint="Remove the duplicate, or set duplicate_rule='last'.")
+                              row=int(rows[valid[k]]), column=ctx.header[v], hint=f"Remove the duplicate, or set {choice_words('duplicate_rule')} to the last one wins.")
         final[valid[dup]] = DUP
         ctx.notes.append(f"{int(dup.sum())} repeated securities resolved ({o.duplicate_rule} wins)")
         frame = frame[~dup]

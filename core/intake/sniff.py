@@ -9,6 +9,7 @@ from typing import Sequence
 import pandas as pd
 
 from valuesift.core.errors import IntakeError, Reason
+from valuesift.core.intake.options import choice_words
 
 __all__ = [
     "decode",
@@ -252,4 +253,4 @@ def find_header(rows: Sequence[Sequence[str]], name: str) -> int:
         if widths[i] >= need - 1 and len(nonempty) >= 2 and all(not is_value(c) for c in nonempty):
             return i
     raise IntakeError(name, Reason.NO_HEADER, "no header row found: the widest rows hold only numbers or dates.",
-                      row=1, hint="Add a header row (a date column name and one name per column), or set header_row.")
+                      row=1, hint=f"Add a header row (a date column name and one name per column), or set {choice_words('header_row')}.")

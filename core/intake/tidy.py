@@ -25,7 +25,7 @@ from valuesift.core.intake._common import (
 from valuesift.core.intake.dates import parse_dates
 from valuesift.core.intake.kinds import guess_kind, infer_earnings_form
 from valuesift.core.intake.numbers import parse_numbers
-from valuesift.core.intake.options import ReadOptions
+from valuesift.core.intake.options import ReadOptions, choice_words
 from valuesift.core.intake.readers import Grid
 from valuesift.core.intake.records import tidy_records
 from valuesift.core.intake.report import FileReport
@@ -68,10 +68,10 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd
     kind = options.kind or guess_kind(name, header)
     if kind is None:
         raise IntakeError(name, Reason.UNKNOWN_KIND, "cannot tell what the file holds from its name or header.",
-                          row=grid.header_row, hint="Set kind (prices, earnings, dividends, sectors, holdings, benchmark, market_cap or signal).")
+                          row=grid.header_row, hint=f"Choose what it holds under {choice_words('kind')} (prices, earnings, dividends, sectors, holdings, benchmark, market capitalisation or your own signal), or give it with --prices, --earnings, ... on the command line.")
     if grid.n_rows == 0:
         raise IntakeError(name, Reason.NO_DATA, "the file has a header but no data rows.", row=grid.header_row,
-                          hint="Check that the export contains the data, or that header_row is right.")
+                          hint=f"Check that the export contains the data, or that {choice_words('header_row')} is right.")
     ctx = Ctx(name, grid, options, header)
     ctx.notes.extend(grid.notes)
     if grid.extra_cells:
@@ -81,7 +81,7 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd
     excluded = _excluded(ctx)
     avail = [j for j in range(len(header)) if j not in excluded]
     if not avail:
-        raise IntakeError(name, Reason.NO_VALUE_COLUMN, "every column is excluded.", hint="Check exclude_columns.")
+        raise IntakeError(name, Reason.NO_VALUE_COLUMN, "every column is excluded.", hint=f"Check {choice_words('exclude_columns')}.")
     if kind in ("sectors", "holdings"):
         data, extra = tidy_records(ctx, kind, avail)
     else:
@@ -108,7 +108,7 @@ def _excluded(ctx: Ctx) -> set[int]:
     for want in ctx.options.exclude_columns:
         hits = [j for j, h in enumerate(low) if h == want.strip().lower()]
         if not hits:
-            ctx.notes.append(f"exclude_columns names {want!r}, which is not a column of this file (nothing excluded for it)")
+            ctx.notes.append(f"{choice_words('exclude_columns')} names {want!r}, which is not a column of this file (nothing left out for it)")
         out.update(hits)
     for j in sorted(out):
         ctx.whole_column(j, Reason.EXCLUDED_COLUMN)
@@ -133,7 +133,7 @@ def _date_column(ctx: Ctx, avail: list[int]) -> tuple[int, bool]:
         if date_profile(ctx.col(j), allow_serial=True) >= 0.8:
             return j, True
     raise IntakeError(ctx.name, Reason.NO_DATE_COLUMN, "no column of dates found.", row=ctx.grid.header_row,
-                      hint="Set date_column to the column that holds the dates.")
+                      hint=f"Set {choice_words('date_column')} to the column that holds the dates.")
 
 
 #: Header words of a column holding the date an earnings figure became public (matched on the
@@ -182,7 +182,7 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
             pool = kw or text_cols or [j for j in rest if norm_name(ctx.header[j]) in SECURITY_WORDS]
             if not pool:
                 raise IntakeError(ctx.name, Reason.AMBIGUOUS_LAYOUT, "long layout asked for, but no column of security codes found.",
-                                  row=g.header_row, hint="Set security_column, or layout='wide'.")
+                                  row=g.header_row, hint=f"Set {choice_words('security_column')}, or choose the wide {choice_words('layout')}.")
             sec = pool[0]
         cands = [j for j in rest if j != sec]
         vcols = [value_column(ctx, kind, cands, [j for j in numeric if j != sec])]
@@ -267,7 +267,7 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
             if o.duplicate_rule == "error":
                 j = vcols[int(np.flatnonzero(dup_names)[1])]
                 raise IntakeError(ctx.name, Reason.DUPLICATE_COLUMNS, f"security {twice[0]!r} has more than one column.",
-                                  row=g.header_row, column=ctx.header[j], hint="Remove the extra column, or set duplicate_rule='last'.")
+                                  row=g.header_row, column=ctx.header[j], hint=f"Remove the extra column, or set {choice_words('duplicate_rule')} to the last one wins.")
             ctx.notes.append(f"securities with more than one column: {', '.join(map(repr, twice[:10]))}; "
                              f"the {o.duplicate_rule} valid value per date wins")
         ccodes, id_table = pd.factorize(cleaned, sort=True)
@@ -296,7 +296,7 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
             who = f"security {id_table[sec_v[k]]!r} " if layout != "series" else ""
             raise IntakeError(ctx.name, Reason.DUPLICATE_ENTRY, f"{who}has more than one value for {when}.",
                               row=int(g.rows[ii[k]]), column=ctx.header[vcols[jj[k]]],
-                              hint="Remove the duplicate, or set duplicate_rule='last' (or 'first').")
+                              hint=f"Remove the duplicate, or set {choice_words('duplicate_rule')} to the last (or the first) one wins.")
         final[valid[order[drop]]] = DUP
         n_dup_dates = int(pd.Series(date_ns[date_ok]).duplicated().sum())
         ctx.notes.append(f"{int(drop.sum())} duplicate entries resolved ({o.duplicate_rule} wins)"
@@ -314,7 +314,7 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         src = ctx.header[vcols[0]] if layout != "wide" else ctx.name
         if form is None:
             form = infer_earnings_form(src) or infer_earnings_form(ctx.name) or "eps"
-            ctx.notes.append(f"earnings read as {str(form).upper()} (" + ("from the header/file name" if infer_earnings_form(src) or infer_earnings_form(ctx.name) else "assumed; set earnings_form='pe' if these are P/E ratios") + ")")
+            ctx.notes.append(f"earnings read as {str(form).upper()} (" + ("from the header/file name" if infer_earnings_form(src) or infer_earnings_form(ctx.name) else f"assumed; if these are P/E ratios, set {choice_words('earnings_form')} to P/E") + ")")
         value_form = form
     else:
         value_form = None

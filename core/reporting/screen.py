@@ -9,6 +9,8 @@ import pandas as pd
 
 from valuesift.core.correlation.pearson import pearson_with_t
 from valuesift.core.errors import ConfigError
+from valuesift.core.inference.hac import headline_inference
+from valuesift.core.inference.nonoverlap import TOO_SHORT_PERIODS, independent_periods
 from valuesift.core.signals.clean import zscore_rows
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -143,8 +145,13 @@ def security_history(result: "StudyResult", security: str, horizon: int | None =
     ddof 1).  ``attrs["caution"]`` holds :data:`SINGLE_NAME_CAUTION`,
     ``attrs["horizon"]`` the horizon, ``attrs["correlation"]`` the Pearson r of
     ``signal_z`` and ``return_z`` over the dates with both, ``attrs["correlation_t"]``
-    its t (:func:`valuesift.core.correlation.pearson.correlation_t`; overlapping dates
-    make it optimistic) and ``attrs["n_pairs"]`` the number of those dates.
+    its overlap-aware t (the headline standard error of
+    :func:`valuesift.core.inference.hac.headline_inference` on the standardised cross
+    products, whose mean is r; method in ``attrs["correlation_t_method"]``),
+    ``attrs["correlation_t_naive"]`` the t that assumes independent dates,
+    ``attrs["independent_periods"]`` and ``attrs["too_short"]`` (fewer than
+    :data:`~valuesift.core.inference.nonoverlap.TOO_SHORT_PERIODS`), and
+    ``attrs["n_pairs"]`` the number of those dates.
 
     Notes
     -----
@@ -169,10 +176,26 @@ def security_history(result: "StudyResult", security: str, horizon: int | None =
         },
         index=result.signal_z.index,
     )
-    r, t, n = pearson_with_t(out["signal_z"].to_numpy(), out["return_z"].to_numpy())
+    a, b = out["signal_z"].to_numpy(), out["return_z"].to_numpy()
+    r, t_naive, n = pearson_with_t(a, b)
+    # The overlap-aware t: the correlation is the time-mean of the standardised cross products, whose
+    # h-month overlap the headline standard error (Hansen-Hodrick above one month) allows for.
+    ok = np.isfinite(a) & np.isfinite(b)
+    head: dict[str, object] = {"t": np.nan, "method": "newey_west"}
+    if ok.sum() >= 3:
+        x, y = a[ok], b[ok]
+        sx, sy = x.std(ddof=1), y.std(ddof=1)
+        if sx > 0 and sy > 0:
+            u = (x - x.mean()) * (y - y.mean()) / (sx * sy) * (len(x) / (len(x) - 1))
+            head = headline_inference(u, h)
+    periods = independent_periods(int(n), h)
     out.attrs["caution"] = SINGLE_NAME_CAUTION
     out.attrs["horizon"] = h
     out.attrs["correlation"] = r
-    out.attrs["correlation_t"] = t
+    out.attrs["correlation_t"] = float(head["t"])  # type: ignore[arg-type]
+    out.attrs["correlation_t_method"] = str(head["method"])
+    out.attrs["correlation_t_naive"] = t_naive
+    out.attrs["independent_periods"] = periods
+    out.attrs["too_short"] = bool(periods < TOO_SHORT_PERIODS)
     out.attrs["n_pairs"] = n
     return out

@@ -44,7 +44,7 @@ def lagged_eps(panel: Panel, lag_months: int, max_age_months: int) -> np.ndarray
     if panel.eps is None:
         raise ConfigError(
             "The study needs earnings (EPS) but the panel has none.",
-            hint="Load an earnings file, or choose dividend_yield or a user signal as 'signal'.",
+            hint="Load an earnings file, or choose the dividend yield or your own signal under 'Signal' (--signal).",
         )
     eps = panel.eps.reindex(index=panel.prices.index, columns=panel.prices.columns).astype(float)
     shifted = eps.shift(lag_months)

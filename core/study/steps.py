@@ -236,7 +236,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     if not u0.any():
         raise InsufficientDataError("the universe", "at least one security with a valid price that passes the "
                                     f"universe filter ({cfg.universe!r}, minimum history {cfg.min_history_months} "
-                                    "months)", "none", hint="Widen the universe filter or lower min_history_months.")
+                                    "months)", "none", hint="Widen 'Universe' or lower 'Price history needed (months)' (--min-history).")
     tick("signals", 0.1)
     sig, set_aside, sig_notes = _signal(panel, cfg, u0)
     notes.extend(sig_notes)

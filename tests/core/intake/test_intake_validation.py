@@ -14,17 +14,24 @@ from valuesift.core.intake import ReadOptions, read_table
 @pytest.mark.parametrize(
     "kwargs,match",
     [
-        (dict(kind="quotes"), "kind"), (dict(layout="tall"), "layout"), (dict(date_order="ydm"), "date_order"),
-        (dict(decimal="dot"), "decimal"), (dict(id_cleanup="lower"), "id_cleanup"), (dict(earnings_form="ey"), "earnings_form"),
-        (dict(duplicate_rule="mean"), "duplicate_rule"), (dict(header_row=0), "header_row"), (dict(delimiter=";;"), "delimiter"),
-        (dict(encoding="klingon-8"), "encoding"), (dict(id_cleanup="regex"), "id_regex"),
-        (dict(id_cleanup="regex", id_regex="(["), "regular expression"), (dict(exclude_columns="Maren All-Share"), "tuple"),
-        (dict(max_bytes=0), "max_bytes"),
+        (dict(kind="quotes"), "'File holds'"), (dict(layout="tall"), "'Layout'"),
+        (dict(date_order="ydm"), "'Date order'"), (dict(decimal="dot"), "'Decimal style'"),
+        (dict(id_cleanup="lower"), "'Identifier clean-up'"), (dict(earnings_form="ey"), "'Earnings read as'"),
+        (dict(duplicate_rule="mean"), "'Repeated date and security'"), (dict(header_row=0), "'Header row'"),
+        (dict(delimiter=";;"), "'Delimiter'"), (dict(encoding="klingon-8"), "'Text encoding'"),
+        (dict(id_cleanup="regex"), "'Identifier pattern'"),
+        (dict(id_cleanup="regex", id_regex="(["), "regular expression"),
+        (dict(exclude_columns="Maren All-Share"), "'Columns to leave out'"),
+        (dict(max_bytes=0), "largest file size"),
     ],
 )
 def test_read_options_validated(kwargs: dict, match: str) -> None:
-    with pytest.raises(ConfigError, match=match):
+    # The message names the choice as the Data page and the command line show it, never a field name.
+    with pytest.raises(ConfigError, match=match) as err:
         ReadOptions(**kwargs)
+    for field in ("date_order", "id_cleanup", "duplicate_rule", "header_row", "exclude_columns", "id_regex",
+                  "earnings_form", "max_bytes", "Setting "):
+        assert field not in str(err.value) + str(err.value.hint or ""), err.value
 
 
 def _err(raw: bytes, name: str = "prices.csv", **opts: object) -> IntakeError:
@@ -165,3 +172,21 @@ def test_report_rendering() -> None:
     frame = pf.report.to_frame()
     assert frame.loc[0, "cells_total"] == 4 and frame.loc[0, "header_row"] == 2
     assert pf.report.count("nothing_here") == 0
+
+
+@pytest.mark.parametrize(
+    "raw,opts,words",
+    [
+        (b"when,QZA01\n2020-01-31,10\n", dict(date_column="asof"), "'Date column' (--date-column) names 'asof'"),
+        (b"date,QZA01\n2020-01-31,10\n", dict(header_row=9), "'Header row' (--header-row) 9 is beyond"),
+        (b"label,QZA01\nx,10\ny,11\n", dict(kind="prices"), "'Date column' (--date-column)"),
+        (b"date,QZA01\n2020-01-31,10\n", dict(exclude_columns=("date", "QZA01")), "'Columns to leave out' (--exclude)"),
+    ],
+)
+def test_intake_errors_name_the_choice_as_a_person_finds_it(raw: bytes, opts: dict, words: str) -> None:
+    # Each message names a reading choice by its label on the Data page and its command-line flag (one table:
+    # core.intake.options.READ_CHOICES), never by a field name such as date_column.
+    err = _err(raw, **opts)
+    text = str(err)
+    assert words in text, text
+    assert not any(f in text for f in ("date_column", "header_row", "exclude_columns", "value_column")), text

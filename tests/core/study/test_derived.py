@@ -12,6 +12,7 @@ from _panels import make_panel
 from scipy import stats
 
 from valuesift.core.config import StudyConfig
+from valuesift.core.inference.hac import headline_inference
 from valuesift.core.reporting.screen import security_history
 from valuesift.core.result import StudyResult
 from valuesift.core.study import run_study
@@ -71,7 +72,16 @@ def test_security_history_correlation_equals_scipy(res: StudyResult) -> None:
     ok = np.isfinite(a) & np.isfinite(b)
     ref = stats.pearsonr(a[ok], b[ok])
     assert hist.attrs["correlation"] == pytest.approx(ref.statistic, rel=1e-12) and hist.attrs["n_pairs"] == ok.sum()
-    assert 2 * stats.t.sf(abs(hist.attrs["correlation_t"]), ok.sum() - 2) == pytest.approx(ref.pvalue, rel=1e-9)
+    assert 2 * stats.t.sf(abs(hist.attrs["correlation_t_naive"]), ok.sum() - 2) == pytest.approx(ref.pvalue, rel=1e-9)
+    # The shown t allows for the 3-month overlap: the headline t (Hansen-Hodrick, checked against its references
+    # in tests/core/inference) of the standardised cross products, whose mean is Pearson's r (scipy above).
+    x, y = a[ok], b[ok]
+    u = stats.zscore(x, ddof=1) * stats.zscore(y, ddof=1) * len(x) / (len(x) - 1)
+    assert u.mean() == pytest.approx(ref.statistic, rel=1e-12)
+    head = headline_inference(u, 3)
+    assert hist.attrs["correlation_t"] == pytest.approx(head["t"], rel=1e-12)
+    assert hist.attrs["correlation_t_method"] == head["method"]
+    assert hist.attrs["independent_periods"] == pytest.approx(ok.sum() / 3)
 
 
 def test_backtest_records_and_coverage(res: StudyResult) -> None:
