@@ -218,7 +218,8 @@ def build_pdf(data: ReportInput, path: Path, created: datetime | None = None) ->
     facts = [[_p(k, st["cellb"]), _p(v, st["cell"])] for k, v in data.facts]
     conf = [[_p(k, st["tiny"]), _p(v, st["tiny"])] for k, v in data.configuration]
     third = (len(conf) + 2) // 3  # three columns of settings in small type keep the cover on one page
-    left = _table(facts, [26 * mm, usable_w - 152 * mm - 26 * mm], header=False, zebra=False)
+    # the facts fill their cell of the row below (usable_w - 166 mm) less a 4 mm gap: never under the settings
+    left = _table(facts, [26 * mm, usable_w - 166 * mm - 26 * mm - 4 * mm], header=False, zebra=False)
     cols = [_table(conf[k * third:(k + 1) * third], [27 * mm, 21 * mm], header=False, pad=1.2) for k in range(3)]
     conf_block = [[_p("Every setting", st["h2"]), "", ""], cols]
     right = Table(conf_block, colWidths=[48.5 * mm, 48.5 * mm, 48.5 * mm])

@@ -54,6 +54,9 @@ def test_cover_carries_configuration_inputs_and_caution(built: Any, demo_result:
     assert "Committee demo" in cover and "2024-12-31" in cover
     assert "Prepared for the spring meeting." in cover
     assert "119 names on the as-of date" in drawn      # the demo universe: 120 companies, one delisted by then
+    # the reading decisions a committee sees first: the index column left out, the suspected splits
+    assert "Columns left out prices.csv: Maren All-Share" in drawn
+    assert "Suspected splits" in drawn and "see the appendix" in drawn
 
 
 @poppler
