@@ -29,7 +29,7 @@ from reportlab.pdfbase import pdfdoc, pdfmetrics
 from reportlab.pdfbase.ttfonts import TTFont
 from reportlab.pdfgen import canvas as rl_canvas
 from reportlab.platypus.flowables import BalancedColumns
-from reportlab.platypus import (CondPageBreak, Image, KeepTogether, PageBreak, Paragraph, SimpleDocTemplate,
+from reportlab.platypus import (CondPageBreak, Image, KeepInFrame, KeepTogether, PageBreak, Paragraph, SimpleDocTemplate,
                                 Spacer, Table, TableStyle)
 
 from valuesift.app.bundle.charts import print_jpeg
@@ -243,19 +243,22 @@ def build_pdf(data: ReportInput, path: Path, created: datetime | None = None) ->
     story.append(PageBreak())
 
     # -- summary -----------------------------------------------------------------------------
-    story.append(_p("Summary", st["h1"]))
+    page: list[Any] = [_p("Summary", st["h1"])]
     for s in data.summary_lead:
-        story.append(_p(s, st["reading"]))
-        story.append(Spacer(1, 3))
-    story.append(Spacer(1, 4))
+        page.append(_p(s, st["reading"]))
+        page.append(Spacer(1, 3))
+    page.append(Spacer(1, 4))
     tbl = data.summary_table
     n = len(tbl.columns)
     widths = [usable_w * 0.07] + [usable_w * 0.93 / (n - 1)] * (n - 1)
-    story.append(_table(_frame_rows(tbl, st, wrap=list(tbl.columns)), widths, align_right_from=1))
-    story.append(Spacer(1, 6))
+    page.append(_table(_frame_rows(tbl, st, wrap=list(tbl.columns)), widths, align_right_from=1))
+    page.append(Spacer(1, 6))
     for s in data.summary_after:
-        story.append(_p(s, st["body"]))
-        story.append(Spacer(1, 2))
+        page.append(_p(s, st["body"]))
+        page.append(Spacer(1, 2))
+    # One page, as a committee reads it: a summary a few lines too long is set a little smaller rather than
+    # leaving its last lines alone on a page of their own.
+    story.append(KeepInFrame(usable_w, usable_h - 2 * mm, page, mode="shrink"))
     story.append(PageBreak())
 
     # -- charts ------------------------------------------------------------------------------

@@ -219,21 +219,29 @@ def _ic_by_horizon(result: StudyResult, h: int, panel: Any) -> list[str]:
     hs = [int(x) for x in s.index]
     if not np.isfinite(m).any():
         return ["No horizon has enough dates for an information coefficient.", ""]
-    j = int(np.nanargmax(np.abs(t))) if np.isfinite(t).any() else int(np.nanargmax(np.abs(m)))
-    judged = [str(e) not in ("too_short", "not_available") for e in s["evidence"]]
-    strong = [f"{hs[i]} m" for i in range(len(hs)) if judged[i] and np.isfinite(t[i]) and abs(t[i]) >= 2]
+    judged = [str(e) not in ("too_short", "not_available") and np.isfinite(t[i]) for i, e in enumerate(s["evidence"])]
     line1 = (f"The mean rank IC runs from {fmt_num(np.nanmin(m), 3)} to {fmt_num(np.nanmax(m), 3)} across "
-             f"{len(hs)} horizons; the clearest is {hs[j]} months (IC {fmt_num(m[j], 3)}, t = {fmt_num(t[j], 2)}).")
+             f"{len(hs)} horizons")
+    if any(judged):   # "clearest" only among the horizons that can be judged
+        j = max((i for i in range(len(hs)) if judged[i]), key=lambda i: abs(t[i]))
+        line1 += f"; the clearest that can be judged is {hs[j]} months (IC {fmt_num(m[j], 3)}, t = {fmt_num(t[j], 2)})."
+    else:
+        line1 += "; none can be judged on this history."
+    strong = [f"{hs[i]} m" for i in range(len(hs)) if judged[i] and abs(t[i]) >= 2]
+    weak = [f"{hs[i]} m" for i in range(len(hs)) if judged[i] and abs(t[i]) < 2]
     short = [f"{hs[i]} m" for i in range(len(hs)) if str(s["evidence"].iloc[i]) == "too_short"]
     tail = (f" Too short to judge: {', '.join(short)}." if short else "")
-    if not strong:
-        line2 = f"None of the {len(hs)} horizons reaches |t| = 2: no evidence either way at this sample size." + tail
-    elif len(strong) == len(hs):
-        line2 = (f"All {len(hs)} horizons have |t| of 2 or more (the best of several is flattered; horizons overlap, "
-                 "so they are not independent tests)." + tail)
+    n_j = sum(judged)
+    if not n_j:
+        line2 = "No horizon has enough independent periods for a verdict." + tail
+    elif not strong:
+        line2 = f"None of the {n_j} judged horizons reaches |t| = 2: no evidence either way at this sample size." + tail
+    elif not weak:
+        line2 = (f"All {n_j} judged horizons have |t| of 2 or more (the best of several is flattered; horizons "
+                 "overlap, so they are not independent tests)." + tail)
     else:
-        line2 = (f"{len(strong)} of {len(hs)} horizons have |t| of 2 or more ({', '.join(strong)}); the others "
-                 "show no evidence either way at this sample size." + tail)
+        line2 = (f"{len(strong)} of {n_j} judged horizons have |t| of 2 or more ({', '.join(strong)}); "
+                 f"{', '.join(weak)} show no evidence either way at this sample size." + tail)
     return [line1, line2]
 
 
