@@ -132,3 +132,25 @@ def test_study_missing_file_gives_plain_error(tmp_path: Path, capsys: pytest.Cap
     assert code == 2
     err = capsys.readouterr().err
     assert "nope.csv" in err and "Traceback" not in err
+
+
+def test_reading_choices_on_the_command_line_reach_the_reader(capsys: pytest.CaptureFixture[str]) -> None:
+    # The flags named by intake's messages (core.intake.options.READ_CHOICES) exist and set their choice.
+    from valuesift.app.cli import build_parser
+    from valuesift.app.cli_options import read_options_from_args
+    from valuesift.core.intake.options import READ_CHOICES
+
+    parser = build_parser()
+    args = parser.parse_args(["study", "--prices", "p.csv", "--out", "o", "--date-column", "asof",
+                              "--security-column", "code", "--value-column", "close", "--earnings-form", "pe",
+                              "--duplicates", "first"])
+    opts = read_options_from_args(args, kind="earnings")
+    assert (opts.date_column, opts.security_column, opts.value_column) == ("asof", "code", "close")
+    assert opts.earnings_form == "pe" and opts.duplicate_rule == "first"
+    assert read_options_from_args(args, kind="prices").earnings_form == "auto"
+    with pytest.raises(SystemExit):
+        parser.parse_args(["study", "--help"])
+    study_help = capsys.readouterr().out
+    for _, flag in READ_CHOICES.values():
+        if flag:
+            assert flag in study_help, flag
