@@ -224,7 +224,7 @@ def report_input(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     st, cheap, dear = screen_frames(result)
     qf, ql, qr = _quality(panel, result)
     asof = str(result.screen.attrs.get("date", ""))
-    default_title = f"Has {signal_label(result)} been rewarded? Study {study_name}, as of {asof}"
+    default_title = f"Has {signal_label(result)} been rewarded? Study \u201c{study_name}\u201d, as of {asof}"
     return ReportInput(
         title=title or default_title,
         study_name=study_name,

@@ -214,7 +214,7 @@ def build_pdf(data: ReportInput, path: Path, created: datetime | None = None) ->
 
     # -- cover -------------------------------------------------------------------------------
     story.append(_p(data.title, st["title"]))
-    story.append(_p(f"Study {data.study_name!s}: the committee report", st["subtitle"]))
+    story.append(_p(f"Study \u201c{data.study_name!s}\u201d: the committee report", st["subtitle"]))
     facts = [[_p(k, st["cellb"]), _p(v, st["cell"])] for k, v in data.facts]
     conf = [[_p(k, st["tiny"]), _p(v, st["tiny"])] for k, v in data.configuration]
     third = (len(conf) + 2) // 3  # three columns of settings in small type keep the cover on one page
