@@ -158,7 +158,7 @@ def judged_best(res: Any) -> tuple[str, str, list[dict[str, Any]]]:
     if d["n_trials"]:
         when = f", on the dates before {res.holdout}" if res.holdout else ""
         deflated = (f"Highest long-short Sharpe ratio {d['sharpe']:.2f} ({configuration_words(res, d['point_id'])}, "
-                    f"{d['horizon']} months{when}, gross of costs unless the configuration sets one): probabilistic "
+                    f"{d['horizon']} month{'s' if d['horizon'] != 1 else ''}{when}, gross of costs unless the configuration sets one): probabilistic "
                     f"Sharpe ratio {d['psr']:.2f}; deflated for {d['n_trials']} distinct trials {d['dsr']:.2f} "
                     f"(the chance it beats the best of that many trials with no skill).")
     else:

@@ -48,11 +48,12 @@ def sweep_heatmap_figure(result: Any) -> go.Figure:
         custom[i, j] = (r["raw_t"], r["n_configs"])
         text[i][j] = f"{r['best_t_bh']:.2f}"
     lim = max(1.96, float(np.nanmax(np.abs(z))))
-    fig = base_figure(_TITLE, sub, height=120 + 60 * len(signals), wide=True)
+    fig = base_figure(_TITLE, sub, height=max(300, 150 + 60 * len(signals)), wide=True)
     fig.add_trace(go.Heatmap(
         z=z, x=[f"{h} m" for h in horizons], y=chart_texts([SIGNAL_WORDS.get(s, s) for s in signals]), text=text,
-        texttemplate="%{text}", customdata=custom, zmin=-lim, zmax=lim, colorscale=[[0.0, DEAR], [0.5, NEUTRAL], [1.0, CHEAP]],
-        colorbar=dict(title=dict(text="adjusted t")),
+        texttemplate="%{text}", customdata=custom, zmin=-lim, zmax=lim,
+        colorscale=[[0.0, DEAR], [0.5, NEUTRAL], [1.0, CHEAP]],
+        colorbar=dict(title=dict(text="adjusted t", side="right"), thickness=14),
         hovertemplate=("%{y}, %{x}<br>best adjusted t %{z:.2f}<br>its raw HAC t %{customdata[0]:.2f}"
                        "<br>configurations in the cell %{customdata[1]:.0f}<extra></extra>"),
     ))

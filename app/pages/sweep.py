@@ -58,7 +58,7 @@ _METRICS: tuple[tuple[str, str, int, bool], ...] = (
     ("ic_t_bonferroni", "t, Bonferroni", 2, False), ("ic_p", "p (raw)", 3, False), ("ic_p_bh", "p, BH", 3, False),
     ("ic_p_bonferroni", "p, Bonferroni", 3, False), ("spread", "Spread", 2, True), ("spread_t", "Spread t", 2, False),
     ("spread_t_bh", "Spread t, BH adjusted", 2, False),
-    ("sharpe", "Long-short Sharpe (held for the horizon)", 2, False), ("sharpe_t", "Sharpe t (Lo)", 2, False),
+    ("sharpe", "Long-short Sharpe", 2, False), ("sharpe_t", "Sharpe t (Lo)", 2, False),
     ("sharpe_t_bh", "Sharpe t, BH adjusted", 2, False), ("max_drawdown", "Max drawdown", 1, True),
     ("breadth", "Breadth", 0, False), ("n_dates", "Dates", 0, False),
 )
@@ -71,6 +71,12 @@ _HOLDOUT: tuple[tuple[str, str], ...] = (
 )
 
 _STATUS_WORDS = {"ok": "computed", "failed": "failed"}
+#: Longer words for a header, shown when the pointer rests on it.
+_TOOLTIPS = {"sharpe": "Long-short Sharpe ratio (a year), the portfolio held for the row's horizon",
+             "ic_t_bh": "HAC t of the mean IC after the Benjamini-Hochberg false-discovery-rate adjustment",
+             "ic_t_bonferroni": "HAC t of the mean IC after the Bonferroni adjustment",
+             "spread": "Mean return of the cheapest quantile less the dearest, over the horizon",
+             "breadth": "Names with a signal and a return on an average date", "n_dates": "Dates with an IC"}
 
 # -- the form's choices (presentation: which values are offered; the ranges are the settings table's) ----------
 _LAGS = (0, 1, 2, 3, 4, 6, 9, 12, 18, 24)
@@ -164,10 +170,11 @@ def layout(**_: Any) -> html.Div:
         dag.AgGrid(
             id=f"{P}-table", columnDefs=[], rowData=[], getRowId="params.data.row_id",
             columnSize="responsiveSizeToFit",
-            defaultColDef={"resizable": True, "sortable": True, "minWidth": 84, "wrapHeaderText": True,
+            defaultColDef={"resizable": True, "sortable": True, "minWidth": 120, "wrapHeaderText": True,
                            "autoHeaderHeight": True},
             dashGridOptions={"pagination": True, "paginationPageSize": 25, "paginationPageSizeSelector": False,
-                             "domLayout": "autoHeight", "tooltipShowDelay": 300},
+                             "domLayout": "autoHeight", "tooltipShowDelay": 300,
+                             "suppressColumnVirtualisation": True},   # a small table: every column in the page
             rowClassRules={"vs-row-cheap": "params.data && params.data.ic_t_bh >= 1.96"},
             className="ag-theme-quartz vs-grid-table", style={"width": "100%"},
         ),
@@ -372,19 +379,25 @@ def table_columns(result: Any, rows: list[dict[str, Any]] | None = None) -> list
         spec.append((d, _dimension_header(d), "numeric" if numeric else "text"))
         if numeric:
             formats[d] = (0 if all(float(v).is_integer() for v in vals) else 1, False)
-    spec += [("horizon", "Horizon (months)", "numeric"), ("status", "Status", "text")]
+    failed = any(r.get("error") for r in rows)
+    spec += [("horizon", "Horizon (months)", "numeric"), *([("status", "Status", "text")] if failed else [])]
     for c, head, dec, pct in _METRICS:
         if c in result.table.columns:
             spec.append((c, head, "numeric"))
             formats[c] = (dec, pct)
-    if any(r.get("error") for r in rows):
+    if failed:
         spec.append(("error", "Why it failed", "text"))
-    return grid_columns(spec, pinned="signal", formats=formats)
+    cols = grid_columns(spec, pinned="signal", formats=formats)
+    for c in cols:
+        c["headerTooltip"] = _TOOLTIPS.get(c["field"], c["headerName"])
+        if c["field"] == "signal":
+            c.update(minWidth=150, wrapText=False, autoHeight=False)
+    return cols
 
 
 @dash.callback(
     Output(f"{P}-deflated", "children"), Output(f"{P}-holdout-sentence", "children"),
-    Output(f"{P}-holdout-table", "rowData"),
+    Output(f"{P}-holdout-table", "rowData"), Output(f"{P}-holdout-table", "style"),
     Input(f"{P}-pick", "value"),
 )
 def _judged(name: Any) -> Any:
@@ -392,9 +405,9 @@ def _judged(name: Any) -> Any:
 
     res = load_named_sweep(state().workspace.root, name)
     if res is None:
-        return None, None, []
+        return None, None, [], {"display": "none"}
     deflated, sentence, rows = judged_best(res)
-    return deflated, sentence, rows
+    return deflated, sentence, rows, ({"width": "100%"} if rows else {"display": "none"})
 
 
 @dash.callback(

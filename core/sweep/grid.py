@@ -148,7 +148,7 @@ def _err(source: str, where: str, message: str, hint: str) -> ConfigError:
     return ConfigError(f"{source}: {where}: {message}", hint=hint)
 
 
-def parse_grid(data: dict[str, Any], source: str = "grid", *, max_points: int = MAX_POINTS) -> SweepGrid:
+def parse_grid(data: dict[str, Any], source: str = "grid", *, max_points: int | None = None) -> SweepGrid:
     """Validate a grid already read from TOML and cross its dimensions.
 
     Parameters
@@ -157,8 +157,8 @@ def parse_grid(data: dict[str, Any], source: str = "grid", *, max_points: int = 
         The TOML document as :func:`tomllib.loads` returns it.
     source : str
         File name used in error messages.
-    max_points : int
-        The most studies the grid may cross to (:data:`MAX_POINTS` for a file run on a cluster).
+    max_points : int, optional
+        The most studies the grid may cross to (default :data:`MAX_POINTS`, for a file run on a cluster).
 
     Returns
     -------
@@ -225,8 +225,9 @@ def parse_grid(data: dict[str, Any], source: str = "grid", *, max_points: int = 
     n = 1
     for dim in dims:
         n *= len(settings_of[dim])
-    if n > max_points:
-        raise _err(source, "[vary]", f"the dimensions cross to {n} studies, more than {max_points}",
+    limit = MAX_POINTS if max_points is None else int(max_points)
+    if n > limit:
+        raise _err(source, "[vary]", f"the dimensions cross to {n} studies, more than {limit}",
                    "Vary fewer settings at once or split the grid into several files.")
     points: list[GridPoint] = []
     seen: set[str] = set()
