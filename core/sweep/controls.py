@@ -104,7 +104,7 @@ def _values(values: Mapping[str, Any], dim: str) -> list[Any]:
         return [_outlier_value(v) for v in vals]
     if dim == "sector_neutral":
         return [_bool_value(v) for v in vals]
-    if dim in ("signal",):
+    if dim == "signal":
         return [str(v) for v in vals]
     return [_number(v) for v in vals]
 

@@ -200,8 +200,12 @@ def parse_grid(data: dict[str, Any], source: str = "grid", *, max_points: int | 
         raise _err(source, "[study]", str(err), "Fix the shared study settings.") from err
     horizons: tuple[int, ...] = base_cfg.horizons
     if "horizons" in vary:
+        hs = vary["horizons"]
+        if not all(isinstance(h, int) and not isinstance(h, bool) for h in hs):  # a text, a list, a fraction...
+            raise _err(source, "[vary] 'horizons'", f"{hs!r} are not all whole numbers of months",
+                       "Use distinct whole months from 1 to 120.")
         try:
-            horizons = StudyConfig(horizons=tuple(vary["horizons"])).horizons
+            horizons = StudyConfig(horizons=tuple(hs)).horizons
         except ConfigError as err:
             raise _err(source, "[vary] 'horizons'", str(err), "Use distinct whole months from 1 to 120.") from err
     dims = [d for d in vary if d != "horizons"]

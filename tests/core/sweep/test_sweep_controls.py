@@ -103,3 +103,20 @@ def test_the_hold_out_month_is_checked_in_words() -> None:
     with pytest.raises(ConfigError) as e:
         check_holdout("2019/01")
     assert str(e.value).startswith(f"{HOLDOUT_LABEL}: '2019/01' is not a month written YYYY-MM")
+
+
+@pytest.mark.parametrize("dim", FORM_DIMENSIONS)
+@pytest.mark.parametrize("odd", [{"a": 1}, ["x"], None, "x", float("inf"), float("nan"), -1, True, "winsorise:a:b",
+                                 "winsorise:60:40", 10**30])
+def test_values_no_control_offers_are_refused_in_words_never_with_a_traceback(dim: str, odd: object) -> None:
+    """What a hand-made request could send: a ConfigError (a sentence) or a valid grid, nothing else."""
+    for vals in ([odd, *ONE[dim]], odd):
+        try:
+            grid_from_controls({**ONE, dim: vals})
+        except ConfigError as err:
+            assert str(err).strip()
+
+
+def test_a_grid_file_with_horizons_that_are_not_whole_numbers_names_them() -> None:
+    with pytest.raises(ConfigError, match=r"\[vary\] 'horizons': \['x', 1\] are not all whole numbers of months"):
+        parse_grid({"vary": {"horizons": ["x", 1], "n_quantiles": [3]}})
