@@ -28,6 +28,7 @@ from valuesift.core.panel import Panel
 from valuesift.core.config import StudyConfig
 from valuesift.core.result import StudyResult
 from valuesift.core.study import run_study
+from valuesift.core.sweep import SweepGrid, run_sweep
 
 __all__ = ["job_done", "finished_result", "AppState", "StudyJob", "Selection", "state", "normalise_selection", "LRU", "current_owner",
            "SESSION_COOKIE", "selection_key", "UploadBudget", "Busy"]
@@ -282,6 +283,46 @@ class AppState:
             self.cache.set(key, res)
         except Exception:
             log.warning("could not write the study cache", exc_info=True)
+
+    # -- sweeps ----------------------------------------------------------------------------
+    def start_sweep(self, sel: Selection, grid: SweepGrid, name: str, holdout: str | None = None) -> Job:
+        """Queue a sweep of ``grid`` on the selection's panel; when it finishes it is saved as ``sweeps/<name>``.
+
+        The points run one after another in the runner's worker thread (no cluster: nothing to start, and
+        nothing logged by one); progress is the share of points finished, and a cancel takes effect after
+        the point being computed.  Raises :class:`~valuesift.app.jobs.Busy` when the queue is full.
+        """
+        from valuesift.app.sweeps import CACHE_FOLDER, save_named_sweep, sweep_root
+
+        sel = normalise_selection(self.visible(sel))
+        owner = current_owner() or ""
+        root = self.workspace.root
+
+        def work(job: Job) -> str:
+            job.progress("reading the data", 0.0)
+            panel = self.panel(sel)
+            n = len(grid.points)
+            job.progress(f"0 of {n} configurations", 0.0)
+
+            def step(done: int, total: int, _point: str, _status: str) -> None:
+                job.progress(f"{done} of {total} configurations", done / total if total else 1.0)
+
+            res = run_sweep(panel, grid, cache_dir=sweep_root(root) / CACHE_FOLDER, progress=step, holdout=holdout)
+            job.progress("saving the sweep", 1.0)
+            save_named_sweep(root, name, res)
+            return name
+
+        return self.runner.submit("sweep", owner, work)
+
+    def sweep_job(self, job_id: Any) -> Job | None:
+        """The current session's sweep job with this id (None for another session's or an unknown id)."""
+        job = self.runner.get(job_id if isinstance(job_id, str) else None, current_owner())
+        return job if job is not None and job.kind == "sweep" else None
+
+    def cancel_sweep(self, job_id: Any) -> bool:
+        """Cancel the current session's sweep job (a sweep has one session, which keeps seeing it as cancelled)."""
+        job = self.sweep_job(job_id)
+        return job is not None and self.runner.cancel(job.id)
 
     def cancel(self, key: str | None) -> None:
         """Withdraw the current session from the study ``key`` (cancelled when nobody else waits for it)."""

@@ -7,7 +7,6 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
-import pandas as pd
 import plotly.graph_objects as go
 
 from valuesift.app.escape import chart_texts
@@ -15,37 +14,24 @@ from valuesift.app.browser import find_browser
 
 from valuesift.app.figures.common import base_figure, message_figure
 from valuesift.app.figures.theme import CHEAP, DEAR, NEUTRAL
+from valuesift.core.settings import SIGNAL_WORDS
+from valuesift.core.sweep.table import heatmap_cells
 
-__all__ = ["heatmap_cells", "sweep_heatmap_figure", "write_heatmap"]
+__all__ = ["sweep_heatmap_figure", "write_heatmap"]
 
 _TITLE = "Which signal and horizon survive the multiple-testing adjustment?"
-
-
-def heatmap_cells(result: Any) -> pd.DataFrame:
-    """Per (signal, horizon): the largest Benjamini-Hochberg adjusted t and how many configurations it is the best of.
-
-    A sweep without a ``signal`` dimension has one row label, the signal of its points.
-    """
-    t = result.table[result.table["status"] == "ok"].copy()
-    if "signal" not in t.columns:
-        t["signal"] = [result.configs[p]["signal"] for p in t["point_id"]]
-    t = t[np.isfinite(t["ic_t_bh"].to_numpy(dtype=float))]
-    if t.empty:
-        return pd.DataFrame(columns=["signal", "horizon", "best_t_bh", "raw_t", "n_configs"])
-    best = t.loc[t.groupby(["signal", "horizon"])["ic_t_bh"].idxmax()]
-    counts = t.groupby(["signal", "horizon"]).size().rename("n_configs")
-    out = best[["signal", "horizon", "ic_t_bh", "ic_t"]].rename(columns={"ic_t_bh": "best_t_bh", "ic_t": "raw_t"})
-    return out.merge(counts.reset_index(), on=["signal", "horizon"]).reset_index(drop=True)
 
 
 def sweep_heatmap_figure(result: Any) -> go.Figure:
     """Heat map of the best BH-adjusted HAC t of the mean rank IC in each (signal, horizon) cell.
 
-    Colour runs from brown (negative) through grey to blue (positive); cells
-    at or beyond +/-1.96 are significant at 5 % after adjustment.  The
-    subtitle states how many configurations and tests the sweep tried.
+    The cells come from :func:`valuesift.core.sweep.table.heatmap_cells`.  Colour runs from brown
+    (negative) through grey (zero) to blue (positive) on a scale symmetric around zero whose
+    end is the largest absolute t of the data (at least 1.96, so a sweep of small t's is not painted
+    as strong); cells at or beyond +/-1.96 are significant at 5 % after adjustment.  The subtitle
+    states how many configurations and tests the sweep tried.
     """
-    cells = heatmap_cells(result)
+    cells = heatmap_cells(result.table, result.configs)
     n_points, n_rows = len(result.configs), len(result.table)
     sub = (f"{n_points} configurations x {len(result.horizons)} horizon(s) = {n_rows} tests; "
            f"each cell shows the best of its configurations after the Benjamini-Hochberg adjustment")
@@ -61,12 +47,13 @@ def sweep_heatmap_figure(result: Any) -> go.Figure:
         z[i, j] = r["best_t_bh"]
         custom[i, j] = (r["raw_t"], r["n_configs"])
         text[i][j] = f"{r['best_t_bh']:.2f}"
-    lim = max(3.0, float(np.nanmax(np.abs(z))))
-    fig = base_figure(_TITLE, sub, height=120 + 60 * len(signals), wide=True)
+    lim = max(1.96, float(np.nanmax(np.abs(z))))
+    fig = base_figure(_TITLE, sub, height=max(300, 150 + 60 * len(signals)), wide=True)
     fig.add_trace(go.Heatmap(
-        z=z, x=[f"{h} m" for h in horizons], y=chart_texts(signals), text=text, texttemplate="%{text}", customdata=custom,
-        zmin=-lim, zmax=lim, colorscale=[[0.0, DEAR], [0.5, NEUTRAL], [1.0, CHEAP]],
-        colorbar=dict(title=dict(text="adjusted t")),
+        z=z, x=[f"{h} m" for h in horizons], y=chart_texts([SIGNAL_WORDS.get(s, s) for s in signals]), text=text,
+        texttemplate="%{text}", customdata=custom, zmin=-lim, zmax=lim,
+        colorscale=[[0.0, DEAR], [0.5, NEUTRAL], [1.0, CHEAP]],
+        colorbar=dict(title=dict(text="adjusted t", side="right"), thickness=14),
         hovertemplate=("%{y}, %{x}<br>best adjusted t %{z:.2f}<br>its raw HAC t %{customdata[0]:.2f}"
                        "<br>configurations in the cell %{customdata[1]:.0f}<extra></extra>"),
     ))

@@ -15,7 +15,7 @@ from valuesift.app.figures.cache import HORIZON_CHARTS, scatter_for, study_figur
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.services import finished_result, normalise_selection, state
 from valuesift.app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES, bounds, help_text, label, options, shown_horizon
-from valuesift.app.sweeps import settings_from_query
+from valuesift.app.sweeps import opened_from_query
 from valuesift.app.words import evidence_words, stage_words
 from valuesift.core.settings import SETTING_BY_NAME
 
@@ -84,12 +84,17 @@ def _controls(d: dict[str, Any] = _D, persist: dict[str, Any] = _PERSIST) -> htm
 def layout(**query: Any) -> html.Div:
     # Hook for the Sweep page: /study?sweep=NAME&point=ID opens that sweep configuration's settings
     # (own persistence key, so values kept from earlier visits do not override them).
-    opened = settings_from_query(state().workspace.root, query) if query.get("sweep") else None
+    found = opened_from_query(state().workspace.root, query) if query.get("sweep") else None
+    opened, gaps = found if found else (None, [])
+    gap_note = (html.Div(f"This sweep configuration also sets {', '.join(gaps)}, which the Study page has no "
+                         "control for: the study here uses the usual value instead.",
+                         id=f"{P}-sweep-gaps", className="vs-alert vs-alert-info", role="status") if gaps else None)
     return html.Div(className="vs-page vs-two-col", children=[
         html.Aside(_controls(opened, dict(persistence=f"sweep-{query.get('point')}", persistence_type="local"))
                    if opened else _controls(), className="vs-sidebar"),
         html.Section(className="vs-content", children=[
             html.H1("Study"),
+            gap_note,
             *job_components(P),
             html.Div(id=f"{P}-summary", className="vs-summary"),
             html.Div(id=f"{P}-results", hidden=True, children=[

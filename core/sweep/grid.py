@@ -40,10 +40,14 @@ from valuesift.core.errors import ConfigError
 from valuesift.core.config import StudyConfig
 from valuesift.core.settings import SETTINGS
 
-__all__ = ["GridPoint", "SweepGrid", "DIMENSIONS", "parse_grid", "read_grid", "config_id", "MAX_POINTS"]
+__all__ = ["GridPoint", "SweepGrid", "DIMENSIONS", "parse_grid", "read_grid", "config_id", "MAX_POINTS",
+           "MAX_IN_PROCESS_POINTS"]
 
 #: The most studies one grid may ask for (a guard against a typo that crosses too much).
 MAX_POINTS = 5000
+#: The most studies a sweep run in this process (one after another, as the dashboard runs it) may ask for:
+#: one study of a few hundred names over twenty years takes about a second, so this is minutes of work.
+MAX_IN_PROCESS_POINTS = 120
 
 
 def _universe(v: Any) -> dict[str, Any]:
@@ -144,7 +148,7 @@ def _err(source: str, where: str, message: str, hint: str) -> ConfigError:
     return ConfigError(f"{source}: {where}: {message}", hint=hint)
 
 
-def parse_grid(data: dict[str, Any], source: str = "grid") -> SweepGrid:
+def parse_grid(data: dict[str, Any], source: str = "grid", *, max_points: int | None = None) -> SweepGrid:
     """Validate a grid already read from TOML and cross its dimensions.
 
     Parameters
@@ -153,6 +157,8 @@ def parse_grid(data: dict[str, Any], source: str = "grid") -> SweepGrid:
         The TOML document as :func:`tomllib.loads` returns it.
     source : str
         File name used in error messages.
+    max_points : int, optional
+        The most studies the grid may cross to (default :data:`MAX_POINTS`, for a file run on a cluster).
 
     Returns
     -------
@@ -162,7 +168,7 @@ def parse_grid(data: dict[str, Any], source: str = "grid") -> SweepGrid:
     ------
     ConfigError
         Unknown section or dimension, a value a study does not allow (the
-        message names the dimension and the value), or more than ``MAX_POINTS`` points.
+        message names the dimension and the value), or more than ``max_points`` points.
 
     Notes
     -----
@@ -194,8 +200,12 @@ def parse_grid(data: dict[str, Any], source: str = "grid") -> SweepGrid:
         raise _err(source, "[study]", str(err), "Fix the shared study settings.") from err
     horizons: tuple[int, ...] = base_cfg.horizons
     if "horizons" in vary:
+        hs = vary["horizons"]
+        if not all(isinstance(h, int) and not isinstance(h, bool) for h in hs):  # a text, a list, a fraction...
+            raise _err(source, "[vary] 'horizons'", f"{hs!r} are not all whole numbers of months",
+                       "Use distinct whole months from 1 to 120.")
         try:
-            horizons = StudyConfig(horizons=tuple(vary["horizons"])).horizons
+            horizons = StudyConfig(horizons=tuple(hs)).horizons
         except ConfigError as err:
             raise _err(source, "[vary] 'horizons'", str(err), "Use distinct whole months from 1 to 120.") from err
     dims = [d for d in vary if d != "horizons"]
@@ -219,8 +229,9 @@ def parse_grid(data: dict[str, Any], source: str = "grid") -> SweepGrid:
     n = 1
     for dim in dims:
         n *= len(settings_of[dim])
-    if n > MAX_POINTS:
-        raise _err(source, "[vary]", f"the dimensions cross to {n} studies, more than {MAX_POINTS}",
+    limit = MAX_POINTS if max_points is None else int(max_points)
+    if n > limit:
+        raise _err(source, "[vary]", f"the dimensions cross to {n} studies, more than {limit}",
                    "Vary fewer settings at once or split the grid into several files.")
     points: list[GridPoint] = []
     seen: set[str] = set()

@@ -11,7 +11,7 @@ from scipy import stats as _st
 
 from valuesift.core.multiple_testing.adjust import ALPHA, adjust_pvalues, two_sided_p
 
-__all__ = ["comparison_table", "METRIC_COLUMNS", "OOS_COLUMNS"]
+__all__ = ["comparison_table", "heatmap_cells", "METRIC_COLUMNS", "OOS_COLUMNS"]
 
 
 #: Numeric columns per (grid point, horizon), in table order (after the adjusted ones are added).
@@ -94,3 +94,30 @@ def comparison_table(rows: list[dict[str, Any]], dimensions: tuple[str, ...]) ->
                               for v in df[c]], dtype="boolean")
     oos = [c for c in OOS_COLUMNS if c in df.columns]
     return df[base + list(METRIC_COLUMNS) + ["significant_bh", "significant_bonferroni"] + oos].reset_index(drop=True)
+
+
+def heatmap_cells(table: pd.DataFrame, configs: dict[str, dict[str, Any]]) -> pd.DataFrame:
+    """Per (signal, horizon): the largest Benjamini-Hochberg adjusted IC t and how many configurations it is the best of.
+
+    Parameters
+    ----------
+    table : DataFrame
+        :func:`comparison_table` of a sweep.
+    configs : dict
+        The sweep's settings by point id (the signal of a sweep without a ``signal`` dimension).
+
+    Returns
+    -------
+    DataFrame
+        ``signal`` (code), ``horizon``, ``best_t_bh`` (the largest ``ic_t_bh`` of the cell),
+        ``raw_t`` (that row's ``ic_t``) and ``n_configs`` (rows of the cell with a finite adjusted t).
+    """
+    t = table[table["status"] == "ok"].copy()
+    t["signal"] = [str(configs[p]["signal"]) for p in t["point_id"]]
+    t = t[np.isfinite(t["ic_t_bh"].to_numpy(dtype=float))]
+    if t.empty:
+        return pd.DataFrame(columns=["signal", "horizon", "best_t_bh", "raw_t", "n_configs"])
+    best = t.loc[t.groupby(["signal", "horizon"])["ic_t_bh"].idxmax()]
+    counts = t.groupby(["signal", "horizon"]).size().rename("n_configs")
+    out = best[["signal", "horizon", "ic_t_bh", "ic_t"]].rename(columns={"ic_t_bh": "best_t_bh", "ic_t": "raw_t"})
+    return out.merge(counts.reset_index(), on=["signal", "horizon"]).reset_index(drop=True)

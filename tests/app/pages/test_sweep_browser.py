@@ -39,13 +39,27 @@ def test_sweep_table_sorts_and_a_click_opens_the_study(server: str) -> None:
         pg.on("pageerror", lambda e: errors.append(str(e)))
         pg.goto(server + "/sweep")
         expect(pg.locator("#sweep-statement")).to_contain_text("4 study configurations were tried")
-        expect(pg.locator("#sweep-table tbody tr")).to_have_count(9)      # header row + 8 data rows
+        expect(pg.locator("#sweep-table .ag-center-cols-container .ag-row")).to_have_count(8)
         expect(pg.locator("#sweep-table")).to_contain_text("t, BH adjusted")
         expect(pg.locator("#sweep-heatmap .main-svg").first).to_be_visible()
-        # sort by signal, then click a dividend-yield, sector-neutral row
-        pg.locator("#sweep-table th", has_text="signal").locator(".column-header--sort").click()
-        row = pg.locator("#sweep-table tbody tr", has_text="dividend_yield").filter(has_text="true").first
-        row.locator("td").first.click()
+        # sort by signal (words, pinned first), then click a dividend-yield, sector-neutral row
+        pg.locator("#sweep-table .ag-header-cell[col-id=signal] .ag-header-cell-label").click()
+        pinned = pg.locator("#sweep-table .ag-pinned-left-cols-container .ag-row")
+        expect(pg.locator("#sweep-table .ag-pinned-left-cols-container .ag-row[row-index='0']")).to_have_text(
+            "dividend yield")                                              # d before e: sorted as words
+        expect(pg.locator("#sweep-table .ag-pinned-left-cols-container .ag-row[row-index='7']")).to_have_text(
+            "earnings yield")
+        target = None
+        for i in range(pinned.count()):
+            r = pinned.nth(i)
+            idx = r.get_attribute("row-index")
+            neutral = pg.locator(f"#sweep-table .ag-center-cols-container .ag-row[row-index='{idx}'] "
+                                 "[col-id=sector_neutral]").inner_text()
+            if r.inner_text().strip() == "dividend yield" and neutral.strip() == "on":
+                target = r
+                break
+        assert target is not None
+        target.locator("[col-id=signal]").click()
         pg.wait_for_url("**/study?sweep=browser-sweep&point=*")
         expect(pg.locator("#study-signal")).to_contain_text("Dividend yield")
         expect(pg.locator("#study-neutral input[type=checkbox]")).to_be_checked()

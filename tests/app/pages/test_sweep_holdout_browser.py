@@ -44,14 +44,16 @@ def test_holdout_side_by_side_and_the_pick_changes_it(server: str) -> None:
         pg.get_by_role("option", name="a-holdout").click()
         expect(pg.locator("#sweep-deflated")).to_contain_text("deflated for 4 distinct trials")
         expect(pg.locator("#sweep-holdout-sentence")).to_contain_text("flattered")
-        expect(pg.locator("#sweep-holdout tbody tr")).to_have_count(5)     # header + 4 rows
-        expect(pg.locator("#sweep-holdout")).to_contain_text("IC t on hold-out")
+        expect(pg.locator("#sweep-holdout-table .ag-center-cols-container .ag-row")).to_have_count(4)
+        expect(pg.locator("#sweep-holdout-table")).to_contain_text("IC t on hold-out")
+        # the configurations in words, never their hash ids
+        expect(pg.locator("#sweep-holdout-table .ag-pinned-left-cols-container")).to_contain_text("signal dividend yield")
         expect(pg.locator("#sweep-table")).to_contain_text("Sharpe t, BH adjusted")
         ARTIFACTS.mkdir(exist_ok=True)
         pg.screenshot(path=str(ARTIFACTS / "sweep-holdout-1280.png"), full_page=True)
         pg.locator("#sweep-pick").click()
         pg.get_by_role("option", name="b-in-sample").click()
         expect(pg.locator("#sweep-holdout-sentence")).to_contain_text("without a hold-out")
-        expect(pg.locator("#sweep-holdout tbody tr")).to_have_count(1)     # the header row only
+        expect(pg.locator("#sweep-holdout-table")).to_be_hidden()          # no empty table without a hold-out
         assert not errors, errors
         browser.close()

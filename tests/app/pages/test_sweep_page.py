@@ -47,11 +47,21 @@ def test_sweep_page_lists_the_workspace_sweeps_and_shows_the_table(app_with_swee
         assert pick.value == "first"
         cols, data, statement, fig, note, style = page._show("first", {"ids": []})
         assert style == {}  # the heat map is shown only with a sweep (never an empty chart)
-    names = [c["id"] for c in cols]
+    names = [c["field"] for c in cols]
     # the adjusted columns sit right after the raw HAC t
     assert names.index("ic_t_bh") == names.index("ic_t") + 1 and names.index("ic_t_bonferroni") == names.index("ic_t") + 2
+    # the signal column is pinned first; numbers are numeric columns; no hash id is shown
+    assert names[0] == "signal" and cols[0]["pinned"] == "left"
+    assert "point_id" not in names and all(c["type"] == "numericColumn" for c in cols if c["field"] in ("ic_t", "horizon"))
+    assert [c["headerName"] for c in cols[:5]] == ["Signal", "Universe", "Sector-neutral", "Outliers", "Horizon (months)"]
     assert len(data) == len(res.table) == 16 and statement == res.statement
     assert {r["point_id"] for r in data} == set(res.configs)
+    # settings in words, not codes
+    assert {r["signal"] for r in data} == {"earnings yield", "dividend yield"}
+    assert {r["sector_neutral"] for r in data} == {"on", "off"}
+    assert {r["universe"] for r in data} == {"every security", "chosen sectors: Kilns, Quays"}
+    assert {r["status"] for r in data} == {"computed"}
+    assert all(isinstance(r["ic_t"], float) for r in data)
     assert fig.data[0].type == "heatmap"
     assert "not the data this sweep ran on" in note
     with app.server.test_request_context("/"):
@@ -67,11 +77,10 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
     app, res = app_with_sweep
     with app.server.test_request_context("/"):
         _, data, *_ = page._show("first", None)
-        rows = sorted(data, key=lambda r: (r["signal"], r["universe"], r["sector_neutral"]))  # as if sorted
-        target = next(r for r in rows if r["signal"] == "dividend_yield" and r["sector_neutral"] == "true"
-                      and r["universe"] != "all")
-        href, note = page._open({"row": rows.index(target), "column": 0}, rows, "first")
-        assert note is None
+        target = next(r for r in data if r["signal"] == "dividend yield" and r["sector_neutral"] == "on"
+                      and r["universe"] != "every security")
+        href, note = page._open({"rowId": target["row_id"], "colId": "signal"}, "first")
+        assert note.startswith("Opening signal dividend yield")
         q = {k: v[0] for k, v in parse_qs(urlsplit(href).query).items()}
         assert urlsplit(href).path == "/study" and q == {"sweep": "first", "point": target["point_id"]}
         settings = settings_from_query(app.server.extensions["valuesift"].workspace.root, q)
@@ -93,7 +102,8 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
         plain = study_page.layout(sweep="first", point="nope")
         pvals = {c.id: c.value for c in _walk(plain) if isinstance(getattr(c, "id", None), str) and hasattr(c, "value")}
         assert pvals["study-signal"] == "earnings_yield" and pvals["study-neutral"] == []
-        assert page._open({"row": 99}, rows, "first") == (page.no_update, page.no_update)
+        assert page._open({"rowIndex": 99}, "first") == (page.no_update, page.no_update)
+        assert page._open({"rowId": "nope|1"}, "first")[1] == "That configuration is no longer in the sweep folder."
 
 
 def test_settings_the_study_page_cannot_show_are_named() -> None:
