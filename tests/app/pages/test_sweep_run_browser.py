@@ -135,6 +135,8 @@ def test_a_grid_built_from_the_controls_runs_and_opens_as_a_study(page, server: 
     row_index = row.get_attribute("row-index")
     q_cell = pg.locator(f"#sweep-table .ag-center-cols-container .ag-row[row-index='{row_index}'] [col-id=quantiles]")
     wanted_q = int(q_cell.inner_text())
+    wanted_h = int(pg.locator(f"#sweep-table .ag-center-cols-container .ag-row[row-index='{row_index}'] "
+                              "[col-id=horizon]").inner_text())
     row.locator("[col-id=signal]").click()
     pg.wait_for_url("**/study?sweep=*&point=*")
     point = parse_qs(urlsplit(pg.url).query)["point"][0]
@@ -145,7 +147,8 @@ def test_a_grid_built_from_the_controls_runs_and_opens_as_a_study(page, server: 
     stored = pg.evaluate("() => JSON.parse(localStorage.getItem('vs-settings'))")
     assert config_from_settings(stored).to_dict() == want
     expect(pg.locator("#study-n-quantiles")).to_contain_text(str(wanted_q))
-    expect(pg.locator("#study-summary")).to_contain_text("the mean rank IC is")
+    # the row's horizon is the one drawn
+    expect(pg.locator("#study-summary")).to_contain_text(f"At {wanted_h} month{'s' if wanted_h != 1 else ''} the mean rank IC is")
     assert not pg.errors, pg.errors  # type: ignore[attr-defined]
 
 
