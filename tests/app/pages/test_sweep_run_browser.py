@@ -186,3 +186,44 @@ def test_cancel_stops_a_running_sweep(page, server: str, workspace: Path) -> Non
     assert not (workspace / "sweeps" / "to be cancelled").exists()
     assert "to be cancelled" not in pg.locator("#sweep-pick").inner_text()
     assert not pg.errors, pg.errors  # type: ignore[attr-defined]
+
+
+def test_outliers_costs_and_a_hold_out_month_reach_the_table(page, server: str, workspace: Path) -> None:  # type: ignore[no-untyped-def]
+    from playwright.sync_api import expect
+
+    from valuesift.core.sweep import load_sweep
+
+    pg = page
+    pg.goto(server + "/sweep")
+    expect(pg.locator("#sweep-count")).to_contain_text("1 configuration")
+    _tick(pg, "sweep-horizons", "1", False)              # one horizon: 12 months
+    _tick(pg, "sweep-outliers", "Winsorise at percentiles 5 and 95", True)
+    _tick(pg, "sweep-outliers", "Winsorise at percentiles 1 and 99", False)
+    _tick(pg, "sweep-outliers", "Leave as they are", True)
+    _tick(pg, "sweep-costs", "25", True)
+    expect(pg.locator("#sweep-count")).to_contain_text("4 configurations × 1 horizon = 4 signal tests")
+    # a month not written YYYY-MM is refused, naming the control
+    pg.locator("#sweep-holdout").fill("2018/01")
+    expect(pg.locator("#sweep-count")).to_contain_text("Hold-out from (month): '2018/01' is not a month written YYYY-MM")
+    expect(pg.locator("#sweep-run-button")).to_be_disabled()
+    pg.locator("#sweep-holdout").fill("2018-01")
+    expect(pg.locator("#sweep-count")).to_contain_text("4 configurations")
+    pg.locator("#sweep-name").fill("costs and outliers")
+    pg.locator("#sweep-run-button").click()
+    expect(pg.locator("#sweep-run-alert")).to_contain_text("The sweep costs and outliers is finished")
+    expect(pg.locator("#sweep-table .ag-center-cols-container .ag-row")).to_have_count(4)
+    outl = pg.locator("#sweep-table .ag-center-cols-container [col-id=outliers]").all_inner_texts()
+    assert sorted(outl) == ["leave as they are"] * 2 + ["winsorise at percentiles 5 and 95"] * 2
+    costs = pg.locator("#sweep-table .ag-center-cols-container [col-id=cost_bps]").all_inner_texts()
+    assert sorted(costs) == ["0", "0", "25", "25"]
+    expect(pg.locator("#sweep-table .ag-header")).to_contain_text("Trading cost (basis points)")
+    # the hold-out: the best in-sample configuration beside its figures from 2018-01 on
+    expect(pg.locator("#sweep-holdout-sentence")).to_contain_text("on the hold-out from 2018-01")
+    expect(pg.locator("#sweep-holdout-table .ag-center-cols-container .ag-row")).to_have_count(4)
+    expect(pg.locator("#sweep-holdout-table .ag-pinned-left-cols-container")).to_contain_text("trading cost (basis points) 25")
+    res = load_sweep(workspace / "sweeps" / "costs and outliers")
+    assert res.holdout == "2018-01" and res.horizons == (12,)
+    got = {(c["outlier_rule"], tuple(c["winsor_percentiles"]), c["transaction_cost_bps"]) for c in res.configs.values()}
+    assert got == {("winsorise", (5.0, 95.0), 0), ("winsorise", (5.0, 95.0), 25), ("none", (1.0, 99.0), 0),
+                   ("none", (1.0, 99.0), 25)}
+    assert not pg.errors, pg.errors  # type: ignore[attr-defined]
