@@ -81,6 +81,14 @@ def _controls(d: dict[str, Any] = _D, persist: dict[str, Any] = _PERSIST) -> htm
     ])
 
 
+def _query_horizon(query: dict[str, Any]) -> int | None:
+    """The horizon of the sweep row opened (``&horizon=H``): drawn first when the study has it."""
+    try:
+        return int(str(query.get("horizon")))
+    except ValueError:
+        return None
+
+
 def layout(**query: Any) -> html.Div:
     # Hook for the Sweep page: /study?sweep=NAME&point=ID opens that sweep configuration's settings
     # (own persistence key, so values kept from earlier visits do not override them).
@@ -99,7 +107,8 @@ def layout(**query: Any) -> html.Div:
             html.Div(id=f"{P}-summary", className="vs-summary"),
             html.Div(id=f"{P}-results", hidden=True, children=[
                 html.Div(className="vs-row", children=[
-                    field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[], value=None,
+                    field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[],
+                                                          value=_query_horizon(query) if opened else None,
                                                           className="vs-horizon-pick")),
                 ]),
                 html.Div(className="vs-grid", children=[chart(f"{P}-ic-horizon"), chart(f"{P}-ic-time")]),
@@ -226,13 +235,13 @@ def _summary(res: Any, h: int) -> Any:
                        f"({month(present.min())} to {month(present.max())}), {cov['mean_universe_names']:.0f} names "
                        "on average. "]
     if not np.isfinite(float(row["mean_ic"])):
-        lead.append(f"At {h} months there is no information coefficient: no date has at least "
+        lead.append(f"At {h} {'month' if h == 1 else 'months'} there is no information coefficient: no date has at least "
                     f"{res.config.min_breadth} names with both a signal and a return (the minimum names per date). "
                     "Lower that minimum or load more names.")
     else:
         method = {"hansen_hodrick": "Hansen-Hodrick", "newey_west": "Newey-West",
                   "newey_west_fallback": "Newey-West"}.get(str(row["se_method"]), "")
-        lead += [f"At {h} months the mean rank IC is ", html.Strong(f"{row['mean_ic']:.3f}"),
+        lead += [f"At {h} {'month' if h == 1 else 'months'} the mean rank IC is ", html.Strong(f"{row['mean_ic']:.3f}"),
                  f" ({method} t = {row['t_hac']:.2f}, 95% interval {row['ci_low']:.3f} to {row['ci_high']:.3f}, "
                  f"{int(row['n_dates'])} dates, {row['independent_periods']:.1f} independent periods): ",
                  html.Strong(evidence_words(row["evidence"], row["independent_periods"])), "."]

@@ -185,11 +185,7 @@ def layout(**_: Any) -> html.Div:
             html.H2("The best configuration, judged"),
             html.P(id=f"{P}-deflated", className="vs-summary"),
             html.P(id=f"{P}-holdout-sentence", className="vs-summary"),
-            dag.AgGrid(id=f"{P}-holdout-table", columnDefs=grid_columns(
-                [(c, n, "text" if c == "point_id" else "numeric") for c, n in _HOLDOUT], pinned="point_id",
-                formats={"horizon": (0, False), "rank_in": (0, False), "rank_out": (0, False), "ic_t": (2, False),
-                         "oos_ic_t": (2, False), "mean_ic": (3, False), "oos_mean_ic": (3, False),
-                         "sharpe": (2, False), "oos_sharpe": (2, False)}),
+            dag.AgGrid(id=f"{P}-holdout-table", columnDefs=_holdout_columns(),
                 rowData=[], columnSize="responsiveSizeToFit",
                 defaultColDef={"resizable": True, "sortable": True, "minWidth": 84, "wrapHeaderText": True,
                                "autoHeaderHeight": True},
@@ -198,6 +194,15 @@ def layout(**_: Any) -> html.Div:
         ]),
         dcc.Location(id=f"{P}-go", refresh=True),
     ])
+
+
+def _holdout_columns() -> list[dict[str, Any]]:
+    cols = grid_columns([(c, n, "text" if c == "point_id" else "numeric") for c, n in _HOLDOUT], pinned="point_id",
+                        formats={"horizon": (0, False), "rank_in": (0, False), "rank_out": (0, False),
+                                 "ic_t": (2, False), "oos_ic_t": (2, False), "mean_ic": (3, False),
+                                 "oos_mean_ic": (3, False), "sharpe": (2, False), "oos_sharpe": (2, False)})
+    cols[0].update(minWidth=260, wrapText=False, autoHeight=False)   # the configuration in words, on one line
+    return cols
 
 
 # -- the form ------------------------------------------------------------------------------------------------------
@@ -392,6 +397,8 @@ def table_columns(result: Any, rows: list[dict[str, Any]] | None = None) -> list
         c["headerTooltip"] = _TOOLTIPS.get(c["field"], c["headerName"])
         if c["field"] == "signal":
             c.update(minWidth=150, wrapText=False, autoHeight=False)
+        elif "bonferroni" in c["field"]:
+            c["minWidth"] = 140          # the header's longest word whole
     return cols
 
 
@@ -446,8 +453,9 @@ def _data_note(st: Any, sel: Any, res: Any) -> str:
 def _open(cell: Any, name: Any) -> Any:
     if not isinstance(cell, dict) or not isinstance(cell.get("rowId"), str) or not isinstance(name, str):
         return no_update, no_update
-    point = cell["rowId"].split("|", 1)[0]
+    point, _, horizon = cell["rowId"].partition("|")
     res = load_named_sweep(state().workspace.root, name)
     if res is None or point not in res.configs:
         return no_update, "That configuration is no longer in the sweep folder."
-    return "/study?" + urlencode({"sweep": name, "point": point}), f"Opening {configuration_words(res, point)} ..."
+    query = {"sweep": name, "point": point, **({"horizon": horizon} if horizon.isdigit() else {})}
+    return "/study?" + urlencode(query), f"Opening {configuration_words(res, point)} ..."

@@ -82,7 +82,8 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
         href, note = page._open({"rowId": target["row_id"], "colId": "signal"}, "first")
         assert note.startswith("Opening signal dividend yield")
         q = {k: v[0] for k, v in parse_qs(urlsplit(href).query).items()}
-        assert urlsplit(href).path == "/study" and q == {"sweep": "first", "point": target["point_id"]}
+        assert urlsplit(href).path == "/study"
+        assert q == {"sweep": "first", "point": target["point_id"], "horizon": str(target["horizon"])}
         settings = settings_from_query(app.server.extensions["valuesift"].workspace.root, q)
         # the Study page's settings give back the sweep point's configuration
         from valuesift.core.config import StudyConfig
@@ -93,11 +94,12 @@ def test_a_click_opens_the_configuration_on_the_study_page(app_with_sweep: Any) 
                 got.horizons) == (want.signal, want.universe, want.universe_sectors, want.sector_neutral,
                                   want.winsor_percentiles, want.horizons)
         # the hook: the Study page opened with that query shows those values in its controls
-        lay = study_page.layout(**q)
+        lay = study_page.layout(**q)          # the row's horizon is the one drawn first
         vals = {c.id: c.value for c in _walk(lay) if isinstance(getattr(c, "id", None), str) and hasattr(c, "value")}
         assert vals["study-signal"] == "dividend_yield" and vals["study-neutral"] == ["on"]
         assert vals["study-universe"] == "sectors" and vals["study-sectors"] == ["Kilns", "Quays"]
         assert vals["study-winsor"] == 2.0 and vals["study-horizons"] == [1, 3]
+        assert vals["study-horizon"] == target["horizon"]
         # an unknown point or sweep: the usual Study page
         plain = study_page.layout(sweep="first", point="nope")
         pvals = {c.id: c.value for c in _walk(plain) if isinstance(getattr(c, "id", None), str) and hasattr(c, "value")}

@@ -135,6 +135,8 @@ def test_a_grid_built_from_the_controls_runs_and_opens_as_a_study(page, server: 
     row_index = row.get_attribute("row-index")
     q_cell = pg.locator(f"#sweep-table .ag-center-cols-container .ag-row[row-index='{row_index}'] [col-id=quantiles]")
     wanted_q = int(q_cell.inner_text())
+    wanted_h = int(pg.locator(f"#sweep-table .ag-center-cols-container .ag-row[row-index='{row_index}'] "
+                              "[col-id=horizon]").inner_text())
     row.locator("[col-id=signal]").click()
     pg.wait_for_url("**/study?sweep=*&point=*")
     point = parse_qs(urlsplit(pg.url).query)["point"][0]
@@ -145,7 +147,8 @@ def test_a_grid_built_from_the_controls_runs_and_opens_as_a_study(page, server: 
     stored = pg.evaluate("() => JSON.parse(localStorage.getItem('vs-settings'))")
     assert config_from_settings(stored).to_dict() == want
     expect(pg.locator("#study-n-quantiles")).to_contain_text(str(wanted_q))
-    expect(pg.locator("#study-summary")).to_contain_text("the mean rank IC is")
+    # the row's horizon is the one drawn
+    expect(pg.locator("#study-summary")).to_contain_text(f"At {wanted_h} month{'s' if wanted_h != 1 else ''} the mean rank IC is")
     assert not pg.errors, pg.errors  # type: ignore[attr-defined]
 
 
@@ -182,4 +185,45 @@ def test_cancel_stops_a_running_sweep(page, server: str, workspace: Path) -> Non
     assert finished() == first and first < 2 + 48 - 10     # 2 points of the first test, most of these never ran
     assert not (workspace / "sweeps" / "to be cancelled").exists()
     assert "to be cancelled" not in pg.locator("#sweep-pick").inner_text()
+    assert not pg.errors, pg.errors  # type: ignore[attr-defined]
+
+
+def test_outliers_costs_and_a_hold_out_month_reach_the_table(page, server: str, workspace: Path) -> None:  # type: ignore[no-untyped-def]
+    from playwright.sync_api import expect
+
+    from valuesift.core.sweep import load_sweep
+
+    pg = page
+    pg.goto(server + "/sweep")
+    expect(pg.locator("#sweep-count")).to_contain_text("1 configuration")
+    _tick(pg, "sweep-horizons", "1", False)              # one horizon: 12 months
+    _tick(pg, "sweep-outliers", "Winsorise at percentiles 5 and 95", True)
+    _tick(pg, "sweep-outliers", "Winsorise at percentiles 1 and 99", False)
+    _tick(pg, "sweep-outliers", "Leave as they are", True)
+    _tick(pg, "sweep-costs", "25", True)
+    expect(pg.locator("#sweep-count")).to_contain_text("4 configurations × 1 horizon = 4 signal tests")
+    # a month not written YYYY-MM is refused, naming the control
+    pg.locator("#sweep-holdout").fill("2018/01")
+    expect(pg.locator("#sweep-count")).to_contain_text("Hold-out from (month): '2018/01' is not a month written YYYY-MM")
+    expect(pg.locator("#sweep-run-button")).to_be_disabled()
+    pg.locator("#sweep-holdout").fill("2018-01")
+    expect(pg.locator("#sweep-count")).to_contain_text("4 configurations")
+    pg.locator("#sweep-name").fill("costs and outliers")
+    pg.locator("#sweep-run-button").click()
+    expect(pg.locator("#sweep-run-alert")).to_contain_text("The sweep costs and outliers is finished")
+    expect(pg.locator("#sweep-table .ag-center-cols-container .ag-row")).to_have_count(4)
+    outl = pg.locator("#sweep-table .ag-center-cols-container [col-id=outliers]").all_inner_texts()
+    assert sorted(outl) == ["leave as they are"] * 2 + ["winsorise at percentiles 5 and 95"] * 2
+    costs = pg.locator("#sweep-table .ag-center-cols-container [col-id=cost_bps]").all_inner_texts()
+    assert sorted(costs) == ["0", "0", "25", "25"]
+    expect(pg.locator("#sweep-table .ag-header")).to_contain_text("Trading cost (basis points)")
+    # the hold-out: the best in-sample configuration beside its figures from 2018-01 on
+    expect(pg.locator("#sweep-holdout-sentence")).to_contain_text("on the hold-out from 2018-01")
+    expect(pg.locator("#sweep-holdout-table .ag-center-cols-container .ag-row")).to_have_count(4)
+    expect(pg.locator("#sweep-holdout-table .ag-pinned-left-cols-container")).to_contain_text("trading cost (basis points) 25")
+    res = load_sweep(workspace / "sweeps" / "costs and outliers")
+    assert res.holdout == "2018-01" and res.horizons == (12,)
+    got = {(c["outlier_rule"], tuple(c["winsor_percentiles"]), c["transaction_cost_bps"]) for c in res.configs.values()}
+    assert got == {("winsorise", (5.0, 95.0), 0), ("winsorise", (5.0, 95.0), 25), ("none", (1.0, 99.0), 0),
+                   ("none", (1.0, 99.0), 25)}
     assert not pg.errors, pg.errors  # type: ignore[attr-defined]
