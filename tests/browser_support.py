@@ -15,6 +15,7 @@ import urllib.request
 from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from pathlib import Path
+from typing import Any
 
 import pytest
 
@@ -80,3 +81,19 @@ def running_server(workspace: Path, *, ready_path: str = "/data", extra: Sequenc
             proc.kill()
             proc.wait(timeout=20)
         log.close()
+
+
+@contextmanager
+def browser_page(width: int = 1440, height: int = 1000, timeout_ms: int = 90_000) -> Iterator[Any]:
+    """A headless Chromium page of the given size with a default timeout; closed on leaving."""
+    from playwright.sync_api import expect, sync_playwright
+
+    expect.set_options(timeout=timeout_ms)
+    with sync_playwright() as p:
+        browser = p.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
+        try:
+            page = browser.new_page(viewport={"width": width, "height": height})
+            page.set_default_timeout(timeout_ms)
+            yield page
+        finally:
+            browser.close()

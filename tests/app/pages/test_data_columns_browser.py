@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tests.browser_support import CHROMIUM, CHROMIUM_ARGS as ARGS, need_browser, running_server
+from tests.browser_support import browser_page, need_browser, running_server
 
 pytestmark = pytest.mark.browser
 
@@ -56,13 +56,9 @@ def _reread(page: object, fill: dict[str, str], pick: tuple[str, str] | None = N
 
 
 def test_column_choices_on_the_card_change_the_reading(server: str, tmp_path: Path) -> None:
-    from playwright.sync_api import expect, sync_playwright
+    from playwright.sync_api import expect
 
-    expect.set_options(timeout=WAIT)
-    with sync_playwright() as p:
-        browser = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
-        page = browser.new_page(viewport={"width": 1440, "height": 1000})
-        page.set_default_timeout(WAIT)
+    with browser_page(timeout_ms=WAIT) as page:
         page.goto(server + "/data")
         page.locator("#data-upload input[type=file]").set_input_files([_file(tmp_path)])
         expect(page.locator("#data-upload-alert")).to_contain_text("Read 1 of 1 file(s)")
@@ -91,22 +87,17 @@ def test_column_choices_on_the_card_change_the_reading(server: str, tmp_path: Pa
         # A repeated row stops the read when asked to; the card says why and names the choice to change.
         _reread(page, {}, ("ds-dups", "stop with an error"))
         expect(page.locator("#data-upload-alert")).to_contain_text("Repeated date and security")
-        browser.close()
 
 
 def test_earnings_read_as_pe_on_the_card(server: str, tmp_path: Path) -> None:
-    from playwright.sync_api import expect, sync_playwright
+    from playwright.sync_api import expect
 
     rng = np.random.default_rng(3)
     dates = pd.date_range("2017-01-31", periods=24, freq="ME")
     path = tmp_path / "figures_q.csv"      # a name that says neither EPS nor P/E: read as EPS, "assumed"
     pd.DataFrame(rng.uniform(8, 20, (24, 4)).round(2), index=dates,
                  columns=[f"QZK{i:02d}" for i in range(4)]).rename_axis("date").to_csv(path)
-    expect.set_options(timeout=WAIT)
-    with sync_playwright() as p:
-        browser = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
-        page = browser.new_page(viewport={"width": 1440, "height": 1000})
-        page.set_default_timeout(WAIT)
+    with browser_page(timeout_ms=WAIT) as page:
         page.goto(server + "/data")
         page.locator("#data-upload input[type=file]").set_input_files([str(path)])
         # Neither the name nor the header says what the file holds: the upload fails and names the choice ...
@@ -130,4 +121,3 @@ def test_earnings_read_as_pe_on_the_card(server: str, tmp_path: Path) -> None:
         expect(page.locator("#data-upload-alert")).to_contain_text("figures_q.csv was read again.")
         expect(card()).to_contain_text("P/E")
         expect(card()).not_to_contain_text("earnings read as EPS")
-        browser.close()
