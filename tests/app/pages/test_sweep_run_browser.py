@@ -212,7 +212,11 @@ def test_outliers_costs_and_a_hold_out_month_reach_the_table(page, server: str, 
     pg.locator("#sweep-run-button").click()
     expect(pg.locator("#sweep-run-alert")).to_contain_text("The sweep costs and outliers is finished")
     expect(pg.locator("#sweep-table .ag-center-cols-container .ag-row")).to_have_count(4)
-    outl = pg.locator("#sweep-table .ag-center-cols-container [col-id=outliers]").all_inner_texts()
+    # the rows and their columns are drawn in separate steps: wait for the cells, then read them
+    outl_cells = pg.locator("#sweep-table .ag-center-cols-container [col-id=outliers]")
+    expect(outl_cells).to_have_count(4)
+    expect(pg.locator("#sweep-table .ag-center-cols-container [col-id=cost_bps]")).to_have_count(4)
+    outl = outl_cells.all_inner_texts()
     assert sorted(outl) == ["leave as they are"] * 2 + ["winsorise at percentiles 5 and 95"] * 2
     costs = pg.locator("#sweep-table .ag-center-cols-container [col-id=cost_bps]").all_inner_texts()
     assert sorted(costs) == ["0", "0", "25", "25"]
