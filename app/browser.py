@@ -1,4 +1,4 @@
-"""Finding the local Chrome or Chromium that static chart export (kaleido) drives."""
+"""Finding the local Chrome or Chromium that the chart images (app/render.py) are drawn in."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ _NAMES = ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable
 
 
 def find_browser() -> str | None:
-    """The Chrome/Chromium kaleido would use: ``BROWSER_PATH`` if set (it must exist), else one on PATH."""
+    """The Chrome/Chromium the images are drawn in: ``BROWSER_PATH`` if set (it must exist), else one on PATH."""
     env = os.environ.get("BROWSER_PATH")
     if env:
         return env if Path(env).is_file() and os.access(env, os.X_OK) else None

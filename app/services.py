@@ -284,6 +284,46 @@ class AppState:
         except Exception:
             log.warning("could not write the study cache", exc_info=True)
 
+    def start_studies(self, kind: str, entries: list[tuple[str, str, Selection, StudyConfig]],
+                      finish: Any, *, key: str) -> Job:
+        """Queue several studies as one job of ``kind`` (each taken from the study cache when it is there),
+        then ``finish(results, job)`` with the results by label; returns the runner's job.
+
+        ``entries`` are ``(label, words, selection, config)``: ``words`` names the study in the progress
+        text.  The selections are narrowed to the current session's datasets here, in the request, because
+        the worker thread has no session.  Raises :class:`~valuesift.app.jobs.Busy` when the queue is full.
+        """
+        owner = current_owner() or ""
+        prepared = []
+        for label, words, sel, cfg in entries:
+            vis = normalise_selection(self.visible(sel))
+            k = self.study_key(vis, cfg)
+            self._add_owner(k, owner)
+            prepared.append((label, words, vis, cfg, k))
+
+        def work(job: Job) -> Any:
+            n = len(prepared)
+            results: dict[str, StudyResult] = {}
+            for i, (label, words, vis, cfg, k) in enumerate(prepared):
+                stage = f"study {i + 1} of {n} ({words})"
+                job.progress(stage, i / (n + 1))
+                res = self.result(k)
+                if res is None:
+                    def step(what: str, frac: float, i: int = i, stage: str = stage) -> None:
+                        job.progress(f"{stage}: {what}", (i + max(0.0, min(float(frac), 1.0))) / (n + 1))
+                    res = run_study(self.panel(vis), cfg, progress=step)
+                    self._store(k, res)
+                results[label] = res
+            job.progress("putting the studies side by side", n / (n + 1))
+            return finish(results, job)
+
+        return self.runner.submit(kind, owner, work, key=key)
+
+    def own_job(self, job_id: Any, kind: str) -> Job | None:
+        """The current session's job of ``kind`` with this id (None for another session's or an unknown id)."""
+        job = self.runner.get(job_id if isinstance(job_id, str) else None, current_owner())
+        return job if job is not None and job.kind == kind else None
+
     # -- sweeps ----------------------------------------------------------------------------
     def start_sweep(self, sel: Selection, grid: SweepGrid, name: str, holdout: str | None = None) -> Job:
         """Queue a sweep of ``grid`` on the selection's panel; when it finishes it is saved as ``sweeps/<name>``.

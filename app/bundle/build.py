@@ -156,7 +156,7 @@ def _sha(path: Path) -> str:
 
 def _versions() -> dict[str, str]:
     out = {"python": platform.python_version()}
-    for pkg in ("pandas", "numpy", "scipy", "statsmodels", "plotly", "kaleido", "reportlab", "openpyxl"):
+    for pkg in ("pandas", "numpy", "scipy", "statsmodels", "plotly", "choreographer", "reportlab", "openpyxl"):
         try:
             out[pkg] = version(pkg)
         except PackageNotFoundError:

@@ -1,28 +1,25 @@
 """The bundle's charts: the dashboard's own figure functions, sized for a slide, rendered once per bundle.
 
-Static images go through Plotly's static export (``kaleido`` 1.x driving a
-local Chrome/Chromium): one browser is opened per bundle and every image is
-rendered through it, instead of one browser per image.  When no browser can be
-found, :func:`render_static` returns no images and a plain hint
+Static images are drawn by :mod:`valuesift.app.render`: one local Chrome/Chromium page per bundle draws
+every chart with plotly.js, writes the bundle's source line along each PNG and encodes the print copy.
+When no browser can be found, :func:`render_static` returns no images and a plain hint
 (:data:`NO_BROWSER_HINT`); the rest of the bundle is built all the same.
 """
 
 from __future__ import annotations
 
-import asyncio
+import io
 import re
 import threading
-import dataclasses
-import io
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
 
-import plotly
 import plotly.graph_objects as go
 from PIL import Image
 
 from valuesift.app.browser import find_browser
+from valuesift.app.render import NO_BROWSER_HINT, RenderOutcome, plotly_js_path, render_images
 
 from valuesift.app.figures import backtest as fb
 from valuesift.app.figures.common import wrap
@@ -32,19 +29,11 @@ from valuesift.app.figures import study as fs
 from valuesift.app.figures import stability as fst
 from valuesift.core.result import StudyResult
 
-__all__ = ["stamp_source", "ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
+__all__ = ["ChartSpec", "CHARTS", "CHART_KEYS", "SLIDE", "figure_for", "render_static", "write_html",
            "plotly_js_path", "find_browser", "NO_BROWSER_HINT", "RenderOutcome", "RenderJob", "start_render", "print_jpeg"]
 
 #: A 16:9 slide at 2x: 1280 x 720 layout pixels, rendered at scale 2 (2560 x 1440 PNG).
 SLIDE = {"width": 1280, "height": 720, "scale": 2}
-
-NO_BROWSER_HINT = (
-    "The chart images could not be rendered because no Chrome or Chromium browser was found. "
-    "To enable them, install Chromium (on Debian: apt-get install chromium) or set the environment "
-    "variable BROWSER_PATH to a Chrome or Chromium executable, then build the bundle again. "
-    "The interactive charts (charts/*.html) and every table are included regardless."
-)
-
 
 @dataclass(frozen=True)
 class ChartSpec:
@@ -125,11 +114,6 @@ def _rewrap_for_slide(fig: go.Figure) -> None:
     fig.update_layout(title=dict(text=t, subtitle=dict(text=s)), margin=dict(t=30 + 24 * nt + 19 * ns + 18))
 
 
-def plotly_js_path() -> Path:
-    """The plotly.min.js shipped inside the installed plotly package (used offline)."""
-    return Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
-
-
 _DIV_ID = re.compile(r"[^A-Za-z0-9_-]")
 
 
@@ -150,27 +134,6 @@ def _escape(text: str) -> str:
     return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
 
 
-@dataclass(frozen=True)
-class RenderOutcome:
-    """PNG and SVG bytes per chart key (empty when nothing could be rendered) and a note saying why."""
-
-    png: dict[str, bytes]
-    svg: dict[str, bytes]
-    note: str | None
-    jpeg: dict[str, bytes] = dataclasses.field(default_factory=dict)   # print copies for report.pdf
-
-
-_RENDER_LOCK = threading.Lock()      # one browser at a time on a small machine
-
-
-def _stable_svg(svg: bytes) -> bytes:
-    """Replace plotly's random per-plot id (used in clip-path ids) by a fixed one, so the SVG is reproducible."""
-    m = re.search(rb'clip([0-9a-f]{6})', svg)
-    if not m:
-        return svg
-    return svg.replace(m.group(1), b"vsplot")
-
-
 class RenderJob:
     """Static rendering running in its own thread (started by :func:`start_render`); :meth:`wait` gives the outcome."""
 
@@ -184,8 +147,8 @@ class RenderJob:
         self._thread.start()
 
     def _main(self) -> None:
-        with _RENDER_LOCK:
-            self._outcome = _render(self._figs, self._progress, self._stamp)
+        self._outcome = render_images(self._figs, width=SLIDE["width"], height=SLIDE["height"], scale=SLIDE["scale"],
+                                      svg=True, jpeg=True, stamp=self._stamp, progress=self._progress)
 
     def wait(self) -> RenderOutcome:
         self._thread.join()
@@ -197,104 +160,24 @@ def start_render(figs: dict[str, go.Figure], progress: Callable[[str, float], No
                  stamp: str | None = None) -> RenderJob:
     """Start :func:`render_static` in the background (the browser starts while tables are written).
 
-    With ``stamp``, the PNGs of the outcome carry that line along their bottom (:func:`stamp_source`);
-    the print copies (JPEG) stay as drawn.
+    With ``stamp``, the PNGs of the outcome carry that line along their bottom; the print copies (JPEG)
+    and the SVGs stay as drawn.
     """
     return RenderJob(figs, progress, stamp)
 
 
-def render_static(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None = None) -> RenderOutcome:
-    """Render every figure to PNG (slide size at 2x) and SVG through one browser.
+def render_static(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None = None, *,
+                  stamp: str | None = None) -> RenderOutcome:
+    """Render every figure to PNG (slide size at 2x), SVG and a JPEG print copy through one browser page.
 
     Returns a :class:`RenderOutcome`; with no browser (or a browser that fails to start) the
     dicts are empty and ``note`` is :data:`NO_BROWSER_HINT` (plus the cause), never an exception.
     """
-    return start_render(figs, progress).wait()
-
-
-#: pages of the one browser drawing charts at the same time (two keep both cores busy: one draws while
-#: the other's image is encoded)
-RENDER_TABS = 1
-
-
-def _render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None,
-            stamp: str | None = None) -> RenderOutcome:
-    if not figs:
-        return RenderOutcome({}, {}, None)
-    browser = find_browser()
-    if browser is None:
-        return RenderOutcome({}, {}, NO_BROWSER_HINT)
-    try:  # kaleido may be missing from an environment: the guard turns that into a sentence
-        import kaleido
-    except ImportError:  # pragma: no cover - kaleido is a dependency
-        return RenderOutcome({}, {}, "The chart images could not be rendered: the kaleido package is not "
-                                     "installed (pip install kaleido). " + NO_BROWSER_HINT)
-
-    png: dict[str, bytes] = {}
-    svg: dict[str, bytes] = {}
-    jpeg: dict[str, bytes] = {}
-    keys = list(figs)
-    done = [0]
-
-    def finish(raw: bytes) -> tuple[bytes, bytes]:
-        # The print copy and the stamped slide image, made in a worker thread while the browser draws on.
-        return (stamp_source(raw, stamp) if stamp is not None else raw), print_jpeg(raw)
-
-    async def run() -> None:
-        pending = []
-        # One browser (kaleido's persistent process) for the whole bundle, with a few pages drawing at once.
-        async with kaleido.Kaleido(n=RENDER_TABS, mathjax=False, path=browser, timeout=120) as k:
-            async def one(key: str) -> None:
-                fig = figs[key]
-                opts = {"width": SLIDE["width"], "height": SLIDE["height"]}
-                raw = await k.calc_fig(fig, opts={**opts, "format": "png", "scale": SLIDE["scale"]})
-                pending.append((key, asyncio.create_task(asyncio.to_thread(finish, raw))))
-                svg[key] = _stable_svg(await k.calc_fig(fig, opts={**opts, "format": "svg", "scale": 1}))
-                done[0] += 1
-                if progress is not None:
-                    progress(f"rendering chart {done[0]} of {len(keys)}", done[0] / len(keys))
-
-            if progress is not None:
-                progress(f"rendering chart 1 of {len(keys)}", 0.0)
-            await asyncio.gather(*(one(key) for key in keys))
-            for key, task in pending:
-                png[key], jpeg[key] = await task
-
-    try:
-        asyncio.run(run())      # this thread's own event loop, whatever loop the caller runs
-    except BaseException as err:  # noqa: BLE001 - reported as a note, never a crash
-        cause = f"{type(err).__name__}: {str(err)[:300]}"
-        return RenderOutcome({}, {}, NO_BROWSER_HINT + f" (The browser at {browser} failed: {cause})")
-    return RenderOutcome({k: png[k] for k in keys if k in png}, {k: svg[k] for k in keys if k in svg}, None,
-                         {k: jpeg[k] for k in keys if k in jpeg})
+    return start_render(figs, progress, stamp=stamp).wait()
 
 
 def print_jpeg(png: bytes) -> bytes:
     """A chart's print copy: JPEG at quality 92 without chroma subsampling (the PDF embeds it as it is)."""
     buf = io.BytesIO()
     Image.open(io.BytesIO(png)).convert("RGB").save(buf, format="JPEG", quality=92, subsampling=0, optimize=False)
-    return buf.getvalue()
-
-
-def stamp_source(png: bytes, line: str) -> bytes:
-    """The chart PNG with ``line`` (the bundle's source line) written along its bottom edge, same size.
-
-    The chart is scaled down by the height of one strip of text (keeping its proportions) and the line
-    is written in that strip, so a slide or document that takes the image carries its source with it.
-    """
-    from PIL import Image, ImageDraw, ImageFont
-    import reportlab
-
-    with Image.open(io.BytesIO(png)) as src:
-        im = src.convert("RGB")
-    w, h = im.size
-    strip = max(24, int(h * 0.034))
-    body = im.resize((int(w * (h - strip) / h), h - strip), Image.Resampling.BILINEAR)
-    out = Image.new("RGB", (w, h), "white")
-    out.paste(body, ((w - body.width) // 2, 0))
-    font_path = Path(reportlab.__file__).parent / "fonts" / "Vera.ttf"
-    font = ImageFont.truetype(str(font_path), size=max(10, int(strip * 0.5)))
-    ImageDraw.Draw(out).text((int(w * 0.015), h - strip + int(strip * 0.2)), line, fill=(111, 119, 130), font=font)
-    buf = io.BytesIO()
-    out.save(buf, format="PNG", compress_level=3)
     return buf.getvalue()

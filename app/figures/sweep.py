@@ -10,7 +10,7 @@ import numpy as np
 import plotly.graph_objects as go
 
 from valuesift.app.escape import chart_texts
-from valuesift.app.browser import find_browser
+from valuesift.app.render import render_images
 
 from valuesift.app.figures.common import base_figure, message_figure
 from valuesift.app.figures.theme import CHEAP, DEAR, NEUTRAL
@@ -72,21 +72,11 @@ def write_heatmap(fig: go.Figure, out_dir: str | os.PathLike[str], stem: str = "
     html = out / f"{stem}.html"
     fig.write_html(html, include_plotlyjs=True, full_html=True, config={"displaylogo": False})
     paths = [html]
-    browser = find_browser()
-    if browser is None:
-        return paths, ("No Chrome/Chromium found: the heat map was written as HTML only "
-                       "(install chromium or set BROWSER_PATH for a PNG).")
     png = out / f"{stem}.png"
-    old = os.environ.get("BROWSER_PATH")
-    try:
-        os.environ["BROWSER_PATH"] = browser
-        fig.write_image(png, format="png", width=1100, height=int(fig.layout.height or 500), scale=1)
-    except Exception as err:  # noqa: BLE001 - the HTML stands; say why there is no PNG
-        return paths, f"The PNG heat map could not be rendered ({type(err).__name__}); the HTML one was written."
-    finally:
-        if old is None:
-            os.environ.pop("BROWSER_PATH", None)
-        else:
-            os.environ["BROWSER_PATH"] = old
+    got = render_images({stem: fig}, width=1100, height=int(fig.layout.height or 500), scale=1, svg=False)
+    if stem not in got.png:
+        return paths, ("The PNG heat map could not be rendered, so the heat map was written as HTML only. "
+                       + (got.note or ""))
+    png.write_bytes(got.png[stem])
     paths.append(png)
     return paths, None

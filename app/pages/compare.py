@@ -1,7 +1,8 @@
 """Compare page: two to eight signals (and saved studies) side by side on the data in use and the Study page's
 settings; the rank correlation between them as a heat map; which one carries information the others do not.
 
-Callbacks are thin: the comparison comes from :func:`valuesift.app.compare_service.compare_now`, the charts
+Callbacks are thin: the comparison runs on the job runner (:func:`valuesift.app.compare_service.start_compare`,
+with progress per study and Cancel), the charts
 from :mod:`valuesift.app.figures.compare`, the sentences from :mod:`valuesift.app.bundle.stability_text`.
 """
 
@@ -13,12 +14,12 @@ import dash
 from dash import Input, Output, State, dcc, html, no_update
 
 from valuesift.app.bundle.stability_text import compare_sentences, evidence_phrase
-from valuesift.app.compare_service import compare_now
+from valuesift.app.compare_service import compare_result, start_compare
 from valuesift.app.components.common import field, panel_choices, text_table
 from valuesift.app.components.graphs import graph_card, height_style
 from valuesift.app.figures.common import fmt_num, fmt_pct
 from valuesift.app.figures.compare import compare_ic_figure, correlation_heatmap_figure, joint_fm_figure, signal_words
-from valuesift.app.jobs_ui import alert
+from valuesift.app.jobs_ui import alert, job_components
 from valuesift.app.saved_studies import delete_study, save_study, saved_studies
 from valuesift.app.services import current_owner, normalise_selection, state
 from valuesift.app.settings import config_from_settings, shown_horizon
@@ -58,7 +59,7 @@ def layout(**_: Any) -> html.Div:
         ]),
         html.Section(className="vs-content", children=[
             html.H1("Compare signals"),
-            html.Div(id=f"{P}-alert"),
+            *job_components(P),
             html.Div(id=f"{P}-results", hidden=True, children=[
                 field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[], value=None,
                                                       className="vs-horizon-pick")),
@@ -114,23 +115,69 @@ def _save(n_save: Any, n_delete: Any, name: Any, sel: Any, settings: Any, chosen
 
 
 @dash.callback(
-    Output(f"{P}-done", "data"), Output(f"{P}-alert", "children"),
+    Output(f"{P}-job", "data"), Output(f"{P}-poll", "disabled"), Output(f"{P}-alert", "children"),
+    Output(f"{P}-controls", "disabled"), Output(f"{P}-progress-box", "hidden"), Output(f"{P}-done", "data"),
     Input(f"{P}-run", "n_clicks"),
     State("vs-selection", "data"), State("vs-settings", "data"), State(f"{P}-signals", "value"),
     State(f"{P}-saved", "value"),
-    running=[(Output(f"{P}-run", "disabled"), True, False)],
     prevent_initial_call=True,
 )
 def _run(n: Any, sel: Any, settings: Any, signals: Any, saved: Any) -> Any:
     st = state()
+    if not n:
+        return no_update, True, no_update, False, True, no_update
     if not st.usable_ids(normalise_selection(sel)):
-        return None, alert("No price file is in use yet. Upload your files (or open the demo) on the Data page.", "info")
+        return (None, True, alert("No price file is in use yet. Upload your files (or open the demo) on the Data "
+                                  "page.", "info"), False, True, None)
     try:
-        cmp, left = compare_now(st, sel, config_from_settings(settings), list(signals or []), list(saved or []))
+        job, key, left = start_compare(st, sel, config_from_settings(settings), list(signals or []),
+                                       list(saved or []), words=signal_words)
     except ValueSiftError as err:
-        return None, alert(str(err))
-    return {"sel": normalise_selection(sel), "settings": settings, "signals": list(signals or []),
-            "saved": list(saved or []), "left": left, "horizons": list(cmp.config.horizons)}, None
+        return None, True, alert(str(err)), False, True, None
+    done = {"key": key, "left": left}
+    if job is None:                     # already compared: drawn at once
+        return {"status": "done"}, True, None, False, True, done
+    return {"id": job.id, "status": "running", "done": done}, False, None, True, False, no_update
+
+
+@dash.callback(
+    Output(f"{P}-job", "data", allow_duplicate=True), Output(f"{P}-poll", "disabled", allow_duplicate=True),
+    Output(f"{P}-progress-bar", "style"), Output(f"{P}-progress-text", "children"),
+    Output(f"{P}-alert", "children", allow_duplicate=True), Output(f"{P}-controls", "disabled", allow_duplicate=True),
+    Output(f"{P}-progress-box", "hidden", allow_duplicate=True), Output(f"{P}-done", "data", allow_duplicate=True),
+    Input(f"{P}-poll", "n_intervals"), State(f"{P}-job", "data"),
+    prevent_initial_call=True,
+)
+def _poll(_n: Any, data: Any) -> Any:
+    if not isinstance(data, dict) or data.get("status") != "running":
+        return no_update, True, no_update, no_update, no_update, False, True, no_update
+    job = state().own_job(data.get("id"), "comparison")
+    if job is None:
+        return ({"status": "lost"}, True, {}, "", alert("The comparison was lost (the server restarted?); press "
+                                                         "Compare again."), False, True, no_update)
+    if job.active:
+        pct = f"{100 * max(0.02, min(job.fraction, 1.0)):.0f}%"
+        text = "waiting for a running job to finish" if job.status == "queued" else f"comparing: {job.stage}"
+        return no_update, False, {"width": pct}, text, no_update, True, False, no_update
+    if job.status == "done":
+        return {"status": "done"}, True, {"width": "100%"}, "", None, False, True, data.get("done")
+    if job.status == "cancelled":
+        return ({"status": "cancelled"}, True, {}, "", alert("The comparison was cancelled.", "info"), False, True,
+                no_update)
+    return {"status": "failed"}, True, {}, "", alert(job.error or "The comparison failed."), False, True, no_update
+
+
+@dash.callback(
+    Output(f"{P}-cancel", "n_clicks"), Input(f"{P}-cancel", "n_clicks"), State(f"{P}-job", "data"),
+    prevent_initial_call=True,
+)
+def _cancel(n: Any, data: Any) -> Any:
+    if n and isinstance(data, dict):
+        st = state()
+        job = st.own_job(data.get("id"), "comparison")
+        if job is not None:
+            st.runner.cancel(job.id)
+    return no_update
 
 
 @dash.callback(
@@ -138,9 +185,10 @@ def _run(n: Any, sel: Any, settings: Any, signals: Any, saved: Any) -> Any:
     Input(f"{P}-done", "data"), State(f"{P}-horizon", "value"),
 )
 def _horizons(done: Any, current: Any) -> Any:
-    if not isinstance(done, dict):
+    cmp = compare_result(done.get("key")) if isinstance(done, dict) else None
+    if cmp is None:
         return no_update, no_update
-    hs = [int(h) for h in done["horizons"]]
+    hs = [int(h) for h in cmp.config.horizons]
     return [{"label": f"{h} m", "value": h} for h in hs], shown_horizon(hs, current)
 
 
@@ -165,11 +213,11 @@ def _table(cmp: Any, h: int) -> Any:
 def _show(done: Any, horizon: Any) -> Any:
     if not isinstance(done, dict):
         return True, None, None, no_update, no_update, no_update, None, no_update, no_update, no_update
-    st = state()
-    try:
-        cmp, _ = compare_now(st, done["sel"], config_from_settings(done["settings"]), done["signals"], done["saved"])
-    except ValueSiftError as err:
-        return True, alert(str(err)), None, no_update, no_update, no_update, None, no_update, no_update, no_update
+    cmp = compare_result(done.get("key"))
+    if cmp is None:
+        return (True, alert("This comparison is no longer in memory (the server restarted, or many comparisons were "
+                            "run since); press Compare again.", "info"), None, no_update, no_update, no_update, None,
+                no_update, no_update, no_update)
     h = shown_horizon(list(cmp.config.horizons), horizon)
     notes = [html.Li(n) for n in [*cmp.notes, *done.get("left", [])]]
     figs = [correlation_heatmap_figure(cmp), compare_ic_figure(cmp, h), joint_fm_figure(cmp, h)]

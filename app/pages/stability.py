@@ -1,8 +1,9 @@
 """Stability page: where the study's reward comes from -- against the comparison, by period, regime and sector,
 how fast it fades, whether it is size, momentum or beta in disguise, and equal against cap weight.
 
-It shows the study of the Study page's settings on the data in use (run, or taken from the study cache);
-every number is a field of the study result, every chart a function of :mod:`valuesift.app.figures.stability`.
+It shows the study of the Study page's settings on the data in use (run on the job runner with progress and
+Cancel, or taken from the study cache); every number is a field of the study result, every chart a function of
+:mod:`valuesift.app.figures.stability`.
 """
 
 from __future__ import annotations
@@ -24,11 +25,10 @@ from valuesift.app.bundle.stability_text import (
 from valuesift.app.components.common import field, text_table
 from valuesift.app.figures import stability as fst
 from valuesift.app.figures.common import fmt_num, fmt_pct
-from valuesift.app.jobs_ui import alert
+from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.components.graphs import graph_card, height_style
-from valuesift.app.services import normalise_selection, state
-from valuesift.app.settings import config_from_settings, shown_horizon
-from valuesift.core.errors import ValueSiftError
+from valuesift.app.services import finished_result
+from valuesift.app.settings import shown_horizon
 
 dash.register_page(__name__, path="/stability", name="Stability", order=6, title="ValueSift - Stability")
 
@@ -43,7 +43,7 @@ def layout(**_: Any) -> html.Div:
         html.P("The study of the Study page's settings on the data in use: against the comparison, by period, "
                "market regime and sector, its decay, with controls, and cap-weighted. In-sample, gross of costs "
                "unless a cost is set; associations, not causes."),
-        html.Div(id=f"{P}-alert"),
+        *job_components(P),
         html.Div(id=f"{P}-results", hidden=True, children=[
             field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[], value=None,
                                                   className="vs-horizon-pick")),
@@ -57,29 +57,22 @@ def layout(**_: Any) -> html.Div:
                                                     html.Div(id=f"{P}-controls")]),
             graph_card(f"{P}-capweight"),
         ]),
-        dcc.Store(id=f"{P}-key"),
     ])
 
 
-def _result(sel: Any, settings: Any) -> Any:
-    st = state()
-    if not st.usable_ids(normalise_selection(sel)):
-        raise ValueSiftError("No price file is in use yet. Upload your files (or open the demo) on the Data page.")
-    return st.run_now(normalise_selection(sel), config_from_settings(settings))
+register_job_callbacks(P)    # the study of the Study page's settings: started, polled and cancelled like the Study page's
 
 
 @dash.callback(
-    Output(f"{P}-key", "data"), Output(f"{P}-alert", "children"), Output(f"{P}-horizon", "options"),
-    Output(f"{P}-horizon", "value"),
-    Input("vs-selection", "data"), Input("vs-settings", "data"), State(f"{P}-horizon", "value"),
+    Output(f"{P}-horizon", "options"), Output(f"{P}-horizon", "value"),
+    Input(f"{P}-job", "data"), State(f"{P}-horizon", "value"),
 )
-def _run(sel: Any, settings: Any, current: Any) -> Any:
-    try:
-        key, res = _result(sel, settings)
-    except ValueSiftError as err:
-        return None, alert(str(err), "info"), [], None
+def _horizons(job: Any, current: Any) -> Any:
+    res = finished_result(job)
+    if res is None:
+        return no_update, no_update
     hs = [int(h) for h in res.config.horizons]
-    return key, None, [{"label": f"{h} m", "value": h} for h in hs], shown_horizon(hs, current)
+    return [{"label": f"{h} m", "value": h} for h in hs], shown_horizon(hs, current)
 
 
 def _relative_table(res: Any) -> Any:
@@ -116,12 +109,14 @@ def _controls_table(res: Any, h: int) -> Any:
     Output(f"{P}-regimes", "figure"), Output(f"{P}-decay", "figure"), Output(f"{P}-sectors", "figure"),
     Output(f"{P}-controls", "children"), Output(f"{P}-capweight", "figure"), Output(f"{P}-readings", "children"),
     *[Output(f"{P}-{g}", "style") for g in _GRAPHS],
-    Input(f"{P}-key", "data"), Input(f"{P}-horizon", "value"),
+    Input(f"{P}-job", "data"), Input(f"{P}-horizon", "value"),
 )
-def _show(key: Any, horizon: Any) -> Any:
-    res = state().result(key) if key else None
+def _show(job: Any, horizon: Any) -> Any:
+    res = finished_result(job)
     if res is None:
-        return (True, *([no_update] * (8 + len(_GRAPHS))))
+        if isinstance(job, dict) and job.get("status") == "running":
+            return (no_update, *([no_update] * (8 + len(_GRAPHS))))
+        return (True, *([no_update] * (8 + len(_GRAPHS))))    # no data or a failed study: the alert says why
     h = shown_horizon(list(res.config.horizons), horizon)
     readings = [*period_sentences(res, h), *regime_sentences(res, h), *sector_sentences(res, h),
                 *decay_sentences(res), *cap_sentences(res, h)]

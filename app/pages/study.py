@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from typing import Any
+from urllib.parse import quote
 
 import dash
 import numpy as np
@@ -13,10 +14,22 @@ from valuesift.app.figures import study as fs
 from valuesift.app.figures.common import month
 from valuesift.app.figures.cache import HORIZON_CHARTS, scatter_for, study_figures, warm_study
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
-from valuesift.app.services import finished_result, normalise_selection, state
-from valuesift.app.settings import DEFAULT_SETTINGS, HORIZON_CHOICES, bounds, help_text, label, options, shown_horizon
+from valuesift.app.saved_studies import save_study, saved_studies, saved_study
+from valuesift.app.services import current_owner, finished_result, normalise_selection, selection_key, state
+from valuesift.app.settings import (
+    DEFAULT_SETTINGS,
+    HORIZON_CHOICES,
+    bounds,
+    config_from_settings,
+    help_text,
+    label,
+    options,
+    shown_horizon,
+    study_settings,
+)
 from valuesift.app.sweeps import opened_from_query
 from valuesift.app.words import evidence_words, stage_words
+from valuesift.core.errors import ValueSiftError
 from valuesift.core.settings import SETTING_BY_NAME
 
 dash.register_page(__name__, path="/study", name="Study", order=1, title="ValueSift - Study")
@@ -89,19 +102,67 @@ def _query_horizon(query: dict[str, Any]) -> int | None:
         return None
 
 
+def _opened_saved(name: str) -> tuple[dict[str, Any], list[str], dict[str, Any], str] | None:
+    """A saved study's page settings, the labels it sets that the page cannot show, its selection and when
+    it was saved (None when the session has no study of that name)."""
+    ws, owner = state().workspace, current_owner()
+    rec = saved_study(ws, name, owner)
+    if rec is None:
+        return None
+    sel, cfg = rec
+    settings, gaps = study_settings(cfg.to_dict())
+    return settings, gaps, sel, str(saved_studies(ws, owner).get(name, {}).get("saved", ""))
+
+
+def _saved_box() -> html.Fieldset:
+    """Save the study on screen under a name; open a saved one (its data and settings) here again."""
+    return html.Fieldset(className="vs-controls", children=[
+        html.Legend("Saved studies"),
+        field("Save the study on screen as", dcc.Input(id=f"{P}-save-name", type="text", maxLength=60,
+                                                     placeholder="e.g. yield, 3-month lag")),
+        html.Button("Save", id=f"{P}-save", n_clicks=0, className="vs-button"),
+        html.Div(id=f"{P}-save-note", className="vs-hint", role="status"),
+        field("Open a saved study", dcc.Dropdown(id=f"{P}-saved-pick", options=[], value=None,
+                                                 placeholder="no saved study yet"),
+              "Opens its data and its settings on this page; saved studies are kept in the workspace."),
+        dcc.Link("Open", id=f"{P}-open-saved", href="", className="vs-button vs-button-quiet",
+                 style={"display": "none"}),
+    ])
+
+
 def layout(**query: Any) -> html.Div:
     # Hook for the Sweep page: /study?sweep=NAME&point=ID opens that sweep configuration's settings
     # (own persistence key, so values kept from earlier visits do not override them).
+    # /study?saved=NAME opens a saved study: its settings and its data.
     found = opened_from_query(state().workspace.root, query) if query.get("sweep") else None
     opened, gaps = found if found else (None, [])
-    gap_note = (html.Div(f"This sweep configuration also sets {', '.join(gaps)}, which the Study page has no "
+    persist_key = f"sweep-{query.get('point')}"
+    what = "This sweep configuration"
+    open_sel: dict[str, Any] | None = None
+    saved_note = None
+    if query.get("saved") and not found:
+        got = _opened_saved(str(query["saved"]))
+        if got is None:
+            saved_note = html.Div(f"There is no saved study called {str(query['saved'])[:60]!r} in this browser's "
+                                  "workspace; the page shows your current settings.",
+                                  className="vs-alert vs-alert-info", role="status", id=f"{P}-saved-missing")
+        else:
+            opened, gaps, open_sel, when = got
+            persist_key = f"saved-{query['saved']}-{when}"
+            what = f"The saved study {str(query['saved'])!r}"
+            saved_note = html.Div(f"Opened the saved study {str(query['saved'])!r} (saved {when[:16].replace('T', ' ')} "
+                                  "UTC): its data and its settings.", className="vs-alert vs-alert-info",
+                                  role="status", id=f"{P}-saved-opened")
+    gap_note = (html.Div(f"{what} also sets {', '.join(gaps)}, which the Study page has no "
                          "control for: the study here uses the usual value instead.",
                          id=f"{P}-sweep-gaps", className="vs-alert vs-alert-info", role="status") if gaps else None)
     return html.Div(className="vs-page vs-two-col", children=[
-        html.Aside(_controls(opened, dict(persistence=f"sweep-{query.get('point')}", persistence_type="local"))
-                   if opened else _controls(), className="vs-sidebar"),
+        html.Aside([_controls(opened, dict(persistence=persist_key, persistence_type="local"))
+                    if opened else _controls(), _saved_box(), dcc.Store(id=f"{P}-open-selection", data=open_sel)],
+                   className="vs-sidebar"),
         html.Section(className="vs-content", children=[
             html.H1("Study"),
+            saved_note,
             gap_note,
             *job_components(P),
             html.Div(id=f"{P}-summary", className="vs-summary"),
@@ -263,3 +324,56 @@ def _notes(res: Any) -> Any:
         for _, r in dn.groupby(["stage", "reason"], as_index=False)["date"].nunique().iterrows():
             items.append(html.Li(f"{stage_words(r['stage'])}: {r['reason']} on {int(r['date'])} date(s)."))
     return [html.H3("Notes on this study"), html.Ul(items)] if items else None
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True),
+    Input(f"{P}-open-selection", "data"), State("vs-selection", "data"),
+    prevent_initial_call="initial_duplicate",
+)
+def _open_selection(sel: Any, current: Any) -> Any:
+    """A saved study opened: put its data in use (what of it this session can still read)."""
+    if not isinstance(sel, dict):
+        return no_update
+    st = state()
+    want = normalise_selection(sel)
+    want = {"ids": st.usable_ids(want), "splits": want["splits"]}
+    if not want["ids"] or normalise_selection(current) == want:
+        return no_update
+    key = selection_key(current_owner())
+    st.workspace.set_setting(key, want)
+    return {**want, "instance": st.instance}
+
+
+@dash.callback(
+    Output(f"{P}-saved-pick", "options"), Output(f"{P}-save-note", "children"),
+    Input(f"{P}-save", "n_clicks"),
+    State(f"{P}-save-name", "value"), State("vs-selection", "data"), State("vs-settings", "data"),
+)
+def _save(n: Any, name: Any, sel: Any, settings: Any) -> Any:
+    st = state()
+    owner = current_owner()
+    note: Any = None
+    if n:
+        try:
+            if not st.usable_ids(normalise_selection(sel)):
+                raise ValueSiftError("No data is in use: open the demo or upload files on the Data page first.")
+            save_study(st.workspace, str(name or ""), normalise_selection(st.visible(normalise_selection(sel))),
+                       config_from_settings(settings), owner)
+            note = (f"Saved as {str(name).strip()!r}: the data in use and these settings. Open it here again, or "
+                    "add it to a comparison on the Compare page.")
+        except ValueSiftError as err:
+            note = str(err)
+    opts = [{"label": f"{k} (saved {str(rec.get('saved', ''))[:10]})", "value": k}
+            for k, rec in saved_studies(st.workspace, owner).items()]
+    return opts, note
+
+
+@dash.callback(
+    Output(f"{P}-open-saved", "href"), Output(f"{P}-open-saved", "style"),
+    Input(f"{P}-saved-pick", "value"),
+)
+def _open_link(name: Any) -> Any:
+    if not name:
+        return "", {"display": "none"}
+    return f"/study?saved={quote(str(name))}", {}

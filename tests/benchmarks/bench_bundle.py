@@ -4,7 +4,7 @@
 
 Prints the build time (median of the repeats, with the time to the first chart image and the PDF
 layout time taken from the build's own progress reports), the ZIP size and the load average, since
-a shared machine's load changes the numbers a lot.  Targets: ZIP under 20 MB, build under 15 s.
+a shared machine's load changes the numbers a lot.  Targets: ZIP under 20 MB, build at most 6 s on two cores.
 """
 
 from __future__ import annotations
@@ -46,7 +46,8 @@ def main() -> int:
 
             paths = write_bundle(result, panel, None, Path(tmp) / f"b{i}", study_name="bench", progress=progress)
             total = time.perf_counter() - t0
-            rows.append((total, marks.get("rendering chart 1 of 10", float("nan")),
+            first = next((at for st, at in marks.items() if st.startswith("rendering chart 1 of")), float("nan"))
+            rows.append((total, first,
                          marks.get("writing the manifest", total) - marks.get("laying out the report", 0.0),
                          paths.zip.stat().st_size / 1e6))
     print(f"browser: {find_browser()}; load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
@@ -54,7 +55,9 @@ def main() -> int:
         print(f"  last build: {at:6.2f} s  {stage}")
     for total, first, pdf, size in rows:
         print(f"build {total:6.1f} s   browser ready after {first:5.1f} s   PDF layout {pdf:5.1f} s   ZIP {size:5.1f} MB")
-    print(f"median build {statistics.median(r[0] for r in rows):.1f} s")
+    med = statistics.median(r[0] for r in rows)
+    print(f"median build {med:.1f} s; target <= 6 s on the 2-core machine (issue 13): "
+          f"{'met' if med <= 6.0 else 'missed'} at load average {os.getloadavg()[0]:.1f}")
     return 0
 
 

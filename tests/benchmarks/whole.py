@@ -35,7 +35,7 @@ ROOT = HERE.parents[1]
 __all__ = ["measure_whole", "HEAVY_MODULES"]
 
 #: modules a study without a bundle must not import (start-up cost, see README "Performance")
-HEAVY_MODULES = ("scipy.stats", "statsmodels", "plotly", "dash", "reportlab", "matplotlib", "kaleido", "openpyxl")
+HEAVY_MODULES = ("scipy.stats", "statsmodels", "plotly", "dash", "reportlab", "matplotlib", "kaleido", "choreographer", "openpyxl")
 
 
 def _child(cmd: list[str]) -> dict[str, float]:

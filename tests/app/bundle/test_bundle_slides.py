@@ -108,9 +108,10 @@ def test_deck_bytes_depend_only_on_content_and_time(built: Any, demo_result: Any
 
 def test_png_images_carry_the_source_line_along_their_bottom(built: Any) -> None:
     import numpy as np
+    import plotly.graph_objects as go
     from PIL import Image
 
-    from valuesift.app.bundle.charts import stamp_source
+    from valuesift.app.render import render_images
 
     paths, _ = built
     for key in CHART_KEYS:
@@ -118,10 +119,13 @@ def test_png_images_carry_the_source_line_along_their_bottom(built: Any) -> None
         strip = im[-int(im.shape[0] * 0.034):]
         assert im.shape == (1440, 2560)
         assert (strip < 200).mean() > 0.01, key          # text is written in the bottom strip
-    # The stamp writes the line and nothing else: an empty line leaves a white strip.
-    blank = Image.new("RGB", (400, 225), "white")
-    buf = io.BytesIO()
-    blank.save(buf, format="PNG")
-    plain = np.asarray(Image.open(io.BytesIO(stamp_source(buf.getvalue(), ""))).convert("L"))
-    written = np.asarray(Image.open(io.BytesIO(stamp_source(buf.getvalue(), "Source: x"))).convert("L"))
-    assert plain.min() == 255 and written[-24:].min() < 200 and written[:-24].min() == 255
+    # The stamp writes the line and nothing else: on an empty white figure an empty line leaves the image
+    # white, and a line darkens only the bottom strip (12 px at this size: max(12, 3.4 % of 225)).
+    blank = go.Figure(layout=dict(width=400, height=225, paper_bgcolor="white", plot_bgcolor="white",
+                                  xaxis=dict(visible=False), yaxis=dict(visible=False)))
+    got = render_images({"plain": blank}, width=400, height=225, svg=False, stamp="")
+    plain = np.asarray(Image.open(io.BytesIO(got.png["plain"])).convert("L"))
+    got = render_images({"written": blank}, width=400, height=225, svg=False, stamp="Source: x")
+    written = np.asarray(Image.open(io.BytesIO(got.png["written"])).convert("L"))
+    assert plain.shape == (225, 400) and plain.min() >= 250
+    assert written[-12:].min() < 200 and written[:-12].min() >= 250
