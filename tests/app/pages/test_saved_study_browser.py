@@ -1,0 +1,100 @@
+"""Saved studies in real headless Chromium: saved on the Study page, reopened there with their settings and data
+(what is drawn changes back), and the Compare and Stability pages showing their job's progress while it runs."""
+
+from __future__ import annotations
+
+import json
+from typing import Any, Iterator
+
+import pytest
+
+from tests.browser_support import ARTIFACTS, browser_page, need_browser, running_server
+
+pytestmark = pytest.mark.browser
+
+WAIT = 120_000   # ms; a generous upper bound for a slow, shared machine, not a speed check
+
+# Records every text the page's progress line shows, so a test can tell the job reported progress even
+# when it finished between two looks.
+_WATCH = """(id) => { window.vsSeen = window.vsSeen || {}; window.vsSeen[id] = [];
+  const watch = () => { const el = document.getElementById(id); if (!el) { return setTimeout(watch, 20); }
+    new MutationObserver(() => window.vsSeen[id].push(el.textContent)).observe(el, {childList: true,
+      characterData: true, subtree: true}); };
+  watch(); }"""
+
+
+@pytest.fixture(scope="module")
+def server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[str]:
+    need_browser()
+    with running_server(tmp_path_factory.mktemp("saved-ws"), ready_path="/study", extra=["--demo"]) as base:
+        yield base
+
+
+@pytest.fixture()
+def page(server: str) -> Iterator[Any]:
+    with browser_page(1400, 1000, WAIT) as pg:
+        errors: list[str] = []
+        pg.on("pageerror", lambda e: errors.append(str(e)))
+        yield pg
+        assert not errors, errors
+
+
+def _pick(pg: Any, control: str, option: str) -> None:
+    pg.locator(f"#{control}").click()
+    pg.locator(".dash-dropdown-content").get_by_role("option", name=option, exact=True).click()
+
+
+def _settings(pg: Any) -> dict[str, Any]:
+    return json.loads(pg.evaluate("localStorage.getItem('vs-settings')") or "{}")
+
+
+def test_save_change_and_reopen_a_study(page: Any, server: str) -> None:
+    from playwright.sync_api import expect
+
+    bars = page.locator("#study-quantiles .trace.bars .point")
+    page.goto(server + "/study")
+    expect(bars).to_have_count(5)
+    _pick(page, "study-n-quantiles", "7")
+    expect(bars).to_have_count(7)
+    page.locator("#study-save-name").fill("seven bands")
+    page.locator("#study-save").click()
+    expect(page.locator("#study-save-note")).to_contain_text("Saved as 'seven bands'")
+    # back to five: the chart follows
+    _pick(page, "study-n-quantiles", "5")
+    expect(bars).to_have_count(5)
+    assert _settings(page)["n_quantiles"] == 5
+    # open the saved study: its seven bands are drawn again and the control shows 7
+    page.locator("#study-saved-pick").click()
+    page.locator(".dash-dropdown-content").get_by_role("option").filter(has_text="seven bands").first.click()
+    page.locator("#study-open-saved").click()
+    expect(page.locator("#study-saved-opened")).to_contain_text("Opened the saved study 'seven bands'")
+    expect(bars).to_have_count(7)
+    expect(page.locator("#study-n-quantiles")).to_contain_text("7")
+    assert _settings(page)["n_quantiles"] == 7
+    # a name that is not saved says so and keeps the page usable
+    page.goto(server + "/study?saved=nothing%20here")
+    expect(page.locator("#study-saved-missing")).to_contain_text("There is no saved study called 'nothing here'")
+    ARTIFACTS.mkdir(exist_ok=True)
+    page.screenshot(path=str(ARTIFACTS / "study-saved-1400.png"), full_page=True)
+
+
+def test_compare_and_stability_show_their_progress(page: Any, server: str) -> None:
+    from playwright.sync_api import expect
+
+    page.goto(server + "/compare")
+    page.evaluate(_WATCH, "compare-progress-text")
+    page.locator("#compare-run").click()
+    expect(page.locator("#compare-heatmap .yaxislayer-above g.ytick")).to_have_count(3)
+    seen = page.evaluate("window.vsSeen['compare-progress-text']")
+    assert any("comparing: study" in s for s in seen), seen       # one step per study, named in words
+    expect(page.locator("#compare-progress-box")).to_be_hidden()
+    # the stability page's study with settings not run before: its progress line moves, then the charts
+    settings = _settings(page) or {}
+    page.evaluate("(s) => localStorage.setItem('vs-settings', s)", json.dumps({**settings, "n_quantiles": 9}))
+    page.goto(server + "/stability")
+    page.evaluate(_WATCH, "stab-progress-text")
+    expect(page.locator("#stab-relative")).to_contain_text("Information ratio")
+    expect(page.locator("#stab-progress-box")).to_be_hidden()
+    expect(page.locator("#stab-decay .bars path").first).to_be_attached()
+    seen = page.evaluate("window.vsSeen['stab-progress-text']")
+    assert any("computing" in s for s in seen), seen
