@@ -27,6 +27,8 @@ from valuesift.app.words import settings_frame
 from valuesift.app.bundle import charts as bc
 from valuesift.app.bundle import tables as bt
 from valuesift.app.bundle.content import report_input
+from valuesift.app.bundle.compare_bundle import compare_tables
+from valuesift.app.bundle.stability_text import compare_sentences
 from valuesift.app.bundle.text import sweep_reading
 from valuesift.app.bundle.pdf import build_pdf
 from valuesift.app.bundle.slides import build_slides
@@ -168,7 +170,8 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
                  study_name: str, title: str | None = None, note: str | None = None,
                  include: Iterable[str] | None = None, progress: Progress | None = None,
                  horizon: int | None = None, created: datetime | None = None,
-                 zip_path: str | Path | None = None, sweep: Any | None = None) -> BundlePaths:
+                 zip_path: str | Path | None = None, sweep: Any | None = None,
+                 comparison: Any | None = None) -> BundlePaths:
     """Write the committee bundle of a study to ``out_dir`` and a ZIP of it.
 
     Parameters
@@ -198,6 +201,10 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     sweep : core.sweep.SweepResult, optional
         A finished sweep to include: its heat map (chart, page in the report) and its comparison
         table with the multiple-testing columns.
+    comparison : core.compare.CompareResult, optional
+        A comparison of signals to include: its bar chart and correlation heat map (charts, pages in the
+        report and slides with their reading) and its three tables (``comparison``, ``signal_correlation``,
+        ``joint_fm``, the same as ``valuesift compare`` writes).
 
     Returns
     -------
@@ -236,6 +243,11 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     figs = {c.key: bc.figure_for(c, result, h, panel) for c in specs}
     if sweep is not None:
         figs[bc.SWEEP_KEY] = bc.sweep_figure(sweep)
+    extra_specs = [bc.SWEEP_SPEC] if sweep is not None else []
+    if comparison is not None:
+        ch = h if h in comparison.config.horizons else int(comparison.config.horizons[0])
+        figs.update(bc.compare_figures(comparison, ch))
+        extra_specs += list(bc.COMPARE_SPECS)
     tick("starting the browser and writing tables", 0.05)
     source = source_line(result, files_in)
     job = bc.start_render(figs, progress=lambda s, f: tick(s, 0.1 + 0.7 * f), stamp=source)
@@ -245,17 +257,21 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     for c in specs:
         bc.write_html(figs[c.key], folder / "charts" / f"{c.key}.html", title=c.title)
         written.append(f"charts/{c.key}.html")
-    if sweep is not None:
-        if not specs:
-            shutil.copyfile(bc.plotly_js_path(), folder / "charts" / "plotly.min.js")
-            written.append("charts/plotly.min.js")
-        bc.write_html(figs[bc.SWEEP_KEY], folder / "charts" / f"{bc.SWEEP_KEY}.html", title=bc.SWEEP_TITLE)
-        written.append(f"charts/{bc.SWEEP_KEY}.html")
+    if extra_specs and not specs:
+        shutil.copyfile(bc.plotly_js_path(), folder / "charts" / "plotly.min.js")
+        written.append("charts/plotly.min.js")
+    for c in extra_specs:
+        bc.write_html(figs[c.key], folder / "charts" / f"{c.key}.html", title=c.title)
+        written.append(f"charts/{c.key}.html")
 
     all_tables = bt.result_tables(result, panel)
     chosen = {k: all_tables[k] for k in tables}
     if sweep is not None:
         chosen[bt.SWEEP_TABLE] = sweep.table.reset_index(drop=True)
+    if comparison is not None:
+        ct = compare_tables(comparison)
+        chosen.update({"comparison": ct["compare"], "signal_correlation": ct["signal_correlation"],
+                       "joint_fm": ct["joint_fm"]})
     for k, df in chosen.items():
         bt.write_csv(df, folder / "tables" / f"{k}.csv", raw=(k == "ic_by_date"))
         written.append(f"tables/{k}.csv")
@@ -272,7 +288,7 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     written.append("summary.json")
 
     outcome = job.wait()
-    for c in [*specs, *([bc.SWEEP_SPEC] if sweep is not None else [])]:
+    for c in [*specs, *extra_specs]:
         if c.key in outcome.png:
             (folder / "charts" / f"{c.key}.png").write_bytes(outcome.png[c.key])
             (folder / "charts" / f"{c.key}.svg").write_bytes(outcome.svg[c.key])
@@ -282,10 +298,14 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
                         chart_keys=[c.key for c in specs], images=outcome.jpeg or outcome.png,
                         images_note=outcome.note,
                         created=when)
+    images = outcome.jpeg or outcome.png
     if sweep is not None:
-        images = outcome.jpeg or outcome.png
         data = replace(data, charts=[*data.charts, (bc.SWEEP_KEY, bc.SWEEP_TITLE, images.get(bc.SWEEP_KEY),
                                                     sweep_reading(sweep))])
+    if comparison is not None:
+        reading = list(compare_sentences(comparison, ch))
+        data = replace(data, charts=[*data.charts, *[(c.key, c.title, images.get(c.key), reading)
+                                                     for c in bc.COMPARE_SPECS]])
     pages = build_pdf(data, folder / "report.pdf", created=when)
     written.append("report.pdf")
     tick("writing the slides", 0.9)
@@ -305,7 +325,7 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
         "note": note,
         "as_of": asof,
         "bundle": {"name": name, "chart_horizon": h,
-                   "charts": [c.key for c in specs] + ([bc.SWEEP_KEY] if sweep is not None else []),
+                   "charts": [c.key for c in specs] + [c.key for c in extra_specs],
                    "tables": list(chosen),
                    "images_rendered": bool(outcome.png), "images_note": outcome.note},
         "configuration": result.config.to_dict(),
@@ -358,7 +378,7 @@ _FILE_TEXT = {
 
 
 def _readme(files: Sequence[str], tables: dict[str, pd.DataFrame], note: str | None, name: str) -> str:
-    titles = {c.key: c.title for c in (*bc.CHARTS, bc.SWEEP_SPEC)}
+    titles = {c.key: c.title for c in (*bc.CHARTS, bc.SWEEP_SPEC, *bc.COMPARE_SPECS)}
     lines = [f"ValueSift committee bundle {name}", "", "What each file is:", ""]
     for rel in sorted(set(files) | {"manifest.json", "README.txt"}):
         stem = Path(rel).stem

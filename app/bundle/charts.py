@@ -23,6 +23,7 @@ from valuesift.app.render import NO_BROWSER_HINT, RenderOutcome, plotly_js_path,
 
 from valuesift.app.figures import backtest as fb
 from valuesift.app.figures.common import wrap
+from valuesift.app.figures.compare import compare_ic_figure, correlation_heatmap_figure
 from valuesift.app.figures.sweep import sweep_heatmap_figure
 from valuesift.app.figures import data as fd
 from valuesift.app.figures import study as fs
@@ -72,6 +73,27 @@ CHART_KEYS: tuple[str, ...] = tuple(c.key for c in CHARTS)
 SWEEP_KEY = "sweep_heatmap"
 SWEEP_TITLE = "Sweep: best adjusted t-statistic by signal and horizon"
 SWEEP_SPEC = ChartSpec(SWEEP_KEY, SWEEP_TITLE, lambda r, h, p: go.Figure(), False)
+
+
+#: The optional comparison of signals (only when a comparison is given to the bundle).
+COMPARE_SPECS: tuple[ChartSpec, ...] = (
+    ChartSpec("compare_ic", "Comparison: mean rank IC of each signal", lambda r, h, p: go.Figure(), True),
+    ChartSpec("compare_correlation", "Comparison: how alike the signals rank the names", lambda r, h, p: go.Figure(),
+              False),
+)
+
+
+def compare_figures(cmp: Any, horizon: int) -> dict[str, go.Figure]:
+    """The Compare page's bar chart (at ``horizon``) and correlation heat map with the slide layout."""
+    from_page = {"compare_ic": compare_ic_figure(cmp, horizon), "compare_correlation": correlation_heatmap_figure(cmp)}
+    out = {}
+    for key, fig in from_page.items():
+        fig.update_layout(width=SLIDE["width"], height=SLIDE["height"], autosize=False)
+        _rewrap_for_slide(fig)
+        for i, trace in enumerate(fig.data):
+            trace.uid = f"{key}-{i}"
+        out[key] = fig
+    return out
 
 
 def sweep_figure(sweep: Any) -> go.Figure:

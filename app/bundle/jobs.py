@@ -76,7 +76,8 @@ def _runner() -> JobRunner:
 
 def start_export(result: Any, panel: Any, folder: Path, study_key: str, *, study_name: str, title: str | None,
                  note: str | None, include: Iterable[str] | None, horizon: int | None,
-                 sweep: Any | None = None, runner: JobRunner | None = None) -> ExportJob:
+                 sweep: Any | None = None, comparison: Any | None = None,
+                 runner: JobRunner | None = None) -> ExportJob:
     """Queue the build of the bundle of ``result`` on the job runner; returns the job at once.
 
     The bundle is written into ``<folder>/<session>/<job id>/``; the session's
@@ -93,7 +94,7 @@ def start_export(result: Any, panel: Any, folder: Path, study_key: str, *, study
         name = bundle_name(study_name, result)
         paths = write_bundle(result, panel, None, out / "bundle", study_name=study_name, title=title, note=note,
                              include=inc, progress=job.progress, horizon=horizon,
-                             zip_path=out / "zip" / f"{name}.zip", sweep=sweep)
+                             zip_path=out / "zip" / f"{name}.zip", sweep=sweep, comparison=comparison)
         thumbs = page_thumbnails(paths.folder / "report.pdf", paths.folder / "charts")
         _prune(base, keep=job.id)
         return {"study_key": study_key, "paths": paths, "thumbnails": thumbs}

@@ -56,9 +56,17 @@ TABLE_KEYS: tuple[str, ...] = tuple(TABLES)
 
 #: The optional sweep comparison table (only when a finished sweep is given to the bundle).
 SWEEP_TABLE = "sweep_comparison"
+#: The optional comparison of signals (only when a comparison is given to the bundle).
+COMPARE_TABLES = ("comparison", "signal_correlation", "joint_fm")
 TABLES_OPTIONAL: dict[str, str] = {
     SWEEP_TABLE: "every configuration and horizon of the sweep with raw and multiple-testing adjusted "
                  "(Benjamini-Hochberg, Bonferroni) p-values and t-statistics",
+    "comparison": "the compared signals side by side per horizon: mean rank IC and its t, spread and its t, "
+                  "Sharpe ratio, worst drawdown, turnover, names and dates (each signal's own study)",
+    "signal_correlation": "rank correlation between the compared signals (time-mean of the per-date "
+                          "cross-sectional Spearman correlation), signals as header and first column",
+    "joint_fm": "Fama-MacBeth regression with all compared signals together: each one's mean slope and t per "
+                "horizon (what it carries that the others do not)",
 }
 
 

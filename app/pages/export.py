@@ -10,8 +10,10 @@ from dash.exceptions import PreventUpdate
 
 from valuesift.app.bundle import CHARTS, NO_BROWSER_HINT, TABLES, find_browser
 from valuesift.app.bundle.jobs import get_export, start_export
+from valuesift.app.compare_service import last_comparison
 from valuesift.app.components.common import field
 from valuesift.app.figures.common import span
+from valuesift.app.figures.compare import signal_words
 from valuesift.app.figures.study import signal_label
 from valuesift.app.jobs_ui import alert, job_components, register_job_callbacks
 from valuesift.app.settings import shown_horizon
@@ -38,6 +40,19 @@ def _sweep_options() -> list[dict[str, str]]:
     except Exception:  # outside a request (unit tests of the layout)
         names = []
     return [{"label": "no sweep", "value": ""}] + [{"label": f"sweep {n}", "value": n} for n in names]
+
+
+def _compare_options() -> list[dict[str, Any]]:
+    """The session's latest comparison (Compare page), or a disabled line saying there is none yet."""
+    try:
+        cmp = last_comparison()
+    except Exception:  # outside a request (unit tests of the layout)
+        cmp = None
+    if cmp is None:
+        return [{"label": "no comparison in this browser yet (run one on the Compare page)", "value": "latest",
+                 "disabled": True}]
+    names = ", ".join(signal_words(str(s)) for s in cmp.signals)
+    return [{"label": f"the latest comparison: {names}", "value": "latest"}]
 
 
 def layout(**_: Any) -> html.Div:
@@ -67,6 +82,8 @@ def layout(**_: Any) -> html.Div:
             field("A finished sweep to include (heat map, comparison table with adjusted columns)",
                   dcc.Dropdown(id=f"{P}-sweep", options=sweeps, value="", clearable=False,
                                disabled=len(sweeps) == 1)),
+            field("A comparison of signals to include (its chart, heat map and tables)",
+                  dcc.Checklist(id=f"{P}-compare", value=[], options=_compare_options())),
             html.Button("Build the bundle", id=f"{P}-build", n_clicks=0, className="vs-button"),
         ]),
         dcc.Store(id=f"{P}-build-job"),
@@ -117,10 +134,11 @@ def _study(job: Any, current: Any) -> Any:
     State(f"{P}-job", "data"), State("vs-selection", "data"), State(f"{P}-name", "value"),
     State(f"{P}-title", "value"), State(f"{P}-note", "value"), State(f"{P}-horizon", "value"),
     State(f"{P}-charts", "value"), State(f"{P}-tables", "value"), State(f"{P}-sweep", "value"),
+    State(f"{P}-compare", "value"),
     prevent_initial_call=True,
 )
 def _build(n: Any, job: Any, sel: Any, name: Any, title: Any, note: Any, horizon: Any, charts: Any,
-           tables: Any, sweep_name: Any = None) -> Any:
+           tables: Any, sweep_name: Any = None, compare: Any = None) -> Any:
     if not n:
         raise PreventUpdate
     res = _result(job)
@@ -139,12 +157,19 @@ def _build(n: Any, job: Any, sel: Any, name: Any, title: Any, note: Any, horizon
             sweep = load_named_sweep(st.workspace.root, sweep_name)
         except ValueSiftError as err:
             return no_update, True, True, alert(str(err)), False, None
+    comparison = None
+    if compare:
+        comparison = last_comparison()
+        if comparison is None:
+            return no_update, True, True, alert("The comparison is no longer in memory (the server restarted?); "
+                                                "run it again on the Compare page, or untick it."), False, None
     include = [f"chart:{c}" for c in (charts or [])] + [f"table:{t}" for t in (tables or [])]
     try:
         ej = start_export(res, panel, st.workspace.root / "exports", str(job["key"]),
                           study_name=str(name or "study").strip() or "study", title=(title or "").strip() or None,
                           note=(note or "").strip() or None, include=include,
-                          horizon=int(horizon) if horizon in res.config.horizons else None, sweep=sweep)
+                          horizon=int(horizon) if horizon in res.config.horizons else None, sweep=sweep,
+                          comparison=comparison)
     except ValueSiftError as err:     # the job queue is full: say so, keep the form usable
         return no_update, True, True, alert(str(err)), False, None
     return {"id": ej.id}, False, False, None, True, None

@@ -98,3 +98,40 @@ def test_compare_and_stability_show_their_progress(page: Any, server: str) -> No
     expect(page.locator("#stab-decay .bars path").first).to_be_attached()
     seen = page.evaluate("window.vsSeen['stab-progress-text']")
     assert any("computing" in s for s in seen), seen
+
+
+def test_export_includes_the_latest_comparison_when_ticked(server: str, tmp_path: Any) -> None:
+    import zipfile
+
+    from playwright.sync_api import expect, sync_playwright
+
+    from tests.browser_support import CHROMIUM, CHROMIUM_ARGS
+
+    expect.set_options(timeout=WAIT)
+    with sync_playwright() as p:
+        browser = p.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
+        context = browser.new_context(viewport={"width": 1400, "height": 1000}, accept_downloads=True)
+        page = context.new_page()
+        page.set_default_timeout(WAIT)
+        try:
+            page.goto(server + "/export")          # no comparison yet in this browser: the choice is disabled
+            expect(page.locator("#export-compare")).to_contain_text("no comparison in this browser yet")
+            expect(page.locator("#export-compare input")).to_be_disabled()
+            page.goto(server + "/compare")
+            page.locator("#compare-run").click()
+            expect(page.locator("#compare-heatmap .yaxislayer-above g.ytick")).to_have_count(3)
+            page.goto(server + "/export")
+            expect(page.locator("#export-compare")).to_contain_text("the latest comparison: earnings yield")
+            expect(page.locator("#export-study-line")).to_contain_text("Exporting")
+            page.locator("#export-compare input").check()
+            with page.expect_download(timeout=WAIT) as dl:
+                page.get_by_role("button", name="Build the bundle").click()
+            path = tmp_path / dl.value.suggested_filename
+            dl.value.save_as(path)
+        finally:
+            context.close()
+            browser.close()
+    with zipfile.ZipFile(path) as z:
+        names = {n.split("/", 1)[1] for n in z.namelist()}
+    assert {"tables/comparison.csv", "tables/signal_correlation.csv", "tables/joint_fm.csv",
+            "charts/compare_correlation.html"} <= names
