@@ -16,6 +16,7 @@ from __future__ import annotations
 import asyncio
 import base64
 import json
+import queue
 import re
 import tempfile
 import threading
@@ -29,7 +30,7 @@ import plotly.utils
 
 from valuesift.app.browser import find_browser
 
-__all__ = ["NO_BROWSER_HINT", "RenderOutcome", "render_images", "plotly_js_path", "stable_svg", "RENDER_TIMEOUT_S"]
+__all__ = ["NO_BROWSER_HINT", "RenderOutcome", "FigureFeed", "render_images", "plotly_js_path", "stable_svg", "RENDER_TIMEOUT_S"]
 
 NO_BROWSER_HINT = (
     "The chart images could not be rendered because no Chrome or Chromium browser was found. "
@@ -133,16 +134,42 @@ async def _evaluate(tab: Any, expression: str) -> Any:
     return result.get("result", {}).get("value")
 
 
-def render_images(figs: dict[str, go.Figure], *, width: int, height: int, scale: float = 1.0,
+class FigureFeed:
+    """Figures handed to a running :func:`render_images` one by one (the browser starts before the first
+    figure is drawn): :meth:`put` each, then :meth:`close`."""
+
+    def __init__(self, total: int) -> None:
+        self.total = int(total)
+        self._queue: queue.Queue[tuple[str, go.Figure] | None] = queue.Queue()
+
+    def put(self, key: str, fig: go.Figure) -> None:
+        self._queue.put((key, fig))
+
+    def close(self) -> None:
+        self._queue.put(None)
+
+    def get(self) -> tuple[str, go.Figure] | None:
+        return self._queue.get()
+
+
+def render_images(figs: dict[str, go.Figure] | FigureFeed, *, width: int, height: int, scale: float = 1.0,
                   svg: bool = True, jpeg: bool = False, stamp: str | None = None,
                   progress: Callable[[str, float], None] | None = None) -> RenderOutcome:
     """Draw every figure at ``width`` x ``height`` layout pixels (PNG at ``scale``; SVG; a JPEG print copy at
     ``min(scale, PRINT_SCALE)``).
 
-    With ``stamp`` the PNGs carry that line along their bottom edge (the SVG and the JPEG stay as drawn).
-    Returns empty dicts and a note (never raises) when no browser is found or the browser fails.
+    ``figs`` is a dict, or a :class:`FigureFeed` filled while the browser starts.  With ``stamp`` the PNGs
+    carry that line along their bottom edge (the SVG and the JPEG stay as drawn).  Returns empty dicts and
+    a note (never raises) when no browser is found or the browser fails.
     """
-    if not figs:
+    if isinstance(figs, dict):
+        feed = FigureFeed(len(figs))
+        for k, f in figs.items():
+            feed.put(k, f)
+        feed.close()
+    else:
+        feed = figs
+    if feed.total == 0:
         return RenderOutcome({}, {}, None)
     browser = find_browser()
     if browser is None:
@@ -155,7 +182,6 @@ def render_images(figs: dict[str, go.Figure], *, width: int, height: int, scale:
     png: dict[str, bytes] = {}
     svgs: dict[str, bytes] = {}
     jpegs: dict[str, bytes] = {}
-    keys = list(figs)
     opts = {"width": int(width), "height": int(height), "scale": float(scale), "svg": bool(svg),
             "jpeg": bool(jpeg), "stamp": stamp, "print_scale": min(float(scale), PRINT_SCALE)}
 
@@ -169,11 +195,18 @@ def render_images(figs: dict[str, go.Figure], *, width: int, height: int, scale:
                 if loop.time() - start > RENDER_TIMEOUT_S:
                     raise TimeoutError("plotly.js did not load in the browser page")
                 await asyncio.sleep(0.02)
-            for i, key in enumerate(keys):
+            n = max(feed.total, 1)
+            i = 0
+            while True:
+                item = await asyncio.to_thread(feed.get)
+                if item is None:
+                    break
+                key, fig = item
                 if progress is not None:
-                    progress(f"rendering chart {i + 1} of {len(keys)}", i / len(keys))
+                    progress(f"rendering chart {i + 1} of {n}", i / n)
+                i += 1
                 # to_plotly_json keeps the fixed trace ids (to_json drops them): the same figure, the same SVG
-                spec = json.dumps(figs[key].to_plotly_json(), cls=plotly.utils.PlotlyJSONEncoder)
+                spec = json.dumps(fig.to_plotly_json(), cls=plotly.utils.PlotlyJSONEncoder)
                 out = await _evaluate(tab, f"window.vsDraw({spec}, {json.dumps(opts)})")
                 png[key] = _bytes(out["png"])
                 if svg:
@@ -181,7 +214,7 @@ def render_images(figs: dict[str, go.Figure], *, width: int, height: int, scale:
                 if jpeg:
                     jpegs[key] = _bytes(out["jpeg"])
             if progress is not None:
-                progress(f"rendered {len(keys)} charts", 1.0)
+                progress(f"rendered {i} charts", 1.0)
 
     with _RENDER_LOCK, tempfile.TemporaryDirectory(prefix="valuesift-render-") as tmp:
         page = Path(tmp) / "render.html"

@@ -238,19 +238,31 @@ def write_bundle(result: StudyResult, panel: Any, inputs: Sequence[dict[str, Any
     name = bundle_name(study_name, result)
     files_in = merge_inputs(inputs, panel)
 
-    tick("drawing the charts", 0.02)
+    tick("starting the browser and drawing the charts", 0.02)
     specs = [c for c in bc.CHARTS if c.key in charts]
-    figs = {c.key: bc.figure_for(c, result, h, panel) for c in specs}
-    if sweep is not None:
-        figs[bc.SWEEP_KEY] = bc.sweep_figure(sweep)
     extra_specs = [bc.SWEEP_SPEC] if sweep is not None else []
     if comparison is not None:
         ch = h if h in comparison.config.horizons else int(comparison.config.horizons[0])
-        figs.update(bc.compare_figures(comparison, ch))
         extra_specs += list(bc.COMPARE_SPECS)
-    tick("starting the browser and writing tables", 0.05)
     source = source_line(result, files_in)
-    job = bc.start_render(figs, progress=lambda s, f: tick(s, 0.1 + 0.7 * f), stamp=source)
+    # The browser starts first; each figure goes to it as soon as it is drawn.
+    job = bc.start_render(None, progress=lambda s, f: tick(s, 0.1 + 0.7 * f), stamp=source,
+                          total=len(specs) + len(extra_specs))
+    figs: dict[str, Any] = {}
+    try:
+        for c in specs:
+            figs[c.key] = bc.figure_for(c, result, h, panel)
+            job.add(c.key, figs[c.key])
+        if sweep is not None:
+            figs[bc.SWEEP_KEY] = bc.sweep_figure(sweep)
+            job.add(bc.SWEEP_KEY, figs[bc.SWEEP_KEY])
+        if comparison is not None:
+            for key, fig in bc.compare_figures(comparison, ch).items():
+                figs[key] = fig
+                job.add(key, fig)
+    finally:
+        job.close()
+    tick("writing the tables", 0.05)
     if specs:
         shutil.copyfile(bc.plotly_js_path(), folder / "charts" / "plotly.min.js")
         written.append("charts/plotly.min.js")
@@ -350,6 +362,9 @@ def _tool_version() -> str:
     return str(valuesift_core.__version__)
 
 
+_PACKED = (".png", ".jpg", ".jpeg", ".pptx", ".xlsx", ".zip")
+
+
 def _zip(folder: Path, files: Sequence[str], path: Path, root: str) -> None:
     """A ZIP with one top folder ``root``, fixed entry times and sorted entries (reproducible)."""
     path.parent.mkdir(parents=True, exist_ok=True)
@@ -357,7 +372,9 @@ def _zip(folder: Path, files: Sequence[str], path: Path, root: str) -> None:
     with zipfile.ZipFile(tmp, "w", compression=zipfile.ZIP_DEFLATED, compresslevel=6) as z:
         for rel in files:
             zi = zipfile.ZipInfo(f"{root}/{rel}", date_time=bt.FIXED_ZIP_TIME)
-            zi.compress_type = zipfile.ZIP_DEFLATED
+            # images, slides and workbooks are compressed already: stored as they are (deflating them again
+            # costs time and saves almost nothing)
+            zi.compress_type = zipfile.ZIP_STORED if rel.endswith(_PACKED) else zipfile.ZIP_DEFLATED
             zi.external_attr = 0o644 << 16
             z.writestr(zi, (folder / rel).read_bytes())
     tmp.replace(path)

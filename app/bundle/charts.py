@@ -19,7 +19,7 @@ import plotly.graph_objects as go
 from PIL import Image
 
 from valuesift.app.browser import find_browser
-from valuesift.app.render import NO_BROWSER_HINT, RenderOutcome, plotly_js_path, render_images
+from valuesift.app.render import NO_BROWSER_HINT, FigureFeed, RenderOutcome, plotly_js_path, render_images
 
 from valuesift.app.figures import backtest as fb
 from valuesift.app.figures.common import wrap
@@ -157,19 +157,33 @@ def _escape(text: str) -> str:
 
 
 class RenderJob:
-    """Static rendering running in its own thread (started by :func:`start_render`); :meth:`wait` gives the outcome."""
+    """Static rendering running in its own thread (started by :func:`start_render`); :meth:`wait` gives the outcome.
 
-    def __init__(self, figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None,
-                 stamp: str | None = None) -> None:
-        self._figs = figs
+    Started with ``figs=None`` and a ``total``, the browser starts at once and the figures follow through
+    :meth:`add` (then :meth:`close`), so drawing them in Python and starting the browser overlap.
+    """
+
+    def __init__(self, figs: dict[str, go.Figure] | None, progress: Callable[[str, float], None] | None,
+                 stamp: str | None = None, total: int | None = None) -> None:
+        self._feed = FigureFeed(len(figs) if figs is not None else int(total or 0))
+        if figs is not None:
+            for k, f in figs.items():
+                self._feed.put(k, f)
+            self._feed.close()
         self._progress = progress
         self._stamp = stamp
         self._outcome: RenderOutcome | None = None
         self._thread = threading.Thread(target=self._main, name="bundle-render", daemon=True)
         self._thread.start()
 
+    def add(self, key: str, fig: go.Figure) -> None:
+        self._feed.put(key, fig)
+
+    def close(self) -> None:
+        self._feed.close()
+
     def _main(self) -> None:
-        self._outcome = render_images(self._figs, width=SLIDE["width"], height=SLIDE["height"], scale=SLIDE["scale"],
+        self._outcome = render_images(self._feed, width=SLIDE["width"], height=SLIDE["height"], scale=SLIDE["scale"],
                                       svg=True, jpeg=True, stamp=self._stamp, progress=self._progress)
 
     def wait(self) -> RenderOutcome:
@@ -178,14 +192,14 @@ class RenderJob:
         return self._outcome
 
 
-def start_render(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None = None, *,
-                 stamp: str | None = None) -> RenderJob:
+def start_render(figs: dict[str, go.Figure] | None, progress: Callable[[str, float], None] | None = None, *,
+                 stamp: str | None = None, total: int | None = None) -> RenderJob:
     """Start :func:`render_static` in the background (the browser starts while tables are written).
 
     With ``stamp``, the PNGs of the outcome carry that line along their bottom; the print copies (JPEG)
-    and the SVGs stay as drawn.
+    and the SVGs stay as drawn.  With ``figs=None`` the figures follow through :meth:`RenderJob.add`.
     """
-    return RenderJob(figs, progress, stamp)
+    return RenderJob(figs, progress, stamp, total)
 
 
 def render_static(figs: dict[str, go.Figure], progress: Callable[[str, float], None] | None = None, *,
