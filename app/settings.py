@@ -18,6 +18,7 @@ __all__ = [
     "HORIZON_CHOICES",
     "PREFERRED_HORIZON",
     "PAGE_SETTINGS",
+    "OTHER_PAGE_SETTINGS",
     "config_from_settings",
     "clean_settings",
     "study_settings",
@@ -35,6 +36,10 @@ PAGE_SETTINGS: tuple[str, ...] = (
     "excess_over", "holding_months", "transaction_cost_bps", "min_breadth",
 )
 
+#: Study settings with a control on another page (the Stability page's split month); kept in the same
+#: settings dict, so every page runs the same study.
+OTHER_PAGE_SETTINGS: tuple[str, ...] = ("split_month",)
+
 #: Horizons offered as ticks on the Study page: common holding periods inside the one horizon range.
 HORIZON_CHOICES: tuple[int, ...] = tuple(sorted({h for h in (1, 3, 6, 12, 24, 36, 60, 120, *DEFAULT_HORIZONS)
                                                  if HORIZON_RANGE[0] <= h <= HORIZON_RANGE[1]}))
@@ -50,6 +55,7 @@ def _default(name: str) -> Any:
 DEFAULT_SETTINGS: dict[str, Any] = {
     **{n: _default(n) for n in PAGE_SETTINGS if n != "winsor_percentiles"},
     "winsor_lower": float(SETTING_BY_NAME["winsor_percentiles"].default[0]),
+    **{n: _default(n) for n in OTHER_PAGE_SETTINGS},
 }
 
 
@@ -143,6 +149,7 @@ def config_from_settings(raw: Any) -> StudyConfig:
         holding_months=_int(s["holding_months"], d["holding_months"]),
         transaction_cost_bps=_float(s["transaction_cost_bps"], d["transaction_cost_bps"]),
         min_breadth=_int(s["min_breadth"], d["min_breadth"]),
+        split_month=str(s["split_month"] or "").strip(),
     )
 
 
@@ -162,7 +169,7 @@ def study_settings(config: dict[str, Any]) -> tuple[dict[str, Any], list[str]]:
     lo, hi = config.get("winsor_percentiles", SETTING_BY_NAME["winsor_percentiles"].default)
     s["winsor_lower"] = float(lo)
     default = StudyConfig().to_dict()
-    shown = set(PAGE_SETTINGS)
+    shown = set(PAGE_SETTINGS) | set(OTHER_PAGE_SETTINGS)
     not_shown = sorted(label(k) if k in SETTING_BY_NAME else k
                        for k, v in config.items() if k not in shown and default.get(k) != v)
     if float(hi) != 100.0 - float(lo):

@@ -51,8 +51,10 @@ def _multiples(title: str, subtitle: str, names: list[str], ics: list[float], sp
         fig.update_xaxes(range=[lo - (pad if lo < 0 else 0.05 * pad), hi + pad], row=1, col=col,
                          zeroline=True, zerolinecolor=MUTED)
     fig.update_xaxes(tickformat=".0%", row=1, col=2)
-    fig.update_yaxes(autorange="reversed", row=1, col=1)
-    fig.update_yaxes(autorange="reversed", showticklabels=False, row=1, col=2)
+    # category axes: names such as "2014" are labels, not numbers (a number axis would drop "before 2017-07"
+    # and label only every other year)
+    fig.update_yaxes(type="category", autorange="reversed", dtick=1, row=1, col=1)
+    fig.update_yaxes(type="category", autorange="reversed", showticklabels=False, row=1, col=2)
     fig.update_layout(showlegend=False, template=TEMPLATE_NAME, bargap=0.25)
     return fig
 

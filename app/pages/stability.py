@@ -28,7 +28,8 @@ from valuesift.app.figures.common import fmt_num, fmt_pct
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.components.graphs import graph_card, height_style
 from valuesift.app.services import finished_result
-from valuesift.app.settings import shown_horizon
+from valuesift.app.settings import config_from_settings, help_text, label, shown_horizon
+from valuesift.core.errors import ValueSiftError
 
 dash.register_page(__name__, path="/stability", name="Stability", order=6, title="ValueSift - Stability")
 
@@ -43,6 +44,12 @@ def layout(**_: Any) -> html.Div:
         html.P("The study of the Study page's settings on the data in use: against the comparison, by period, "
                "market regime and sector, its decay, with controls, and cap-weighted. In-sample, gross of costs "
                "unless a cost is set; associations, not causes."),
+        html.Div(className="vs-row", children=[
+            field(label("split_month"), dcc.Input(id=f"{P}-split", type="text", value=None, debounce=True,
+                                                  maxLength=7, placeholder="YYYY-MM, empty: the middle"),
+                  help_text("split_month")),
+        ]),
+        html.Div(id=f"{P}-split-note", className="vs-hint", role="status"),
         *job_components(P),
         html.Div(id=f"{P}-results", hidden=True, children=[
             field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[], value=None,
@@ -61,6 +68,31 @@ def layout(**_: Any) -> html.Div:
 
 
 register_job_callbacks(P)    # the study of the Study page's settings: started, polled and cancelled like the Study page's
+
+
+@dash.callback(Output(f"{P}-split", "value"), Input("vs-settings", "data"), State(f"{P}-split", "value"))
+def _split_shown(settings: Any, current: Any) -> Any:
+    """The split month of the settings in use, in the box (on opening the page and after a change)."""
+    value = str((settings or {}).get("split_month") or "") if isinstance(settings, dict) else ""
+    return no_update if (current or "") == value else (value or None)
+
+
+@dash.callback(
+    Output("vs-settings", "data", allow_duplicate=True), Output(f"{P}-split-note", "children"),
+    Input(f"{P}-split", "value"), State("vs-settings", "data"),
+    prevent_initial_call=True,
+)
+def _split(value: Any, settings: Any) -> Any:
+    """A split month typed here joins the study settings (checked first: a bad month is refused by name)."""
+    text = str(value or "").strip()
+    old = dict(settings) if isinstance(settings, dict) else {}
+    if text == str(old.get("split_month") or ""):
+        return no_update, no_update
+    try:
+        config_from_settings({**old, "split_month": text})
+    except ValueSiftError as err:
+        return no_update, str(err)
+    return {**old, "split_month": text}, None
 
 
 @dash.callback(

@@ -19,6 +19,7 @@ from valuesift.app.services import current_owner, finished_result, normalise_sel
 from valuesift.app.settings import (
     DEFAULT_SETTINGS,
     HORIZON_CHOICES,
+    OTHER_PAGE_SETTINGS,
     bounds,
     config_from_settings,
     help_text,
@@ -158,7 +159,10 @@ def layout(**query: Any) -> html.Div:
                          id=f"{P}-sweep-gaps", className="vs-alert vs-alert-info", role="status") if gaps else None)
     return html.Div(className="vs-page vs-two-col", children=[
         html.Aside([_controls(opened, dict(persistence=persist_key, persistence_type="local"))
-                    if opened else _controls(), _saved_box(), dcc.Store(id=f"{P}-open-selection", data=open_sel)],
+                    if opened else _controls(), _saved_box(), dcc.Store(id=f"{P}-open-selection", data=open_sel),
+                    # settings of the opened study that another page shows (the split month)
+                    dcc.Store(id=f"{P}-open-other", data={k: opened.get(k) for k in OTHER_PAGE_SETTINGS}
+                              if opened else None)],
                    className="vs-sidebar"),
         html.Section(className="vs-content", children=[
             html.H1("Study"),
@@ -201,11 +205,11 @@ register_job_callbacks(P, controls_id=f"{P}-controls")
     Input(f"{P}-neutral", "value"), Input(f"{P}-lag", "value"), Input(f"{P}-dividends", "value"),
     Input(f"{P}-excess", "value"), Input(f"{P}-holding", "value"), Input(f"{P}-cost", "value"),
     Input(f"{P}-min-breadth", "value"),
-    State("vs-settings", "data"),
+    State("vs-settings", "data"), State(f"{P}-open-other", "data"),
 )
 def _settings(signal: Any, universe: Any, sectors: Any, min_hist: Any, horizons: Any, n_q: Any, outliers: Any,
               winsor: Any, zscore: Any, neutral: Any, lag: Any, dividends: Any, excess: Any, holding: Any,
-              cost: Any, min_breadth: Any, old: Any) -> Any:
+              cost: Any, min_breadth: Any, old: Any, opened_other: Any = None) -> Any:
     new = {
         "signal": signal, "universe": universe, "universe_sectors": list(sectors or []),
         "min_history_months": min_hist, "horizons": sorted(horizons or []), "n_quantiles": n_q,
@@ -214,6 +218,11 @@ def _settings(signal: Any, universe: Any, sectors: Any, min_hist: Any, horizons:
         "excess_over": excess, "holding_months": holding, "transaction_cost_bps": cost,
         "min_breadth": min_breadth,
     }
+    for k in OTHER_PAGE_SETTINGS:   # set on another page (the Stability page's split month): kept, or the opened study's
+        if isinstance(opened_other, dict) and opened_other.get(k) is not None:
+            new[k] = opened_other[k]
+        else:
+            new[k] = (old or {}).get(k, DEFAULT_SETTINGS[k]) if isinstance(old, dict) else DEFAULT_SETTINGS[k]
     return no_update if new == old else new
 
 

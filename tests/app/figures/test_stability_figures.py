@@ -35,6 +35,15 @@ def test_figures_draw_the_result_numbers(res) -> None:
     assert len(fst.sectors_figure(res, 12).data) == 2 and len(fst.regimes_figure(res, 12).data) == 2
 
 
+def test_every_period_is_a_labelled_row_including_the_two_halves(res) -> None:
+    per = fst.periods_figure(res, 1)
+    rows = res.ic_by_period[(res.ic_by_period["horizon"] == 1) & (res.ic_by_period["n_dates"] > 0)]
+    assert list(per.data[0].y) == list(rows["period"])
+    assert any(str(p).startswith("before ") for p in per.data[0].y) and any(str(p).startswith("from ") for p in per.data[0].y)
+    # year names are labels: a number axis would drop the halves and label only every other year
+    assert per.layout.yaxis.type == "category" and per.layout.yaxis2.type == "category"
+
+
 def test_too_short_gets_no_verdict_word(res) -> None:
     # 12-month horizon on 72 months: every calendar year is too short to judge
     text = " ".join(period_sentences(res, 12))

@@ -135,3 +135,29 @@ def test_export_includes_the_latest_comparison_when_ticked(server: str, tmp_path
         names = {n.split("/", 1)[1] for n in z.namelist()}
     assert {"tables/comparison.csv", "tables/signal_correlation.csv", "tables/joint_fm.csv",
             "charts/compare_correlation.html"} <= names
+
+
+def test_the_split_month_on_the_stability_page_moves_the_split(page: Any, server: str) -> None:
+    from playwright.sync_api import expect
+
+    page.goto(server + "/stability")
+    periods = page.locator("#stab-periods")
+    expect(periods).to_contain_text("from ")
+    box = page.locator("#stab-split")
+    box.fill("2013/05")
+    box.press("Enter")
+    expect(page.locator("#stab-split-note")).to_contain_text("Split month")     # refused, naming the control
+    box.fill("2013-05")
+    box.press("Enter")
+    expect(periods).to_contain_text("from 2013-05")
+    expect(periods).to_contain_text("before 2013-05")
+    assert _settings(page)["split_month"] == "2013-05"
+    # the Study page keeps it (one study for every page) and a return to the Stability page shows it
+    page.goto(server + "/study")
+    expect(page.locator("#study-summary")).to_contain_text("t =")
+    assert _settings(page)["split_month"] == "2013-05"
+    page.goto(server + "/stability")
+    expect(page.locator("#stab-split")).to_have_value("2013-05")
+    expect(periods).to_contain_text("from 2013-05")
+    ARTIFACTS.mkdir(exist_ok=True)
+    periods.screenshot(path=str(ARTIFACTS / "stability-periods-split.png"))
