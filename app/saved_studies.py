@@ -15,7 +15,11 @@ from typing import Any
 from valuesift.core.config import StudyConfig
 from valuesift.core.errors import ConfigError
 
-__all__ = ["SAVED_KEY", "NAME_RULE", "save_study", "saved_studies", "saved_study", "delete_study"]
+__all__ = ["SAVED_KEY", "NAME_RULE", "save_study", "saved_studies", "saved_study", "delete_study",
+           "current_settings", "keep_current_settings"]
+
+#: Each browser session's current Study-page settings (what the Study page's controls show when it opens).
+CURRENT_KEY = "study_settings"
 
 SAVED_KEY = "saved_studies"
 #: A saved study's name: 1-60 letters, digits, spaces, dots, dashes or underscores.
@@ -60,3 +64,20 @@ def delete_study(workspace: Any, name: str, owner: str | None = None) -> None:
     raw = dict(workspace.get_setting(_key(owner), {}) or {})
     raw.pop(name, None)
     workspace.set_setting(_key(owner), raw)
+
+
+def current_settings(workspace: Any, owner: str | None) -> dict[str, Any] | None:
+    """The session's settings as last set on the Study or Stability page (None before the first change).
+
+    Kept in the workspace, not in the browser's memory of each control, so a sweep row or a saved study
+    opened on the Study page stays in force when the page is opened again later, and a restart loses nothing.
+    """
+    raw = workspace.get_setting(f"{CURRENT_KEY}:{owner}" if owner else CURRENT_KEY, None)
+    return dict(raw) if isinstance(raw, dict) else None
+
+
+def keep_current_settings(workspace: Any, owner: str | None, settings: dict[str, Any]) -> None:
+    """Remember the session's settings (nothing is written when they are unchanged)."""
+    key = f"{CURRENT_KEY}:{owner}" if owner else CURRENT_KEY
+    if workspace.get_setting(key, None) != settings:
+        workspace.set_setting(key, dict(settings))

@@ -27,7 +27,8 @@ from valuesift.app.figures import stability as fst
 from valuesift.app.figures.common import fmt_num, fmt_pct
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
 from valuesift.app.components.graphs import graph_card, height_style
-from valuesift.app.services import finished_result
+from valuesift.app.saved_studies import keep_current_settings
+from valuesift.app.services import current_owner, finished_result, state
 from valuesift.app.settings import config_from_settings, help_text, label, shown_horizon
 from valuesift.core.errors import ValueSiftError
 
@@ -92,7 +93,9 @@ def _split(value: Any, settings: Any) -> Any:
         config_from_settings({**old, "split_month": text})
     except ValueSiftError as err:
         return no_update, str(err)
-    return {**old, "split_month": text}, None
+    new = {**old, "split_month": text}
+    keep_current_settings(state().workspace, current_owner(), new)
+    return new, None
 
 
 @dash.callback(

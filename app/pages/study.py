@@ -14,7 +14,7 @@ from valuesift.app.figures import study as fs
 from valuesift.app.figures.common import month
 from valuesift.app.figures.cache import HORIZON_CHARTS, scatter_for, study_figures, warm_study
 from valuesift.app.jobs_ui import job_components, register_job_callbacks
-from valuesift.app.saved_studies import save_study, saved_studies, saved_study
+from valuesift.app.saved_studies import current_settings, keep_current_settings, save_study, saved_studies, saved_study
 from valuesift.app.services import current_owner, finished_result, normalise_selection, selection_key, state
 from valuesift.app.settings import (
     DEFAULT_SETTINGS,
@@ -40,7 +40,9 @@ _D = DEFAULT_SETTINGS
 _SIGNALS = [{"label": "Earnings yield (EPS / price)", "value": "earnings_yield"},
             {"label": "Dividend yield (trailing 12 months)", "value": "dividend_yield"},
             {"label": "Composite of both yields", "value": "composite"}]
-_PERSIST = dict(persistence=True, persistence_type="local")
+# The controls show the session's current settings, kept in the workspace (app.saved_studies.current_settings),
+# not the browser's per-control memory: opening a sweep row or a saved study then stays in force.
+_PERSIST: dict[str, Any] = {}
 _CHARTS = ["ic-horizon", "ic-time", "quantiles", "spread", "fm", "growth", "drawdown", "cohorts"]
 
 
@@ -115,6 +117,18 @@ def _opened_saved(name: str) -> tuple[dict[str, Any], list[str], dict[str, Any],
     return settings, gaps, sel, str(saved_studies(ws, owner).get(name, {}).get("saved", ""))
 
 
+def _current() -> dict[str, Any]:
+    """The session's current settings for the controls (the defaults before the first change)."""
+    try:
+        kept = current_settings(state().workspace, current_owner())
+    except Exception:  # outside a request (unit tests of the layout)
+        kept = None
+    out = dict(_D)
+    if kept:
+        out.update({k: v for k, v in kept.items() if k in _D and v is not None})
+    return out
+
+
 def _saved_box() -> html.Fieldset:
     """Save the study on screen under a name; open a saved one (its data and settings) here again."""
     return html.Fieldset(className="vs-controls", children=[
@@ -132,12 +146,11 @@ def _saved_box() -> html.Fieldset:
 
 
 def layout(**query: Any) -> html.Div:
-    # Hook for the Sweep page: /study?sweep=NAME&point=ID opens that sweep configuration's settings
-    # (own persistence key, so values kept from earlier visits do not override them).
-    # /study?saved=NAME opens a saved study: its settings and its data.
+    # Hook for the Sweep page: /study?sweep=NAME&point=ID opens that sweep configuration's settings;
+    # /study?saved=NAME opens a saved study: its settings and its data.  Otherwise the controls show the
+    # session's current settings.
     found = opened_from_query(state().workspace.root, query) if query.get("sweep") else None
     opened, gaps = found if found else (None, [])
-    persist_key = f"sweep-{query.get('point')}"
     what = "This sweep configuration"
     open_sel: dict[str, Any] | None = None
     saved_note = None
@@ -149,7 +162,6 @@ def layout(**query: Any) -> html.Div:
                                   className="vs-alert vs-alert-info", role="status", id=f"{P}-saved-missing")
         else:
             opened, gaps, open_sel, when = got
-            persist_key = f"saved-{query['saved']}-{when}"
             what = f"The saved study {str(query['saved'])!r}"
             saved_note = html.Div(f"Opened the saved study {str(query['saved'])!r} (saved {when[:16].replace('T', ' ')} "
                                   "UTC): its data and its settings.", className="vs-alert vs-alert-info",
@@ -158,8 +170,7 @@ def layout(**query: Any) -> html.Div:
                          "control for: the study here uses the usual value instead.",
                          id=f"{P}-sweep-gaps", className="vs-alert vs-alert-info", role="status") if gaps else None)
     return html.Div(className="vs-page vs-two-col", children=[
-        html.Aside([_controls(opened, dict(persistence=persist_key, persistence_type="local"))
-                    if opened else _controls(), _saved_box(), dcc.Store(id=f"{P}-open-selection", data=open_sel),
+        html.Aside([_controls(opened or _current()), _saved_box(), dcc.Store(id=f"{P}-open-selection", data=open_sel),
                     # settings of the opened study that another page shows (the split month)
                     dcc.Store(id=f"{P}-open-other", data={k: opened.get(k) for k in OTHER_PAGE_SETTINGS}
                               if opened else None)],
@@ -223,6 +234,7 @@ def _settings(signal: Any, universe: Any, sectors: Any, min_hist: Any, horizons:
             new[k] = opened_other[k]
         else:
             new[k] = (old or {}).get(k, DEFAULT_SETTINGS[k]) if isinstance(old, dict) else DEFAULT_SETTINGS[k]
+    keep_current_settings(state().workspace, current_owner(), new)
     return no_update if new == old else new
 
 

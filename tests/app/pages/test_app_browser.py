@@ -273,6 +273,9 @@ def test_every_study_control_changes_what_is_drawn_and_what_is_stored(page, serv
     page.locator("#study-sectors").click()
     page.locator(".dash-dropdown-content").get_by_role("option", name="Banks", exact=True).click()
     page.keyboard.press("Escape")
+    # the stored settings follow the controls (a callback away: wait for it, then read)
+    page.wait_for_function("() => { const s = JSON.parse(localStorage.getItem('vs-settings') || '{}'); "
+                           "return s.universe === 'sectors' && (s.universe_sectors || []).length === 1; }")
     stored = _settings(page)
     assert stored["universe"] == "sectors" and stored["universe_sectors"] == ["Banks"]
     drawn = _wait_redrawn(page, drawn)
