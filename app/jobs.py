@@ -14,7 +14,9 @@ Bounds (a careful machine has two cores and many browser tabs):
   jobs (waiting or running) belong to one browser session;
 * a new job of a kind supersedes the same session's earlier job of that kind
   that has not finished: it is cancelled, or, when another session waits for
-  the same result, that session keeps it;
+  the same result, that session keeps it (a kind submitted with
+  ``supersede=False`` -- sweeps, which are long and started on purpose --
+  keeps the earlier jobs running, within the per-session bound);
 * beyond the bounds :meth:`JobRunner.submit` raises :class:`Busy`, whose
   message says what happened and what to do;
 * the queue is served round-robin by session, so one session's burst cannot
@@ -102,8 +104,12 @@ class JobRunner:
         self.refused = 0
 
     # -- submitting ------------------------------------------------------------------
-    def submit(self, kind: str, owner: str, work: Callable[[Job], Any], *, key: str | None = None) -> Job:
+    def submit(self, kind: str, owner: str, work: Callable[[Job], Any], *, key: str | None = None,
+               supersede: bool = True) -> Job:
         """Queue ``work(job)`` for ``owner``; join the active job of the same ``key`` when there is one.
+
+        With ``supersede`` (the default) the session's unfinished jobs of the same kind are withdrawn;
+        without it they keep running (a second sweep started from another tab must not cancel the first).
 
         Raises
         ------
@@ -115,9 +121,11 @@ class JobRunner:
                 same = self._by_key.get(key)
                 if same is not None and same.active and not same.cancel_event.is_set():
                     same.owners.add(owner)
-                    self._supersede(kind, owner, keep=same)
+                    if supersede:
+                        self._supersede(kind, owner, keep=same)
                     return same
-            self._supersede(kind, owner, keep=None)
+            if supersede:
+                self._supersede(kind, owner, keep=None)
             mine = [j for j in self._jobs.values() if j.active and owner in j.owners]
             if len(mine) >= self.max_per_owner:
                 self.refused += 1

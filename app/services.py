@@ -352,7 +352,7 @@ class AppState:
             save_named_sweep(root, name, res)
             return name
 
-        return self.runner.submit("sweep", owner, work)
+        return self.runner.submit("sweep", owner, work, supersede=False)
 
     def sweep_job(self, job_id: Any) -> Job | None:
         """The current session's sweep job with this id (None for another session's or an unknown id)."""

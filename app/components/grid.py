@@ -16,20 +16,26 @@ __all__ = ["grid_columns", "number_formatter", "DEFAULT_FORMAT"]
 DEFAULT_FORMAT: tuple[int, bool] = (2, False)
 
 
-def number_formatter(decimals: int, percent: bool, *, blank_from: str | None = None) -> dict[str, str]:
+def number_formatter(decimals: int, percent: bool, *, blank_from: str | None = None,
+                     p_value: bool = False) -> dict[str, str]:
     """A grid ``valueFormatter``: d3's fixed or percent format (it writes the minus as U+2212).
 
     ``blank_from`` names a text field of the row shown instead of a missing number (such as
-    "not meaningful" for a P/E of a loss-maker).
+    "not meaningful" for a P/E of a loss-maker).  ``p_value``: a probability too small for the
+    decimals is written "< 0.001" (for three decimals), never as a zero.
     """
     spec = f",.{int(decimals)}{'%' if percent else 'f'}"
     missing = f"(params.data && params.data.{blank_from}) || ''" if blank_from else "''"
-    return {"function": f"params.value == null ? {missing} : d3.format('{spec}')(params.value)"}
+    shown = f"d3.format('{spec}')(params.value)"
+    if p_value and not percent and decimals > 0:
+        least = 10.0 ** -int(decimals)
+        shown = f"(params.value < {least!r} ? '< {least:.{int(decimals)}f}' : {shown})"
+    return {"function": f"params.value == null ? {missing} : {shown}"}
 
 
 def grid_columns(columns: Iterable[Sequence[str]], *, pinned: str | None = None, hidden: Iterable[str] = (),
                  formats: Mapping[str, tuple[int, bool]] | None = None,
-                 notes: Mapping[str, str] | None = None) -> list[dict[str, Any]]:
+                 notes: Mapping[str, str] | None = None, p_values: Iterable[str] = ()) -> list[dict[str, Any]]:
     """``columnDefs`` for ``(id, header, kind)`` rows (kind ``numeric`` or ``text``).
 
     Parameters
@@ -42,17 +48,20 @@ def grid_columns(columns: Iterable[Sequence[str]], *, pinned: str | None = None,
         ``{column id: (decimals, percent)}``; numeric columns not listed use :data:`DEFAULT_FORMAT`.
     notes : mapping, optional
         ``{numeric column id: text column id}`` shown where the number is missing.
+    p_values : iterable of str
+        Numeric columns holding probabilities (below the last decimal they read "< 0.001").
     """
     formats = dict(formats or {})
     notes = dict(notes or {})
     hide = set(hidden)
+    probs = set(p_values)
     out: list[dict[str, Any]] = []
     for cid, head, kind in columns:
         col: dict[str, Any] = {"field": cid, "headerName": head, "headerTooltip": head}
         if kind == "numeric":
             dec, pct = formats.get(cid, DEFAULT_FORMAT)
             col.update(filter="agNumberColumnFilter", type="numericColumn",
-                       valueFormatter=number_formatter(dec, pct, blank_from=notes.get(cid)),
+                       valueFormatter=number_formatter(dec, pct, blank_from=notes.get(cid), p_value=cid in probs),
                        filterParams={"buttons": ["reset"], "maxNumConditions": 2})
         else:
             col.update(filter="agTextColumnFilter", filterParams={"buttons": ["reset"], "maxNumConditions": 2},

@@ -392,7 +392,7 @@ def table_columns(result: Any, rows: list[dict[str, Any]] | None = None) -> list
             formats[c] = (dec, pct)
     if failed:
         spec.append(("error", "Why it failed", "text"))
-    cols = grid_columns(spec, pinned="signal", formats=formats)
+    cols = grid_columns(spec, pinned="signal", formats=formats, p_values=[c for c, *_ in _METRICS if "_p" in c])
     for c in cols:
         c["headerTooltip"] = _TOOLTIPS.get(c["field"], c["headerName"])
         if c["field"] == "signal":

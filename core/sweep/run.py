@@ -115,6 +115,21 @@ def _f(x: Any) -> float:
     return v if math.isfinite(v) else math.nan
 
 
+def _check_holdout_dates(holdout: str, dates: pd.DatetimeIndex) -> None:
+    """Refuse a hold-out month that leaves no month before it or none from it in the data (ConfigError)."""
+    if len(dates) == 0:
+        return
+    start = pd.Timestamp(f"{holdout}-01")
+    first, last = dates.min(), dates.max()
+    span = f"the data run from {first:%Y-%m} to {last:%Y-%m}"
+    if start <= first:
+        raise ConfigError(f"The hold-out from {holdout} leaves no month before it to choose a configuration on: {span}.",
+                          hint="Choose a later first month of the hold-out, or leave it empty.", setting="holdout")
+    if start > last:
+        raise ConfigError(f"The hold-out from {holdout} begins after the last month of the data: {span}.",
+                          hint="Choose an earlier first month of the hold-out, or leave it empty.", setting="holdout")
+
+
 def _holdout_masks(dates: pd.DatetimeIndex, h: int, start: pd.Timestamp) -> tuple[np.ndarray, np.ndarray]:
     """In-sample formation dates (their h-month window ends before ``start``) and hold-out ones (from ``start``)."""
     n = len(dates)
@@ -271,6 +286,8 @@ def run_sweep(
     if holdout is not None and not is_month(holdout):
         raise ConfigError(f"--holdout-from {holdout!r} is not a month written YYYY-MM.",
                           hint="Write the first month of the hold-out, e.g. 2019-01.", setting="holdout")
+    if holdout is not None:
+        _check_holdout_dates(holdout, panel.dates)
     # Identical configurations are one trial: keep the first of each (the statement counts distinct ones).
     seen: set[str] = set()
     points = []

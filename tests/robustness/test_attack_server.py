@@ -441,3 +441,22 @@ def test_tokens_strong_private_and_throttled(tmp_path: Path) -> None:
         time.sleep(int(r.headers["Retry-After"]) + 0.5)
         ok = requests.get(f"{srv.base}/data?token={token}", timeout=30, allow_redirects=False)
         assert ok.status_code == 303
+
+
+def test_a_second_sweep_of_a_session_does_not_cancel_the_first() -> None:
+    """Sweeps are submitted without superseding: a sweep started in a second tab of the same browser
+    leaves the first one running (studies still supersede, test above); the per-session bound still holds."""
+    from valuesift.app.jobs import Busy, JobRunner
+
+    gate = threading.Event()
+    runner = JobRunner(workers=1, max_queued=4, max_per_owner=2)
+    first = runner.submit("sweep", "a", lambda job: gate.wait(30), supersede=False)
+    second = runner.submit("sweep", "a", lambda job: None, supersede=False)
+    assert first.status in ("queued", "running") and second.status == "queued"
+    with pytest.raises(Busy, match="already has 2 jobs"):
+        runner.submit("sweep", "a", lambda job: None, supersede=False)
+    gate.set()
+    end = time.monotonic() + 30
+    while (first.status != "done" or second.status != "done") and time.monotonic() < end:
+        time.sleep(0.05)
+    assert first.status == "done" and second.status == "done"

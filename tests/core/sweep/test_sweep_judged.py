@@ -89,3 +89,12 @@ def test_deflated_sharpe_of_the_best_row(swept) -> None:
 def test_a_bad_holdout_month_is_refused(panel) -> None:
     with pytest.raises(ConfigError, match="YYYY-MM"):
         run_sweep(panel, _grid(), holdout="2004/01")
+
+
+@pytest.mark.parametrize("month, words", [("1990-01", "no month before it"), ("2099-01", "after the last month")])
+def test_a_holdout_outside_the_data_is_refused_naming_the_data_span(panel, month, words) -> None:
+    """A hold-out that leaves no in-sample or no hold-out month would judge nothing: refused in words."""
+    first, last = panel.dates.min(), panel.dates.max()
+    with pytest.raises(ConfigError, match=words) as err:
+        run_sweep(panel, _grid(), holdout=month)
+    assert f"{first:%Y-%m} to {last:%Y-%m}" in str(err.value) and err.value.setting == "holdout"
