@@ -1,10 +1,13 @@
 """Benchmark of the committee bundle on the demo study (not collected by pytest; no timed assertion).
 
     .venv/bin/python tests/benchmarks/bench_bundle.py [--repeats 3] [--horizons 1,3,6,12,24,36]
+    .venv/bin/python tests/benchmarks/bench_bundle.py --large [--repeats 1]
 
 Prints the build time (median of the repeats, with the time to the first chart image and the PDF
 layout time taken from the build's own progress reports), the ZIP size and the load average, since
 a shared machine's load changes the numbers a lot.  Targets: ZIP under 20 MB, build at most 6 s on two cores.
+With ``--large`` it times the L study (3,000 x 360, invented) alone and then with its bundle, alternated,
+and prints the ratio (issue 15: the study with its bundle at most 2x the study without it).
 """
 
 from __future__ import annotations
@@ -32,7 +35,10 @@ def main() -> int:
     ap = argparse.ArgumentParser()
     ap.add_argument("--repeats", type=int, default=3)
     ap.add_argument("--horizons", default="1,3,6,12,24,36")
+    ap.add_argument("--large", action="store_true", help="the L study with and without its bundle")
     a = ap.parse_args()
+    if a.large:
+        return _large(a.repeats)
     with tempfile.TemporaryDirectory() as tmp:
         panel = load_demo(Path(tmp) / "demo")
         result = run_study(panel, StudyConfig(horizons=tuple(int(h) for h in a.horizons.split(","))))
@@ -58,6 +64,31 @@ def main() -> int:
     med = statistics.median(r[0] for r in rows)
     print(f"median build {med:.1f} s; target <= 6 s on the 2-core machine (issue 13): "
           f"{'met' if med <= 6.0 else 'missed'} at load average {os.getloadavg()[0]:.1f}")
+    return 0
+
+
+def _large(repeats: int) -> int:
+    from valuesift.app.bundle import write_bundle
+    from valuesift.core.config import StudyConfig
+    from valuesift.core.study import run_study
+
+    from tests.benchmarks.synth import monthly_panel
+
+    panel = monthly_panel(3000, 360)
+    cfg = StudyConfig()
+    alone, both = [], []
+    with tempfile.TemporaryDirectory() as tmp:
+        for i in range(repeats):
+            t0 = time.perf_counter()
+            run_study(panel, cfg)
+            alone.append(time.perf_counter() - t0)
+            t0 = time.perf_counter()
+            res = run_study(panel, cfg)
+            write_bundle(res, panel, None, Path(tmp) / f"L{i}", study_name="bench")
+            both.append(time.perf_counter() - t0)
+    s, b = statistics.median(alone), statistics.median(both)
+    print(f"L 3000 x 360: study {s:.1f} s, study with bundle {b:.1f} s, ratio {b / s:.2f} (target at most 2): "
+          f"{'met' if b / s <= 2 else 'missed'} at load average {os.getloadavg()[0]:.1f}")
     return 0
 
 
