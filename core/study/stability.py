@@ -16,6 +16,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 import pandas as pd
 
+from valuesift.core.errors import ConfigError
 from valuesift.core.correlation.decay import half_life, ic_decay, rank_autocorrelation
 from valuesift.core.inference.nonoverlap import headline_block
 from valuesift.core.panel import Panel
@@ -262,7 +263,13 @@ def _split(result: "StudyResult") -> pd.Timestamp:
     dates = pd.DatetimeIndex(result.rank_ic.index)
     text = getattr(result.config, "split_month", "") or ""
     if text:
-        return pd.Timestamp(f"{text}-01")
+        split = pd.Timestamp(f"{text}-01")
+        if len(dates) and not (dates.min() < split <= dates.max()):
+            raise ConfigError(f"The split month {text} leaves one side empty: the study's dates run from "
+                              f"{dates.min():%Y-%m} to {dates.max():%Y-%m}.",
+                              hint="Choose a month after the first date and not after the last, or leave it empty.",
+                              setting="split_month")
+        return split
     h0 = min(result.config.horizons)
     return default_split(dates, np.isfinite(result.rank_ic[h0].to_numpy(dtype=float)))
 

@@ -109,3 +109,18 @@ def test_study_fields_on_an_invented_panel() -> None:
     assert set(res.relative.index) == {"cheapest", "long_short"}
     assert not res.cap_weighted.empty and set(res.cap_weighted_backtest["weighting"]) == {"equal", "cap"}
     assert "log market capitalisation" in res.fm_controls.iloc[0]["controls"]
+
+
+@pytest.mark.parametrize("month", ["1990-01", "2099-06"])
+def test_a_split_month_outside_the_dates_is_refused_in_words(month) -> None:
+    """A split that leaves one side empty would compare a half with nothing: ConfigError naming the setting."""
+    from _panels import make_panel
+
+    from valuesift.core.config import StudyConfig
+    from valuesift.core.errors import ConfigError
+    from valuesift.core.study import run_study
+
+    panel = make_panel(72, 40, seed=3, ic=0.2)
+    with pytest.raises(ConfigError, match="leaves one side empty") as err:
+        run_study(panel, StudyConfig(horizons=(1,), split_month=month))
+    assert err.value.setting == "split_month" and "2001" in str(err.value)
