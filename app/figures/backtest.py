@@ -24,6 +24,24 @@ def _label(col: str) -> str:
     return PORTFOLIO_LABELS.get(col, col)
 
 
+def _drawing_order(columns: pd.Index) -> list[str]:
+    """Portfolios in the order they are drawn: the benchmark before the equal-weight universe.
+
+    The two often run almost on top of each other (a broad benchmark is close to the universe's
+    average), so the universe is drawn last and dashed: the line beneath shows through its gaps and
+    every legend entry has a line one can see.
+    """
+    cols = [str(c) for c in columns]
+    if "universe" in cols and "benchmark" in cols:
+        cols.remove("universe")
+        cols.insert(cols.index("benchmark") + 1, "universe")
+    return cols
+
+
+def _line(col: str, width: float) -> dict:
+    return dict(color=SERIES.get(col), width=width, dash="dash" if col == "universe" else "solid")
+
+
 def stats_text(result: StudyResult, col: str) -> str:
     """One portfolio's statistics in a short line (annual return, Sharpe with its t, worst drawdown).
 
@@ -56,12 +74,12 @@ def growth_figure(result: StudyResult) -> go.Figure:
     subtitle = (f"Sample {span(dates)}, {len(dates)} months; costs {fmt_num(cost, 0)} bp per unit traded<br>"
                 + stats_text(result, "cheapest") + "; " + stats_text(result, "long_short"))
     fig = base_figure(title, subtitle, height=480, wide=True)
-    for col in bt.growth.columns:
+    for col in _drawing_order(bt.growth.columns):
         s = bt.growth[col]
         if not np.isfinite(s.to_numpy(dtype=float)).any():
             continue
-        fig.add_trace(go.Scatter(x=s.index, y=s.to_numpy(dtype=float), mode="lines", name=_label(str(col)),
-                                 line=dict(color=SERIES.get(str(col)), width=3 if col == "cheapest" else 2.2)))
+        fig.add_trace(go.Scatter(x=s.index, y=s.to_numpy(dtype=float), mode="lines", name=_label(col),
+                                 line=_line(col, 3 if col == "cheapest" else 2.2)))
     vals = bt.growth.to_numpy(dtype=float)
     vals = vals[np.isfinite(vals) & (vals > 0)]
     fig.update_yaxes(type="log", title_text="growth of 1 (log scale)", tickmode="array",
@@ -91,12 +109,12 @@ def drawdown_figure(result: StudyResult) -> go.Figure:
     worst = ", ".join(f"{_label(str(c))} {fmt_pct(st.loc[c, 'max_drawdown'], 0)}" for c in st.index
                       if "max_drawdown" in st.columns)
     fig = base_figure(title, f"Sample {span(dates)}, {len(dates)} months; worst: {worst}", height=380)
-    for col in bt.drawdown.columns:
+    for col in _drawing_order(bt.drawdown.columns):
         s = bt.drawdown[col]
         if not np.isfinite(s.to_numpy(dtype=float)).any():
             continue
-        fig.add_trace(go.Scatter(x=s.index, y=s.to_numpy(dtype=float), mode="lines", name=_label(str(col)),
-                                 line=dict(color=SERIES.get(str(col)), width=2)))
+        fig.add_trace(go.Scatter(x=s.index, y=s.to_numpy(dtype=float), mode="lines", name=_label(col),
+                                 line=_line(col, 2)))
     fig.update_yaxes(title_text="below peak", tickformat=".0%")
     return fig
 

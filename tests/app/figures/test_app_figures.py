@@ -158,6 +158,21 @@ def test_growth_curve_is_the_backtest_growth(small_result) -> None:  # type: ign
     assert fig.layout.yaxis.type == "log"
 
 
+def test_every_growth_and_drawdown_legend_entry_has_a_line_one_can_see(small_result) -> None:  # type: ignore[no-untyped-def]
+    """The equal-weight universe and a broad benchmark often coincide: the universe is drawn after the
+    benchmark and dashed, so the line beneath shows through and neither legend entry is a line hidden
+    under another (issue 13's review saw "universe, equal weight" in the legend with no visible line)."""
+    for fig in (fb.growth_figure(small_result), fb.drawdown_figure(small_result)):
+        names = [t.name for t in fig.data]
+        for tr in fig.data:
+            assert np.isfinite(np.asarray(tr.y, dtype=float)).any() and tr.line.width >= 2 and tr.visible in (None, True)
+        styles = [(tr.line.color, tr.line.dash) for tr in fig.data]
+        assert len(set(styles)) == len(styles), styles              # no two entries drawn alike
+        if "universe, equal weight" in names and "benchmark" in names:
+            assert names.index("universe, equal weight") > names.index("benchmark")
+            assert fig.data[names.index("universe, equal weight")].line.dash == "dash"
+
+
 def test_company_band_median_is_the_universe_median(small_result) -> None:  # type: ignore[no-untyped-def]
     sec = small_result.screen.index[0]
     fig = fc.signal_history_figure(small_result, sec)
