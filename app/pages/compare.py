@@ -11,13 +11,14 @@ from __future__ import annotations
 from typing import Any
 
 import dash
+import dash_ag_grid as dag
 from dash import Input, Output, State, dcc, html, no_update
 
 from valuesift.app.bundle.stability_text import compare_sentences, evidence_phrase
 from valuesift.app.compare_service import compare_result, start_compare
-from valuesift.app.components.common import field, panel_choices, text_table
+from valuesift.app.components.common import field, panel_choices
+from valuesift.app.components.grid import grid_columns
 from valuesift.app.components.graphs import graph_card, height_style
-from valuesift.app.figures.common import fmt_num, fmt_pct
 from valuesift.app.figures.compare import compare_ic_figure, correlation_heatmap_figure, joint_fm_figure, signal_words
 from valuesift.app.jobs_ui import alert, job_components
 from valuesift.app.saved_studies import delete_study, save_study, saved_studies
@@ -64,7 +65,14 @@ def layout(**_: Any) -> html.Div:
                 field("Horizon shown", dcc.RadioItems(id=f"{P}-horizon", inline=True, options=[], value=None,
                                                       className="vs-horizon-pick")),
                 html.Div(id=f"{P}-sentences", className="vs-summary"),
-                html.Div(id=f"{P}-table", className="vs-card"),
+                html.Div(className="vs-card", children=dag.AgGrid(
+                    id=f"{P}-table", columnDefs=table_columns(), rowData=[], columnSize="responsiveSizeToFit",
+                    defaultColDef={"resizable": True, "sortable": True, "minWidth": 96, "wrapHeaderText": True,
+                                   "autoHeaderHeight": True},
+                    dashGridOptions={"domLayout": "autoHeight",
+                                     "overlayNoRowsTemplate": "No rows match the filters.",
+                                     "tooltipShowDelay": 300},
+                    className="ag-theme-quartz vs-grid-table", style={"width": "100%"})),
                 html.Div(className="vs-grid", children=[graph_card(f"{P}-heatmap"), graph_card(f"{P}-ic")]),
                 graph_card(f"{P}-joint"),
                 html.Div(id=f"{P}-notes", className="vs-notes"),
@@ -192,19 +200,64 @@ def _horizons(done: Any, current: Any) -> Any:
     return [{"label": f"{h} m", "value": h} for h in hs], shown_horizon(hs, current)
 
 
-def _table(cmp: Any, h: int) -> Any:
+#: The comparison grid's columns: (id, header, kind) and the format of each number (decimals, percent).
+_COLUMNS: tuple[tuple[str, str, str], ...] = (
+    ("signal", "Signal", "text"), ("mean_ic", "Mean IC", "numeric"), ("ic_t", "IC t", "numeric"),
+    ("spread", "Spread", "numeric"), ("spread_t", "Spread t", "numeric"),
+    ("sharpe", "Sharpe", "numeric"), ("max_drawdown", "Worst drawdown", "numeric"),
+    ("turnover", "Turnover", "numeric"), ("mean_breadth", "Names", "numeric"), ("n_dates", "Dates", "numeric"),
+    ("verdict", "Verdict", "text"),
+)
+#: The longer words of a header, shown when the pointer rests on it.
+_TOOLTIPS = {"mean_ic": "Mean rank information coefficient", "ic_t": "Headline t of the mean IC",
+             "spread": "Cheapest minus dearest quantile, mean return over the horizon",
+             "spread_t": "Headline t of the spread",
+             "sharpe": "Sharpe ratio (a year) of the cheapest quantile held for the horizon",
+             "max_drawdown": "Worst fall of the cheapest quantile from its running peak",
+             "turnover": "Share of the cheapest quantile replaced each month", "mean_breadth": "Names a date, mean",
+             "n_dates": "Dates with an IC", "verdict": "How strong the evidence is, by the headline t"}
+_FORMATS = {"mean_ic": (3, False), "ic_t": (2, False), "spread": (2, True), "spread_t": (2, False),
+            "sharpe": (2, False), "max_drawdown": (1, True), "turnover": (1, True), "mean_breadth": (0, False),
+            "n_dates": (0, False)}
+
+
+def table_columns() -> list[dict[str, Any]]:
+    """``columnDefs`` of the comparison grid: the signal pinned, numbers sorting and filtering as numbers."""
+    cols = grid_columns(_COLUMNS, pinned="signal", formats=_FORMATS)
+    for c in cols:
+        c["headerTooltip"] = _TOOLTIPS.get(c["field"], c["headerName"])
+        if c["field"] == "signal":
+            c.update(minWidth=170, wrapText=False, autoHeight=False)
+        elif c["field"] == "verdict":
+            c.update(minWidth=330)
+        elif c["field"] == "max_drawdown":
+            c["minWidth"] = 136          # "drawdown" whole beside the header's filter and sort marks
+        else:
+            c["minWidth"] = 112
+    return cols
+
+
+def _number(v: Any) -> float | None:
+    try:
+        x = float(v)
+    except (TypeError, ValueError):
+        return None
+    return x if x == x and abs(x) != float("inf") else None
+
+
+def table_records(cmp: Any, h: int) -> list[dict[str, Any]]:
+    """One grid row per signal at horizon ``h``: numbers as numbers (missing as empty), words for the rest."""
     t = cmp.table[cmp.table["horizon"] == h]
-    rows = [[signal_words(r["signal"]), fmt_num(r["mean_ic"], 3), fmt_num(r["ic_t"], 2), fmt_pct(r["spread"], 2),
-             fmt_num(r["spread_t"], 2), fmt_num(r["sharpe"], 2), fmt_pct(r["max_drawdown"], 1),
-             fmt_pct(r["turnover"], 1), fmt_num(r["mean_breadth"], 0), int(r["n_dates"]),
-             evidence_phrase(r["evidence"])] for _, r in t.iterrows()]
-    head = ["Signal", "Mean IC", "IC t", "Spread", "Spread t", "Sharpe (cheapest, held for the horizon)",
-            "Worst drawdown", "Turnover a month", "Names", "Dates", "Verdict"]
-    return text_table(rows, head)
+    rows = []
+    for _, r in t.iterrows():
+        row: dict[str, Any] = {c: _number(r.get(c)) for c, _, kind in _COLUMNS if kind == "numeric"}
+        row.update(signal=signal_words(r["signal"]), verdict=evidence_phrase(r["evidence"]))
+        rows.append(row)
+    return rows
 
 
 @dash.callback(
-    Output(f"{P}-results", "hidden"), Output(f"{P}-sentences", "children"), Output(f"{P}-table", "children"),
+    Output(f"{P}-results", "hidden"), Output(f"{P}-sentences", "children"), Output(f"{P}-table", "rowData"),
     Output(f"{P}-heatmap", "figure"), Output(f"{P}-ic", "figure"), Output(f"{P}-joint", "figure"),
     Output(f"{P}-notes", "children"), Output(f"{P}-heatmap", "style"), Output(f"{P}-ic", "style"),
     Output(f"{P}-joint", "style"),
@@ -212,14 +265,14 @@ def _table(cmp: Any, h: int) -> Any:
 )
 def _show(done: Any, horizon: Any) -> Any:
     if not isinstance(done, dict):
-        return True, None, None, no_update, no_update, no_update, None, no_update, no_update, no_update
+        return True, None, [], no_update, no_update, no_update, None, no_update, no_update, no_update
     cmp = compare_result(done.get("key"))
     if cmp is None:
         return (True, alert("This comparison is no longer in memory (the server restarted, or many comparisons were "
-                            "run since); press Compare again.", "info"), None, no_update, no_update, no_update, None,
+                            "run since); press Compare again.", "info"), [], no_update, no_update, no_update, None,
                 no_update, no_update, no_update)
     h = shown_horizon(list(cmp.config.horizons), horizon)
     notes = [html.Li(n) for n in [*cmp.notes, *done.get("left", [])]]
     figs = [correlation_heatmap_figure(cmp), compare_ic_figure(cmp, h), joint_fm_figure(cmp, h)]
-    return (False, [html.P(s) for s in compare_sentences(cmp, h)], _table(cmp, h), *figs, html.Ul(notes),
+    return (False, [html.P(s) for s in compare_sentences(cmp, h)], table_records(cmp, h), *figs, html.Ul(notes),
             *[height_style(f) for f in figs])

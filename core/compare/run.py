@@ -27,6 +27,7 @@ from valuesift.core.panel import Panel
 from valuesift.core.portfolio.holding import backtest_at_holding, monthly_inputs
 from valuesift.core.regression.multi import fm_multi
 from valuesift.core.result import StudyResult
+from valuesift.core.settings import SIGNAL_WORDS
 from valuesift.core.study import run_study
 
 __all__ = ["COMPARE_COLUMNS", "CompareResult", "run_compare", "compare_results", "signal_correlation", "MIN_SIGNALS",
@@ -226,7 +227,8 @@ def compare_results(panel: Panel, results: dict[str, StudyResult]) -> CompareRes
         twin = next((j for j in joint if np.array_equal(zs[j], zs[k], equal_nan=True)), None)
         if twin is not None:  # the same z-scores twice would make the regression singular
             same.append(k)
-            notes.append(f"{k} has the same z-scores as {twin}: it is left out of the joint regression.")
+            notes.append(f"{SIGNAL_WORDS.get(k, k)} has the same z-scores as {SIGNAL_WORDS.get(twin, twin)}: "
+                         "it is left out of the joint regression.")
             continue
         joint.append(k)
     left = tuple(k for k in labels if results[k].config.signal == "composite") + tuple(same)

@@ -36,6 +36,14 @@ def page(server: str) -> Iterator[Any]:
         browser.close()
 
 
+def _column_in_row_order(page: Any, col: str) -> list[float]:
+    """The numbers of one grid column in the order the rows are drawn (row-index), the U+2212 minus read."""
+    cells = page.evaluate(
+        "(col) => Array.from(document.querySelectorAll('#compare-table .ag-center-cols-container .ag-row'))"
+        ".map(r => [Number(r.getAttribute('row-index')), r.querySelector(`[col-id=${col}]`).innerText])", col)
+    return [float(text.replace("\u2212", "-").replace(",", "")) for _, text in sorted(cells)]
+
+
 def test_compare_signals_heatmap_horizon_and_saved_study(page: Any, server: str) -> None:
     from playwright.sync_api import expect
 
@@ -44,7 +52,14 @@ def test_compare_signals_heatmap_horizon_and_saved_study(page: Any, server: str)
     expect(page.locator("#compare-table")).to_contain_text("Earnings yield".lower(), ignore_case=True)
     # three signals: a 3 x 3 heat map with a value in every cell
     expect(page.locator("#compare-heatmap .yaxislayer-above g.ytick")).to_have_count(3)
-    expect(page.locator("#compare-table tbody tr")).to_have_count(3)
+    expect(page.locator("#compare-table .ag-center-cols-container .ag-row")).to_have_count(3)
+    # a data grid: the signal pinned, and a number column sorts as numbers (ascending, then descending)
+    expect(page.locator("#compare-table .ag-pinned-left-cols-container .ag-row")).to_have_count(3)
+    for order in ("ascending", "descending"):
+        page.locator("#compare-table .ag-header-cell[col-id=mean_ic] .ag-header-cell-label").click()
+        expect(page.locator(f"#compare-table .ag-header-cell[col-id=mean_ic][aria-sort={order}]")).to_have_count(1)
+        shown = _column_in_row_order(page, "mean_ic")
+        assert len(shown) == 3 and shown == sorted(shown, reverse=order == "descending"), shown
     # the horizon control redraws the bar chart for that horizon
     page.locator("#compare-horizon label", has_text="12 m").click()
     expect(page.locator("#compare-ic .gtitle")).to_contain_text("12 months")
@@ -53,7 +68,7 @@ def test_compare_signals_heatmap_horizon_and_saved_study(page: Any, server: str)
     page.locator("#compare-signals label", has_text="Composite").click()
     page.locator("#compare-run").click()
     expect(page.locator("#compare-heatmap .yaxislayer-above g.ytick")).to_have_count(2)
-    expect(page.locator("#compare-table tbody tr")).to_have_count(2)
+    expect(page.locator("#compare-table .ag-center-cols-container .ag-row")).to_have_count(2)
     # save the Study page's study under a name and add it to the comparison
     page.locator("#compare-save-name").fill("house view")
     page.locator("#compare-save").click()
@@ -62,11 +77,12 @@ def test_compare_signals_heatmap_horizon_and_saved_study(page: Any, server: str)
     page.get_by_role("option", name="house view").first.click()
     page.keyboard.press("Escape")
     page.locator("#compare-run").click()
-    expect(page.locator("#compare-table tbody tr")).to_have_count(3)
+    expect(page.locator("#compare-table .ag-center-cols-container .ag-row")).to_have_count(3)
     expect(page.locator("#compare-table")).to_contain_text("saved: house view")
     expect(page.locator("#compare-heatmap .yaxislayer-above g.ytick")).to_have_count(3)
     for w in (1280, 1920):
         page.set_viewport_size({"width": w, "height": 1000})
+        page.wait_for_timeout(500)          # the charts and the grid follow the new width
         ARTIFACTS.mkdir(exist_ok=True)
         page.screenshot(path=str(ARTIFACTS / f"compare-{w}.png"), full_page=True)
 
