@@ -50,7 +50,8 @@ def compare_ic_figure(cmp: CompareResult, horizon: int) -> go.Figure:
     fig = base_figure(title, "Each signal on its own dates; labels: headline t and dates")
     ic = t["mean_ic"].to_numpy(dtype=float)
     labels = chart_texts([signal_words(s) for s in t["signal"]])
-    notes = [("too short to judge" if bool(s) else f"t = {fmt_num(v, 1)}") + f", {int(n)} dates"
+    # two short lines, so a label is no wider than its bar and never runs into the axis or its neighbour
+    notes = [("too short to judge" if bool(s) else f"t = {fmt_num(v, 1)}") + f"<br>{int(n)} dates"
              for v, s, n in zip(t["ic_t"], t["too_short"], t["n_dates"])]
     fig.add_trace(go.Bar(x=labels, y=ic, marker_color=[CHEAP if v >= 0 else DEAR for v in np.nan_to_num(ic)],
                          text=notes, textposition="outside", cliponaxis=False, name="mean rank IC",
