@@ -85,7 +85,12 @@ def test_save_change_and_reopen_a_study(page: Any, server: str) -> None:
 def test_compare_and_stability_show_their_progress(page: Any, server: str) -> None:
     from playwright.sync_api import expect
 
+    # settings no study of this server has used (a comparison of studies already in memory finishes before
+    # the page's first look at its progress)
     page.goto(server + "/compare")
+    settings = _settings(page) or {}
+    page.evaluate("(s) => localStorage.setItem('vs-settings', s)", json.dumps({**settings, "n_quantiles": 7}))
+    page.reload()
     page.evaluate(_WATCH, "compare-progress-text")
     page.locator("#compare-run").click()
     expect(page.locator("#compare-heatmap .yaxislayer-above g.ytick")).to_have_count(3)
