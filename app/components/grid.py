@@ -8,12 +8,22 @@ a text filter; the identifier column is pinned on the left.
 
 from __future__ import annotations
 
+import math
 from typing import Any, Iterable, Mapping, Sequence
 
-__all__ = ["grid_columns", "number_formatter", "DEFAULT_FORMAT"]
+__all__ = ["grid_columns", "grid_number", "number_formatter", "DEFAULT_FORMAT"]
 
 #: decimals and percent of a numeric column with no format of its own
 DEFAULT_FORMAT: tuple[int, bool] = (2, False)
+
+
+def grid_number(v: Any) -> float | None:
+    """A row's number for the grid: a finite float, or None (drawn blank) for anything missing or not a number."""
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return None
+    return f if math.isfinite(f) else None
 
 
 def number_formatter(decimals: int, percent: bool, *, blank_from: str | None = None,

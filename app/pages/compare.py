@@ -17,7 +17,7 @@ from dash import Input, Output, State, dcc, html, no_update
 from valuesift.app.bundle.stability_text import compare_sentences, evidence_phrase
 from valuesift.app.compare_service import compare_result, start_compare
 from valuesift.app.components.common import field, panel_choices
-from valuesift.app.components.grid import grid_columns
+from valuesift.app.components.grid import grid_columns, grid_number
 from valuesift.app.components.graphs import graph_card, height_style
 from valuesift.app.figures.compare import compare_ic_figure, correlation_heatmap_figure, joint_fm_figure, signal_words
 from valuesift.app.jobs_ui import alert, job_components
@@ -237,20 +237,12 @@ def table_columns() -> list[dict[str, Any]]:
     return cols
 
 
-def _number(v: Any) -> float | None:
-    try:
-        x = float(v)
-    except (TypeError, ValueError):
-        return None
-    return x if x == x and abs(x) != float("inf") else None
-
-
 def table_records(cmp: Any, h: int) -> list[dict[str, Any]]:
     """One grid row per signal at horizon ``h``: numbers as numbers (missing as empty), words for the rest."""
     t = cmp.table[cmp.table["horizon"] == h]
     rows = []
     for _, r in t.iterrows():
-        row: dict[str, Any] = {c: _number(r.get(c)) for c, _, kind in _COLUMNS if kind == "numeric"}
+        row: dict[str, Any] = {c: grid_number(r.get(c)) for c, _, kind in _COLUMNS if kind == "numeric"}
         row.update(signal=signal_words(r["signal"]), verdict=evidence_phrase(r["evidence"]))
         rows.append(row)
     return rows

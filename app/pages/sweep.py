@@ -26,7 +26,7 @@ from dash import Input, Output, State, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
 from valuesift.app.components.common import field, panel_choices
-from valuesift.app.components.grid import grid_columns
+from valuesift.app.components.grid import grid_columns, grid_number
 from valuesift.app.figures.sweep import sweep_heatmap_figure
 from valuesift.app.jobs_ui import alert, job_components
 from valuesift.app.services import normalise_selection, state
@@ -360,12 +360,7 @@ def table_records(result: Any) -> list[dict[str, Any]]:
         row["horizon"] = int(rec["horizon"])
         row["status"] = _STATUS_WORDS.get(str(rec["status"]), str(rec["status"]))
         for c in metrics:
-            x = rec[c]
-            try:
-                f = float(x)
-            except (TypeError, ValueError):
-                f = math.nan
-            row[c] = f if math.isfinite(f) else None
+            row[c] = grid_number(rec[c])
         row["error"] = "" if rec["error"] is None or (isinstance(rec["error"], float) and math.isnan(rec["error"])) \
             else str(rec["error"])
         rows.append(row)

@@ -16,8 +16,8 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 import pandas as pd
 
-from valuesift.core.errors import ConfigError
 from valuesift.core.correlation.decay import half_life, ic_decay, rank_autocorrelation
+from valuesift.core.errors import ConfigError
 from valuesift.core.inference.nonoverlap import headline_block
 from valuesift.core.panel import Panel
 from valuesift.core.portfolio.capweight import cap_weighted_monthly, cap_weighted_quantile_means
