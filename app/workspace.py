@@ -60,10 +60,12 @@ from valuesift.core.intake import ParsedFile, ReadOptions, read_table
 from valuesift.core.intake.report import FileReport
 
 __all__ = ["user_data_dir", "nothing_usable", "DatasetRecord", "Workspace", "SharedDatasetError", "options_to_dict", "options_from_dict",
-           "report_to_dict", "report_from_dict", "atomic_write_bytes", "ORPHAN_AGE_S"]
+           "report_to_dict", "report_from_dict", "atomic_write_bytes", "ORPHAN_AGE_S", "UNDO_S"]
 
 #: a raw or data file no catalogue row names is removed at open once it is this old (seconds)
 ORPHAN_AGE_S = 60.0
+#: a dataset removed in the dashboard can be brought back for this long (seconds); then it is deleted for good
+UNDO_S = 600.0
 
 
 class SharedDatasetError(ValueSiftError):
@@ -82,7 +84,8 @@ CREATE TABLE IF NOT EXISTS datasets (
     status TEXT NOT NULL,
     error TEXT,
     demo INTEGER NOT NULL DEFAULT 0,
-    owner TEXT NOT NULL DEFAULT ''
+    owner TEXT NOT NULL DEFAULT '',
+    removed_at REAL
 );
 CREATE TABLE IF NOT EXISTS settings (key TEXT PRIMARY KEY, value TEXT NOT NULL);
 """
@@ -270,6 +273,9 @@ class Workspace:
             cols = {r[1] for r in con.execute("PRAGMA table_info(datasets)").fetchall()}
             if "owner" not in cols:  # a workspace made before owners existed: its rows are shared
                 con.execute("ALTER TABLE datasets ADD COLUMN owner TEXT NOT NULL DEFAULT ''")
+            if "removed_at" not in cols:  # made before removal could be undone: nothing is removed
+                con.execute("ALTER TABLE datasets ADD COLUMN removed_at REAL")
+        self.purged_removed = self.purge_removed()
         self.removed_temp_files = self._remove_temp_files()
         self.removed_orphans = self._remove_orphans()
 
@@ -367,6 +373,7 @@ class Workspace:
         sha = hashlib.sha256(raw).hexdigest()
         with self._connect() as con:
             rows = con.execute("SELECT * FROM datasets WHERE sha256 = ? AND status = 'ok' AND owner IN (?, '') "
+                               "AND removed_at IS NULL "
                                "ORDER BY (owner = ?) DESC, uploaded_at DESC", (sha, owner, owner)).fetchall()
         return self._record(rows[0]) if rows else None
 
@@ -438,6 +445,45 @@ class Workspace:
             raise
         return self.get(did)
 
+    def remove(self, dataset_id: str, *, owner: str | None = None, now: float | None = None) -> DatasetRecord:
+        """Take a dataset out of the workspace so that :meth:`restore` can bring it back for :data:`UNDO_S`.
+
+        Its files stay until then; it is no longer listed, read or found as an identical upload.  Same
+        owner rules as :meth:`delete`.  Datasets removed longer ago are deleted for good on the way.
+        """
+        now = time.time() if now is None else now
+        with self._lock:
+            rec = self.get(dataset_id, owner=owner)
+            if owner is not None and rec.owner != owner:
+                raise SharedDatasetError(f"{rec.name} is shared by every browser of this dashboard, so it cannot be "
+                                         "removed here.", hint="Untick it to leave it out of your studies.")
+            with self._connect() as con:
+                con.execute("UPDATE datasets SET removed_at = ? WHERE id = ?", (now, dataset_id))
+            self.purge_removed(now=now)
+        return rec
+
+    def restore(self, dataset_id: str, *, owner: str | None = None) -> DatasetRecord:
+        """Bring back a dataset taken out by :meth:`remove`; KeyError when it is gone for good (or not the owner's)."""
+        with self._lock:
+            with self._connect() as con:
+                row = con.execute("SELECT owner FROM datasets WHERE id = ? AND removed_at IS NOT NULL",
+                                  (str(dataset_id),)).fetchone()
+                if row is None or (owner is not None and row["owner"] != owner):
+                    raise KeyError(dataset_id)
+                con.execute("UPDATE datasets SET removed_at = NULL WHERE id = ?", (str(dataset_id),))
+            return self.get(dataset_id, owner=owner)
+
+    def purge_removed(self, *, older_than: float = UNDO_S, now: float | None = None) -> int:
+        """Delete for good the datasets removed more than ``older_than`` seconds ago; how many."""
+        now = time.time() if now is None else now
+        with self._lock:
+            with self._connect() as con:
+                ids = [r[0] for r in con.execute("SELECT id FROM datasets WHERE removed_at IS NOT NULL AND "
+                                                 "removed_at <= ?", (now - older_than,)).fetchall()]
+            for did in ids:
+                self._delete_row(did)
+        return len(ids)
+
     def delete(self, dataset_id: str, *, keep_raw: bool = False, owner: str | None = None) -> None:
         """Remove a dataset (and its raw bytes when no other dataset uses them).
 
@@ -449,12 +495,19 @@ class Workspace:
             if owner is not None and rec.owner != owner:
                 raise SharedDatasetError(f"{rec.name} is shared by every browser of this dashboard, so it cannot be "
                                          "deleted here.", hint="Untick it to leave it out of your studies.")
+            self._delete_row(dataset_id, keep_raw=keep_raw)
+
+    def _delete_row(self, dataset_id: str, *, keep_raw: bool = False) -> None:
+        with self._lock:
             with self._connect() as con:
+                row = con.execute("SELECT sha256 FROM datasets WHERE id = ?", (dataset_id,)).fetchone()
+                if row is None:
+                    return
                 con.execute("DELETE FROM datasets WHERE id = ?", (dataset_id,))
-                others = con.execute("SELECT COUNT(*) FROM datasets WHERE sha256 = ?", (rec.sha256,)).fetchone()[0]
+                others = con.execute("SELECT COUNT(*) FROM datasets WHERE sha256 = ?", (row[0],)).fetchone()[0]
             self._data_path(dataset_id).unlink(missing_ok=True)
             if not keep_raw and others == 0:
-                self._raw_path(rec.sha256).unlink(missing_ok=True)
+                self._raw_path(row[0]).unlink(missing_ok=True)
 
     # -- reading -----------------------------------------------------------------------
     def _record(self, row: Any) -> DatasetRecord:
@@ -468,7 +521,8 @@ class Workspace:
     def get(self, dataset_id: str, *, owner: str | None = None) -> DatasetRecord:
         """One dataset; with ``owner``, KeyError unless it is that owner's or shared."""
         with self._connect() as con:
-            row = con.execute("SELECT * FROM datasets WHERE id = ?", (str(dataset_id),)).fetchone()
+            row = con.execute("SELECT * FROM datasets WHERE id = ? AND removed_at IS NULL",
+                              (str(dataset_id),)).fetchone()
         if row is None or (owner is not None and row["owner"] not in ("", owner)):
             raise KeyError(dataset_id)
         return self._record(row)
@@ -477,9 +531,10 @@ class Workspace:
         """All datasets (with ``owner``: that owner's and the shared ones), newest first."""
         with self._connect() as con:
             if owner is None:
-                rows = con.execute("SELECT * FROM datasets ORDER BY uploaded_at DESC, rowid DESC").fetchall()
+                rows = con.execute("SELECT * FROM datasets WHERE removed_at IS NULL "
+                                   "ORDER BY uploaded_at DESC, rowid DESC").fetchall()
             else:
-                rows = con.execute("SELECT * FROM datasets WHERE owner IN ('', ?) "
+                rows = con.execute("SELECT * FROM datasets WHERE owner IN ('', ?) AND removed_at IS NULL "
                                    "ORDER BY uploaded_at DESC, rowid DESC", (owner,)).fetchall()
         return [self._record(r) for r in rows]
 

@@ -18,6 +18,8 @@ from valuesift.app.figures.common import message_figure
 from valuesift.app.figures.data import coverage_figure
 from valuesift.app.jobs_ui import alert
 from valuesift.app.services import current_owner, normalise_selection, selection_key, state
+from valuesift.app.words import SECURITY_FLAG_WORDS, reason_words
+from valuesift.app.workspace import UNDO_S
 from valuesift.core.errors import ValueSiftError
 from valuesift.core.intake import ReadOptions
 from valuesift.core.intake.options import READ_CHOICES
@@ -46,6 +48,11 @@ def layout(**_: Any) -> html.Div:
                          placeholder="detect from each file's name and header", className="vs-upload-kind"),
         ]),
         dcc.Loading(html.Div(id=f"{P}-upload-alert"), type="dot"),
+        dcc.Store(id=f"{P}-removed"),
+        html.Div(id=f"{P}-undo-box", hidden=True, className="vs-alert vs-alert-info vs-undo", role="status", children=[
+            html.Span(id=f"{P}-undo-text"),
+            html.Button("Undo", id=f"{P}-undo", n_clicks=0, className="vs-button vs-button-quiet"),
+        ]),
         html.P(["Files are kept in the workspace folder ", html.Code(str(state().workspace.root), id=f"{P}-workspace"),
                 ": they are here again after a restart (start the server with --workspace to use another folder)."],
                className="vs-hint"),
@@ -252,23 +259,59 @@ def _reread_with(did: str, opts: Any, sel_raw: Any, version: Any) -> Any:
 
 @dash.callback(
     Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
-    Output(f"{P}-upload-alert", "children", allow_duplicate=True),
+    Output(f"{P}-upload-alert", "children", allow_duplicate=True), Output(f"{P}-removed", "data"),
     Input({"type": "ds-delete", "id": ALL}, "n_clicks"),
     State("vs-selection", "data"), State(f"{P}-version", "data"),
     prevent_initial_call=True,
 )
 def _delete(clicks: Any, sel_raw: Any, version: Any) -> Any:
+    """Remove answers at once and can be undone for ten minutes (the files stay until then)."""
     did = _triggered(clicks)
     st = state()
     try:
-        st.workspace.delete(did, owner=current_owner() or "")
+        rec = st.workspace.remove(did, owner=current_owner() or "")
     except KeyError:
         raise PreventUpdate
     except ValueSiftError as err:       # a shared dataset: read-only to every browser
-        return no_update, no_update, alert(str(err), "info")
+        return no_update, no_update, alert(str(err), "info"), no_update
     sel = normalise_selection(sel_raw)
+    removed = {"id": did, "name": rec.name, "in_use": did in sel["ids"]}
     return (_out({"ids": [i for i in sel["ids"] if i != did], "splits": sel["splits"]}), int(version or 0) + 1,
-            None)
+            None, removed)
+
+
+@dash.callback(
+    Output(f"{P}-undo-box", "hidden"), Output(f"{P}-undo-text", "children"),
+    Input(f"{P}-removed", "data"),
+)
+def _undo_offer(removed: Any) -> Any:
+    if not isinstance(removed, dict) or not removed.get("id"):
+        return True, ""
+    return False, (f"{removed.get('name', 'The file')} was removed. You can bring it back with its reading "
+                   f"choices for the next {UNDO_S / 60:.0f} minutes.")
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
+    Output(f"{P}-upload-alert", "children", allow_duplicate=True),
+    Output(f"{P}-removed", "data", allow_duplicate=True),
+    Input(f"{P}-undo", "n_clicks"),
+    State(f"{P}-removed", "data"), State("vs-selection", "data"), State(f"{P}-version", "data"),
+    prevent_initial_call=True,
+)
+def _undo(clicks: Any, removed: Any, sel_raw: Any, version: Any) -> Any:
+    if not clicks or not isinstance(removed, dict) or not removed.get("id"):
+        raise PreventUpdate
+    name = str(removed.get("name", "The file"))
+    try:
+        rec = state().workspace.restore(str(removed["id"]), owner=current_owner() or "")
+    except KeyError:
+        return no_update, no_update, alert(f"{name} can no longer be brought back (it was removed more than "
+                                           f"{UNDO_S / 60:.0f} minutes ago). Drop the file again."), None
+    sel = normalise_selection(sel_raw)
+    if removed.get("in_use"):
+        sel = _with(sel, rec)
+    return _out(sel), int(version or 0) + 1, alert(f"{name} is back.", "info"), None
 
 
 @dash.callback(
@@ -312,20 +355,27 @@ def _panel_view(sel_raw: Any, _v: Any) -> Any:
     except ValueSiftError as err:
         return empty, None, alert(str(err)), None, [], []
     rep = panel.report
-    summary: list[Any] = []
+    kinds = {o["value"]: o["label"] for o in KIND_OPTIONS}
+    in_use = []
+    for did in st.usable_ids(sel):
+        rec = st.workspace.get(did, owner=current_owner())
+        in_use.append(f"{rec.name} ({kinds.get(rec.kind or '', rec.kind or 'file')})")
+    summary: list[Any] = [html.P("In use: " + "; ".join(in_use) + ".", id=f"{P}-in-use", className="vs-hint")]
     if rep is not None:
         sec = rep.securities
         flags: dict[str, int] = {}
         for f in sec["flags"].fillna("").astype(str):
             for x in filter(None, f.split(";")):
                 flags[x] = flags.get(x, 0) + 1
-        summary.append(text_table([(k.replace("_", " "), v) for k, v in sorted(flags.items())],
-                                  ["flag", "securities"]))
+        if flags:
+            summary.append(text_table([(SECURITY_FLAG_WORDS.get(k, k.replace("_", " ")), v)
+                                       for k, v in sorted(flags.items())], ["What was noticed", "Securities"]))
         al = rep.alignment
         if al is not None and len(al):
             summary.append(html.H4("Set aside while aligning to month-ends"))
-            summary.append(text_table(al[["file", "reason", "count"]].itertuples(index=False, name=None),
-                                      ["file", "reason", "count"]))
+            summary.append(text_table([(f, reason_words(r), c) for f, r, c in
+                                       al[["file", "reason", "count"]].itertuples(index=False, name=None)],
+                                      ["File", "Why", "Values"]))
         if rep.panel_notes:
             summary.append(html.Ul([html.Li(n) for n in rep.panel_notes], className="vs-notes-list"))
     splits = rep.suspected_splits if rep is not None else None

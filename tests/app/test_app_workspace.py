@@ -77,6 +77,33 @@ def test_delete_removes_unshared_files(tmp_path: Path) -> None:
     assert not any((tmp_path / "raw").iterdir()) and not any((tmp_path / "data").iterdir())
 
 
+def test_remove_can_be_undone_until_it_is_purged(tmp_path: Path) -> None:
+    from valuesift.app.workspace import UNDO_S, SharedDatasetError
+
+    ws = Workspace(tmp_path)
+    shared = ws.add_upload("shared prices.csv", PRICES.replace(b"QZA01", b"QZC03"))
+    assert shared.ok
+    rec = ws.add_upload("prices.csv", PRICES, owner="s1")
+    ws.remove(rec.id, owner="s1")
+    assert [r.id for r in ws.records(owner="s1")] == [shared.id]     # no longer listed, read or found
+    with pytest.raises(KeyError):
+        ws.get(rec.id)
+    assert ws.find_upload(PRICES, owner="s1") is None
+    with pytest.raises(KeyError):                                      # another session cannot bring it back
+        ws.restore(rec.id, owner="s2")
+    with pytest.raises(SharedDatasetError):                            # shared data stays read-only
+        ws.remove(shared.id, owner="s1")
+    back = Workspace(tmp_path).restore(rec.id, owner="s1")             # after a restart within the undo time too
+    assert back.id == rec.id and ws.parsed_file(rec.id).data.shape[0] > 0
+    # removed again and left beyond the undo time: deleted for good with its files
+    ws.remove(rec.id, owner="s1", now=1_000.0)
+    assert ws.purge_removed(now=1_000.0 + UNDO_S + 1) == 1
+    with pytest.raises(KeyError):
+        ws.restore(rec.id, owner="s1")
+    assert not (tmp_path / "data" / f"{rec.id}.parquet").exists()
+    assert not (tmp_path / "raw" / f"{rec.sha256}.bin").exists()
+
+
 def test_options_and_report_round_trip() -> None:
     o = ReadOptions(kind="prices", exclude_columns=("A", "B"), header_row=3, date_order="dmy")
     assert options_from_dict(options_to_dict(o)) == o

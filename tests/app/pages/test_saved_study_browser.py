@@ -14,13 +14,22 @@ pytestmark = pytest.mark.browser
 
 WAIT = 120_000   # ms; a generous upper bound for a slow, shared machine, not a speed check
 
-# Records every text the page's progress line shows, so a test can tell the job reported progress even
-# when it finished between two looks.
+# Records every text the page's progress line shows (its first text too), so a test can tell the job reported
+# progress even when it finished between two looks. Installed with add_init_script, it runs before the page's
+# own scripts on each later navigation, so a job that starts with the page's first render is not missed.
 _WATCH = """(id) => { window.vsSeen = window.vsSeen || {}; window.vsSeen[id] = [];
-  const watch = () => { const el = document.getElementById(id); if (!el) { return setTimeout(watch, 20); }
-    new MutationObserver(() => window.vsSeen[id].push(el.textContent)).observe(el, {childList: true,
-      characterData: true, subtree: true}); };
-  watch(); }"""
+  const seen = window.vsSeen[id];
+  // watches the whole document, not one node: the page's renderer may replace the element after a first render
+  const look = () => { const el = document.getElementById(id);
+    if (el && (seen.length === 0 || seen[seen.length - 1] !== el.textContent)) { seen.push(el.textContent); } };
+  const start = () => { if (!document.documentElement) { return setTimeout(start, 5); }
+    new MutationObserver(look).observe(document.documentElement, {childList: true, characterData: true,
+      subtree: true}); look(); };
+  start(); }"""
+
+
+def _watch_next_page(pg: Any, element_id: str) -> None:
+    pg.add_init_script(f"({_WATCH})({json.dumps(element_id)})")
 
 
 @pytest.fixture(scope="module")
@@ -90,8 +99,8 @@ def test_compare_and_stability_show_their_progress(page: Any, server: str) -> No
     page.goto(server + "/compare")
     settings = _settings(page) or {}
     page.evaluate("(s) => localStorage.setItem('vs-settings', s)", json.dumps({**settings, "n_quantiles": 7}))
+    _watch_next_page(page, "compare-progress-text")
     page.reload()
-    page.evaluate(_WATCH, "compare-progress-text")
     page.locator("#compare-run").click()
     expect(page.locator("#compare-heatmap .yaxislayer-above g.ytick")).to_have_count(3)
     seen = page.evaluate("window.vsSeen['compare-progress-text']")
@@ -102,8 +111,8 @@ def test_compare_and_stability_show_their_progress(page: Any, server: str) -> No
     # the stability page's study with settings not run before: its progress line moves, then the charts
     settings = _settings(page) or {}
     page.evaluate("(s) => localStorage.setItem('vs-settings', s)", json.dumps({**settings, "n_quantiles": 9}))
+    _watch_next_page(page, "stab-progress-text")
     page.goto(server + "/stability")
-    page.evaluate(_WATCH, "stab-progress-text")
     expect(page.locator("#stab-relative")).to_contain_text("Information ratio")
     expect(page.locator("#stab-progress-box")).to_be_hidden()
     expect(page.locator("#stab-decay .bars path").first).to_be_attached()
