@@ -102,8 +102,12 @@ def sector_sentences(result: StudyResult, horizon: int) -> list[str]:
     s = s[s["horizon"] == int(horizon)]
     ok = s[s["judged"].astype(bool) & ~s["too_short"].astype(bool)]
     small = int((~s["judged"].astype(bool)).sum())
-    out = [f"Inside the sectors (each ranked among its own names), the mean rank IC at {horizon} months was above "
-           f"zero in {int((ok['mean_ic'] > 0).sum())} of {len(ok)} sectors that can be judged."]
+    if len(ok):
+        out = [f"Inside the sectors (each ranked among its own names), the mean rank IC at {horizon} months was "
+               f"above zero in {int((ok['mean_ic'] > 0).sum())} of {len(ok)} sectors that can be judged."]
+    else:
+        out = [f"No sector can be judged on its own at {horizon} months: none had enough names on enough dates, "
+               "so the signal is not split by sector here."]
     if len(ok):
         lo, hi = ok.loc[ok["mean_ic"].idxmin()], ok.loc[ok["mean_ic"].idxmax()]
         out.append(f"The weakest was {lo['sector']} ({fmt_num(lo['mean_ic'], 3)}, t = {fmt_num(lo['ic_t'], 2)}), the "
@@ -156,6 +160,11 @@ def controls_sentences(result: StudyResult, horizon: int) -> list[str]:
     r = c[c["horizon"] == int(horizon)].iloc[0]
     if r["controls"] == "none":
         return ["No control could be built from the files given."]
+    if int(r.get("n_dates_with", 0) or 0) == 0:
+        return [f"With {r['controls']} in the same monthly regressions, the slope on the signal at {horizon} months "
+                "cannot be estimated: no date had enough names with every control for a regression with that many "
+                f"terms. Without the controls it is {fmt_num(r['slope_without'], 4)} "
+                f"(t = {fmt_num(r['t_without'], 2)})."]
     verdict = evidence_phrase(r["evidence_with"])
     return [f"With {r['controls']} in the same monthly regressions, the slope on the signal at {horizon} months is "
             f"{fmt_num(r['slope_with'], 4)} (t = {fmt_num(r['t_with'], 2)}: {verdict}) against "

@@ -11,7 +11,7 @@ from __future__ import annotations
 import math
 from typing import Any, Iterable, Mapping, Sequence
 
-__all__ = ["grid_columns", "grid_number", "number_formatter", "DEFAULT_FORMAT"]
+__all__ = ["grid_columns", "grid_number", "header_min_width", "number_formatter", "DEFAULT_FORMAT"]
 
 #: decimals and percent of a numeric column with no format of its own
 DEFAULT_FORMAT: tuple[int, bool] = (2, False)
@@ -43,6 +43,13 @@ def number_formatter(decimals: int, percent: bool, *, blank_from: str | None = N
     return {"function": f"params.value == null ? {missing} : {shown}"}
 
 
+def header_min_width(header: str, *, least: int = 90) -> int:
+    """Pixels a column needs so that its header wraps only between words: the longest word at about 9 px a
+    character (14 px DejaVu Sans) plus room for the sort and filter icons and the cell padding."""
+    longest = max((len(w) for w in str(header).split()), default=0)
+    return max(least, 9 * longest + 60)
+
+
 def grid_columns(columns: Iterable[Sequence[str]], *, pinned: str | None = None, hidden: Iterable[str] = (),
                  formats: Mapping[str, tuple[int, bool]] | None = None,
                  notes: Mapping[str, str] | None = None, p_values: Iterable[str] = ()) -> list[dict[str, Any]]:
@@ -72,12 +79,14 @@ def grid_columns(columns: Iterable[Sequence[str]], *, pinned: str | None = None,
             dec, pct = formats.get(cid, DEFAULT_FORMAT)
             col.update(filter="agNumberColumnFilter", type="numericColumn",
                        valueFormatter=number_formatter(dec, pct, blank_from=notes.get(cid), p_value=cid in probs),
-                       filterParams={"buttons": ["reset"], "maxNumConditions": 2})
+                       filterParams={"buttons": ["reset"], "maxNumConditions": 2},
+                       # a note shown in place of a missing number ("not meaningful") needs a text's width
+                       minWidth=header_min_width(head, least=140 if cid in notes else 90))
         else:
             col.update(filter="agTextColumnFilter", filterParams={"buttons": ["reset"], "maxNumConditions": 2},
-                       wrapText=True, autoHeight=True, minWidth=140)
+                       wrapText=True, autoHeight=True, minWidth=header_min_width(head, least=140))
         if cid == pinned:
-            col.update(pinned="left", lockPinned=True, cellClass="vs-grid-id", minWidth=120)
+            col.update(pinned="left", lockPinned=True, cellClass="vs-grid-id", minWidth=header_min_width(head, least=120))
         if cid in hide:
             col["hide"] = True
         out.append(col)

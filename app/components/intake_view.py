@@ -79,10 +79,14 @@ def _frame_rows(v: Any) -> tuple[list[str], list[list[Any]]]:
 
 
 def _in_words(cols: list[str], rows: list[list[Any]]) -> tuple[list[str], list[list[Any]]]:
-    """A report table with its reason codes in words."""
+    """A report table with its reason codes in words and the file's own column names quoted, as the notes quote
+    them (a name such as eps_ttm is the file's, not a word of ours)."""
     if rows and "reason" in cols:
         k = cols.index("reason")
         rows = [[reason_words(v) if j == k else v for j, v in enumerate(row)] for row in rows]
+    if rows and "column" in cols:
+        k = cols.index("column")
+        rows = [[f"'{v}'" if j == k and isinstance(v, str) and v else v for j, v in enumerate(row)] for row in rows]
     return cols, rows
 
 

@@ -82,6 +82,9 @@ def sectors_figure(result: StudyResult, horizon: int) -> go.Figure:
     if s is None or s.empty:
         return message_figure(title, "No sectors file was given, so there is nothing to split by sector.")
     s = s[s["horizon"] == int(horizon)]
+    if not s["judged"].astype(bool).any():    # nothing to draw: every bar would be empty
+        return message_figure(title, f"None of the {len(s)} sectors had enough names on a date to rank the signal "
+                                     "inside it, so no sector can be judged on its own.")
     names = [f"{n} ({fmt_num(b, 0)} names)" if j else f"{n} (too small to judge)"
              for n, b, j in zip(s["sector"], s["mean_breadth"], s["judged"])]
     sub = ("Within each sector: the rank IC and quantile spread among its own names only (the sector bet left out); "

@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 import dash
+import pandas as pd
 from dash import Input, Output, State, dcc, html, no_update
 
 from valuesift.app.components.common import GRAPH_CONFIG, text_table
@@ -44,7 +45,7 @@ def layout(code: str | None = None, **_: Any) -> html.Div:
         html.Div(className="vs-card vs-chart", children=[dcc.Graph(id=f"{P}-signal", config=GRAPH_CONFIG)]),
         html.Div(className="vs-card vs-chart", children=[dcc.Graph(id=f"{P}-returns", config=GRAPH_CONFIG)]),
         html.P(SINGLE_NAME_CAUTION, className="vs-hint"),
-        html.H2("Data flags"),
+        html.H2("The data behind this name"),
         html.Div(id=f"{P}-flags"),
     ])
 
@@ -97,7 +98,7 @@ def _company(job: Any, horizon: Any, security: Any, sel: Any) -> Any:
             facts.append(f"quantile {row['quantile_label']} on {res.screen.attrs.get('date')}")
     flags = []
     if row is not None and row["flags"]:
-        flags.append(("screen", row["flags"]))
+        flags.append(("noticed on the screen", row["flags"]))
     try:
         panel = st.panel(normalise_selection(sel))
         rep = panel.report
@@ -109,8 +110,11 @@ def _company(job: Any, horizon: Any, security: Any, sel: Any) -> Any:
                     v = security_flag_words(v) or "none"
                 elif k == "coverage" and isinstance(v, float):
                     v = f"{v:.1%}"
+                if v is None or (not isinstance(v, str) and pd.isna(v)) or v == "":
+                    continue          # nothing to say (no suspected split, say): left out, not shown blank
                 flags.append((SECURITY_COLUMN_WORDS.get(k, k.replace("_", " ")), v))
     except Exception:  # flags are a convenience; the Data page shows intake problems
         pass
     return (signal_history_figure(res, sec), later_returns_figure(res, sec, h), ", ".join(facts),
-            text_table(flags, ["item", "value"]) if flags else html.P("No flags.", className="vs-hint"))
+            text_table(flags, class_name="vs-table vs-kv") if flags
+            else html.P("The intake noticed nothing about this name.", className="vs-hint"))

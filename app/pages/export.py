@@ -10,6 +10,7 @@ from dash.exceptions import PreventUpdate
 
 from valuesift.app.bundle import CHARTS, NO_BROWSER_HINT, TABLES, find_browser
 from valuesift.app.bundle.jobs import get_export, start_export
+from valuesift.app.bundle.text import universe_words
 from valuesift.app.compare_service import last_comparison
 from valuesift.app.components.common import field
 from valuesift.app.figures.common import span
@@ -78,7 +79,9 @@ def layout(**_: Any) -> html.Div:
             field("Charts", dcc.Checklist(id=f"{P}-charts", value=[c.key for c in CHARTS],
                                           options=[{"label": c.title, "value": c.key} for c in CHARTS])),
             field("Tables", dcc.Checklist(id=f"{P}-tables", value=list(TABLES),
-                                          options=[{"label": f"{k}: {v}", "value": k} for k, v in TABLES.items()])),
+                                          options=[{"label": html.Span([v[:1].upper() + v[1:] + " ",
+                                                                                   html.Code(f"{k}.csv")]),
+                                                                    "value": k} for k, v in TABLES.items()])),
             field("A finished sweep to include (heat map, comparison table with adjusted columns)",
                   dcc.Dropdown(id=f"{P}-sweep", options=sweeps, value="", clearable=False,
                                disabled=len(sweeps) == 1)),
@@ -118,9 +121,9 @@ def _study(job: Any, current: Any) -> Any:
     uni = res.universe.sum(axis=1)
     used = uni[uni > 0]
     line = html.P([
-        "Exporting: ", html.Strong(signal_label(res)), f", universe '{res.config.universe}', horizons ",
+        "Exporting: ", html.Strong(signal_label(res)), f" over {universe_words(res)}, horizons ",
         ", ".join(str(h) for h in hs), f" months, {span(used.index)}, about {used.mean():.0f} names ",
-        f"(study {str(job.get('key'))[-8:]}, as on the Study page).",
+        "(the study as on the Study page).",
     ])
     value = shown_horizon(hs, current)
     return [{"label": f"{h} months", "value": h} for h in hs], value, line

@@ -67,3 +67,25 @@ def test_comparison_figures_and_sentences() -> None:
     assert list(fc.compare_ic_figure(cmp, 3).data[0].y) == list(cmp.table[cmp.table["horizon"] == 3]["mean_ic"])
     text = " ".join(compare_sentences(cmp, 3))
     assert "best of several looks better than it is" in text and "gross of trading costs" in text
+
+
+def test_a_universe_too_small_for_sectors_and_controls_says_so_in_words() -> None:
+    """8 names in 7 sectors: no sector can be ranked inside and the controlled regression (signal, momentum, beta,
+    six sector dummies, intercept) has more terms than names, so the page shows a message and sentences instead of
+    an empty chart and "n/a"."""
+    import dataclasses
+
+    import pandas as pd
+
+    from valuesift.app.bundle.stability_text import controls_sentences, sector_sentences
+
+    panel = make_panel(72, 8, seed=3, ic=0.2)
+    secs = panel.prices.columns
+    panel = dataclasses.replace(panel, sectors=pd.Series([f"Sector {min(i, 6)}" for i in range(8)], index=secs))
+    small = run_study(panel, StudyConfig(horizons=(1, 12), min_breadth=5))
+    fig = fst.sectors_figure(small, 12)
+    assert not fig.data and "None of the 7 sectors had enough names" in fig.layout.annotations[0].text
+    assert sector_sentences(small, 12)[0].startswith("No sector can be judged on its own at 12 months")
+    text = " ".join(controls_sentences(small, 12))
+    assert "n/a" not in text and "nan" not in text
+    assert "cannot be estimated: no date had enough names with every control" in text
