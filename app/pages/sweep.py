@@ -167,30 +167,33 @@ def layout(**_: Any) -> html.Div:
         html.P(id=f"{P}-statement", className="vs-summary"),
         html.P(id=f"{P}-data-note", className="vs-notes"),
         dcc.Graph(id=f"{P}-heatmap", config={"displaylogo": False}, style={"display": "none"}),
-        dag.AgGrid(
-            id=f"{P}-table", columnDefs=[], rowData=[], getRowId="params.data.row_id",
-            columnSize="responsiveSizeToFit",
-            defaultColDef={"resizable": True, "sortable": True, "minWidth": 120, "wrapHeaderText": True,
-                           "autoHeaderHeight": True},
-            dashGridOptions={"pagination": True, "paginationPageSize": 25, "paginationPageSizeSelector": False,
-                             "domLayout": "autoHeight", "tooltipShowDelay": 300,
-                             "suppressColumnVirtualisation": True},   # a small table: every column in the page
-            rowClassRules={"vs-row-cheap": "params.data && params.data.ic_t_bh >= 1.96"},
-            className="ag-theme-quartz vs-grid-table", style={"width": "100%"},
-        ),
-        html.P("Rows shaded blue are significant at 5 % after the Benjamini-Hochberg adjustment. Sort by a column "
-               "from its header; click a row to open that configuration on the Study page.", className="vs-hint"),
-        html.Div(id=f"{P}-open-note", className="vs-notes"),
-        html.Div(id=f"{P}-judged", className="vs-card", children=[
-            html.H2("The best configuration, judged"),
-            html.P(id=f"{P}-deflated", className="vs-summary"),
-            html.P(id=f"{P}-holdout-sentence", className="vs-summary"),
-            dag.AgGrid(id=f"{P}-holdout-table", columnDefs=_holdout_columns(),
-                rowData=[], columnSize="responsiveSizeToFit",
-                defaultColDef={"resizable": True, "sortable": True, "minWidth": 84, "wrapHeaderText": True,
+        # the table and the judged best appear once a sweep is chosen (no empty grid or empty card before)
+        html.Div(id=f"{P}-results", hidden=True, children=[
+            dag.AgGrid(
+                id=f"{P}-table", columnDefs=[], rowData=[], getRowId="params.data.row_id",
+                columnSize="responsiveSizeToFit",
+                defaultColDef={"resizable": True, "sortable": True, "minWidth": 120, "wrapHeaderText": True,
                                "autoHeaderHeight": True},
-                dashGridOptions={"domLayout": "autoHeight"}, className="ag-theme-quartz vs-grid-table",
-                style={"width": "100%"}),
+                dashGridOptions={"pagination": True, "paginationPageSize": 25, "paginationPageSizeSelector": False,
+                                 "domLayout": "autoHeight", "tooltipShowDelay": 300,
+                                 "suppressColumnVirtualisation": True},   # a small table: every column in the page
+                rowClassRules={"vs-row-cheap": "params.data && params.data.ic_t_bh >= 1.96"},
+                className="ag-theme-quartz vs-grid-table", style={"width": "100%"},
+            ),
+            html.P("Rows shaded blue are significant at 5 % after the Benjamini-Hochberg adjustment. Sort by a column "
+                   "from its header; click a row to open that configuration on the Study page.", className="vs-hint"),
+            html.Div(id=f"{P}-open-note", className="vs-notes"),
+            html.Div(id=f"{P}-judged", className="vs-card", children=[
+                html.H2("The best configuration, judged"),
+                html.P(id=f"{P}-deflated", className="vs-summary"),
+                html.P(id=f"{P}-holdout-sentence", className="vs-summary"),
+                dag.AgGrid(id=f"{P}-holdout-table", columnDefs=_holdout_columns(),
+                    rowData=[], columnSize="responsiveSizeToFit",
+                    defaultColDef={"resizable": True, "sortable": True, "minWidth": 84, "wrapHeaderText": True,
+                                   "autoHeaderHeight": True},
+                    dashGridOptions={"domLayout": "autoHeight"}, className="ag-theme-quartz vs-grid-table",
+                    style={"width": "100%"}),
+            ]),
         ]),
         dcc.Location(id=f"{P}-go", refresh=True),
     ])
@@ -415,6 +418,7 @@ def _judged(name: Any) -> Any:
 @dash.callback(
     Output(f"{P}-table", "columnDefs"), Output(f"{P}-table", "rowData"), Output(f"{P}-statement", "children"),
     Output(f"{P}-heatmap", "figure"), Output(f"{P}-data-note", "children"), Output(f"{P}-heatmap", "style"),
+    Output(f"{P}-results", "hidden"),
     Input(f"{P}-pick", "value"), State("vs-selection", "data"),
 )
 def _show(name: Any, sel: Any) -> Any:
@@ -423,9 +427,10 @@ def _show(name: Any, sel: Any) -> Any:
     if res is None:
         msg = ("No finished sweep in this workspace yet." if not list_sweeps(st.workspace.root)
                else "Choose a sweep above.")
-        return [], [], msg, {}, None, {"display": "none"}
+        return [], [], msg, {}, None, {"display": "none"}, True
     rows = table_records(res)
-    return (table_columns(res, rows), rows, res.statement, sweep_heatmap_figure(res), _data_note(st, sel, res), {})
+    return (table_columns(res, rows), rows, res.statement, sweep_heatmap_figure(res), _data_note(st, sel, res), {},
+            False)
 
 
 def _data_note(st: Any, sel: Any, res: Any) -> str:

@@ -45,7 +45,8 @@ def test_sweep_page_lists_the_workspace_sweeps_and_shows_the_table(app_with_swee
         assert {"sweep-pick", "sweep-table", "sweep-heatmap", "sweep-statement", "sweep-go"} <= ids
         pick = next(c for c in _walk(lay) if getattr(c, "id", None) == "sweep-pick")
         assert pick.value == "first"
-        cols, data, statement, fig, note, style = page._show("first", {"ids": []})
+        cols, data, statement, fig, note, style, hidden = page._show("first", {"ids": []})
+        assert hidden is False
         assert style == {}  # the heat map is shown only with a sweep (never an empty chart)
     names = [c["field"] for c in cols]
     # the adjusted columns sit right after the raw HAC t

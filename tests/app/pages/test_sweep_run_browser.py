@@ -69,6 +69,7 @@ def test_a_grid_built_from_the_controls_runs_and_opens_as_a_study(page, server: 
     pg = page
     pg.goto(server + "/sweep")
     expect(pg.locator("#sweep-statement")).to_contain_text("No finished sweep")
+    expect(pg.locator("#sweep-results")).to_be_hidden()      # no empty grid or empty card before a sweep
     expect(pg.locator("#sweep-count")).to_contain_text("1 configuration × 2 horizons = 2 signal tests")
     # an empty control is refused in a sentence naming it, and the button cannot run it
     _tick(pg, "sweep-quantiles", "5", False)
@@ -91,6 +92,7 @@ def test_a_grid_built_from_the_controls_runs_and_opens_as_a_study(page, server: 
     # the picker offers it and the page shows it: 2 configurations x 2 horizons = 4 rows
     expect(pg.locator("#sweep-pick")).to_contain_text("two by two")
     expect(pg.locator("#sweep-statement")).to_contain_text("2 study configurations were tried")
+    expect(pg.locator("#sweep-results")).to_be_visible()
     rows = pg.locator("#sweep-table .ag-center-cols-container .ag-row")
     expect(rows).to_have_count(4)
     pinned = pg.locator("#sweep-table .ag-pinned-left-cols-container .ag-row")
