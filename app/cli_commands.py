@@ -9,6 +9,7 @@ from typing import Any
 
 from valuesift.core.errors import ConfigError, IntakeError
 from valuesift.app.cli_options import add_intake_options, panel_options_from_args, read_options_from_args
+from valuesift.app.paths import user_data_dir
 
 #: File name endings read as data by ``check``; anything else (a README, say) is skipped with a note.
 DATA_SUFFIXES = frozenset({".csv", ".tsv", ".tab", ".txt", ".dat", ".xlsx", ".xlsm", ".parquet", ".pq"})
@@ -108,8 +109,6 @@ def run_demo(args: argparse.Namespace) -> int:
 
 # -- serve ------------------------------------------------------------------------
 def _default_workspace() -> str:
-    from valuesift.app.workspace import user_data_dir
-
     return str(user_data_dir() / "workspace")
 
 

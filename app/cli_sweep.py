@@ -22,7 +22,6 @@ from typing import Any
 
 from valuesift.app.caution import CAUTION
 from valuesift.core.errors import ConfigError
-from valuesift.core.sweep import read_grid, run_sweep, save_sweep
 from valuesift.app.cli_options import add_input_file_arguments, add_intake_options, load_study_panel
 
 __all__ = ["add_sweep", "run_sweep_command"]
@@ -96,6 +95,10 @@ def _client(args: argparse.Namespace, stack: ExitStack) -> Any:
 def run_sweep_command(args: argparse.Namespace) -> int:
     # plotly loads only when a sweep runs: 0.15 s of start-up (python -X importtime, after valuesift.app.cli)
     from valuesift.app.figures.sweep import sweep_heatmap_figure, write_heatmap
+
+    # imported here, not at the top: the sweep engine pulls in scipy.stats and Dask (about 1.4 s), which
+    # `valuesift --help` and every other command do not need
+    from valuesift.core.sweep import read_grid, run_sweep, save_sweep
 
     grid = read_grid(args.grid)
     out = Path(args.out)

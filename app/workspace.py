@@ -43,7 +43,6 @@ import hashlib
 import json
 import os
 import sqlite3
-import sys
 import tempfile
 import threading
 import time
@@ -58,6 +57,7 @@ import pandas as pd
 from valuesift.core.errors import IntakeError, Reason, ValueSiftError
 from valuesift.core.intake import ParsedFile, ReadOptions, read_table
 from valuesift.core.intake.report import FileReport
+from valuesift.app.paths import user_data_dir
 
 __all__ = ["user_data_dir", "nothing_usable", "DatasetRecord", "Workspace", "SharedDatasetError", "options_to_dict", "options_from_dict",
            "report_to_dict", "report_from_dict", "atomic_write_bytes", "ORPHAN_AGE_S", "UNDO_S"]
@@ -92,20 +92,6 @@ CREATE TABLE IF NOT EXISTS settings (key TEXT PRIMARY KEY, value TEXT NOT NULL);
 
 
 # -- serialisation ---------------------------------------------------------------
-def user_data_dir(environ: dict[str, str] | None = None, platform: str | None = None) -> Path:
-    """The user's data folder for ValueSift: ``$XDG_DATA_HOME/valuesift`` (default ``~/.local/share/valuesift``)
-    on Linux, ``~/Library/Application Support/ValueSift`` on macOS, ``%LOCALAPPDATA%\\ValueSift`` on Windows."""
-    env = os.environ if environ is None else environ
-    plat = sys.platform if platform is None else platform
-    if plat.startswith("win"):
-        base = env.get("LOCALAPPDATA") or str(Path.home() / "AppData" / "Local")
-        return Path(base) / "ValueSift"
-    if plat == "darwin":
-        return Path.home() / "Library" / "Application Support" / "ValueSift"
-    base = env.get("XDG_DATA_HOME") or str(Path.home() / ".local" / "share")
-    return Path(base) / "valuesift"
-
-
 def nothing_usable(pf: ParsedFile) -> str:
     """Why a file that was read gave no usable value, in one sentence with its commonest reason and an example."""
     from valuesift.app.words import reason_words
