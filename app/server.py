@@ -38,6 +38,7 @@ from valuesift.app.services import (
     selection_key,
 )
 from valuesift.app.settings import config_from_settings
+from valuesift.app.upload_route import install_upload_route
 from valuesift.app.workspace import Workspace, user_data_dir
 from valuesift.core.demo import write_demo
 from valuesift.core.demo.write import INDEX_COLUMN
@@ -324,6 +325,7 @@ def create_app(workspace: str | Path | None = None, demo: bool = False, *, dev: 
     if token:
         _install_token_guard(server, token)
     _install_sessions(server)
+    install_upload_route(server, st)
 
     @server.before_request
     def _root() -> Any:

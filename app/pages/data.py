@@ -18,6 +18,7 @@ from valuesift.app.figures.common import message_figure
 from valuesift.app.figures.data import coverage_figure
 from valuesift.app.jobs_ui import alert
 from valuesift.app.services import current_owner, normalise_selection, selection_key, state
+from valuesift.app.upload_route import UPLOAD_PATH
 from valuesift.app.words import SECURITY_FLAG_WORDS, reason_words
 from valuesift.app.workspace import UNDO_S
 from valuesift.core.errors import ValueSiftError
@@ -47,6 +48,11 @@ def layout(**_: Any) -> html.Div:
             dcc.Dropdown(id=f"{P}-upload-kind", options=KIND_OPTIONS, value=None, clearable=True,
                          placeholder="detect from each file's name and header", className="vs-upload-kind"),
         ]),
+        # assets/upload.js sends each dropped file straight to the upload route (never base64 in a callback) and
+        # puts the route's answers here; the limit is read by the script to refuse a too-large file at once
+        dcc.Store(id=f"{P}-upload-done"), dcc.Store(id=f"{P}-upload-kind-seen"),
+        html.Div(id=f"{P}-upload-limit", hidden=True, **{"data-max-bytes": str(max_bytes), "data-path": UPLOAD_PATH}),
+        html.Div(id=f"{P}-upload-progress", className="vs-hint", role="status"),
         dcc.Loading(html.Div(id=f"{P}-upload-alert"), type="dot"),
         dcc.Store(id=f"{P}-removed"),
         html.Div(id=f"{P}-undo-box", hidden=True, className="vs-alert vs-alert-info vs-undo", role="status", children=[
@@ -146,6 +152,49 @@ def _upload(contents: Any, names: Any, sel_raw: Any, version: Any, kind: Any = N
     if ok:
         messages.insert(0, alert(f"Read {ok} of {len(contents)} file(s); their reports are below.", "info"))
     return _out(sel), int(version or 0) + 1, messages, None
+
+
+# the kind chosen by the drop area, where the upload script reads it
+dash.clientside_callback(
+    "function(kind) { window.vsUploadKind = kind || ''; return window.dash_clientside.no_update; }",
+    Output(f"{P}-upload-kind-seen", "data"), Input(f"{P}-upload-kind", "value"),
+)
+
+
+@dash.callback(
+    Output("vs-selection", "data", allow_duplicate=True), Output(f"{P}-version", "data", allow_duplicate=True),
+    Output(f"{P}-upload-alert", "children", allow_duplicate=True),
+    Input(f"{P}-upload-done", "data"), State("vs-selection", "data"), State(f"{P}-version", "data"),
+    prevent_initial_call=True,
+)
+def _uploaded(done: Any, sel_raw: Any, version: Any) -> Any:
+    """The upload route's answers for the files just dropped: the read ones join the selection."""
+    results = done.get("results") if isinstance(done, dict) else None
+    if not isinstance(results, list) or not results:
+        raise PreventUpdate
+    st = state()
+    sel = normalise_selection(sel_raw)
+    messages, ok = [], 0
+    for r in results:
+        if not isinstance(r, dict):
+            continue
+        name = str(r.get("name") or "upload")
+        if not r.get("ok"):
+            messages.append(alert(str(r.get("message") or f"{name} could not be read.")))
+            continue
+        try:
+            rec = st.workspace.get(str(r.get("id")), owner=current_owner())
+        except KeyError:
+            messages.append(alert(f"{name} was read but is no longer in the workspace; drop the file again."))
+            continue
+        ok += 1
+        if r.get("known"):
+            messages.append(alert(f"{name} is already loaded (as {r['known']}); it is used as it was read, "
+                                  "with the choices made for it.", "info"))
+        sel = _with(sel, rec)
+    if ok:
+        messages.insert(0, alert(f"Read {ok} of {len(results)} file(s); their reports are below.", "info"))
+    return _out(sel), int(version or 0) + 1, messages
 
 
 @dash.callback(

@@ -91,7 +91,7 @@ def test_upload_the_demo_files(page, server: str, demo_dir: Path) -> None:  # ty
     expect(page.locator("#data-splits")).to_contain_text("applied")
     expect(page.locator("#data-splits")).not_to_contain_text("not applied")
     expect(_title(page, "data-coverage")).to_contain_text("Coverage")
-    expect(page.locator("#data-panel-summary")).to_contain_text("late listing")
+    expect(page.locator("#data-panel-summary")).to_contain_text("listed after the first month")   # flags in words
     # A bad file gets its own specific message; the earlier uploads stay.
     bad = demo_dir.parent / "broken-prices.csv"
     bad.write_bytes(b"")
