@@ -1,0 +1,170 @@
+"""The tidy entries of a series file: its parsed value cells in the order security, date, file order.
+
+A series file's value cells arrive as one status code and one parsed number per
+cell, the value columns one below the other (cell ``k`` is file row ``k % n``
+of value column ``k // n``).  The cells still marked parsed become the entries
+of the tidy table, sorted by security, then date, then file order; of two
+entries for one security and date one is dropped by the duplicate rule (its
+cell marked as a duplicate).
+
+Two routes give the same entries.  When every cell of a value column belongs to
+one security (wide and single-series files) the rows are put in date order once
+and each security's column(s) walked in that order, so no per-cell key or sort
+is built; a long file (a security column) sorts one key per cell.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from valuesift.core.intake import numbers as nb
+from valuesift.core.intake._common import DUP
+
+__all__ = ["Entries", "by_column_entries", "by_key_entries"]
+
+
+@dataclass(frozen=True)
+class Entries:
+    """The kept entries and what the duplicate rule did.
+
+    ``dates`` (the date parser's dtype), ``codes`` (security codes, the
+    smallest integer type that holds them) and ``values`` (float64) are the
+    entries in output order.  ``dates_seen`` holds the distinct dates of all
+    parsed cells (int64 nanoseconds, ascending).  ``first_repeat`` is, under
+    the "error" rule, the first cell in file order that repeats an earlier
+    entry (its index in the stacked cells) and ``first_repeat_code`` its
+    security code; None otherwise.
+    """
+
+    dates: np.ndarray
+    codes: np.ndarray
+    values: np.ndarray
+    dates_seen: np.ndarray
+    n_securities: int
+    n_dropped: int
+    first_repeat: int | None = None
+    first_repeat_code: int | None = None
+
+
+def _code_dtype(n_codes: int) -> type[np.integer]:
+    for t in (np.int8, np.int16, np.int32):
+        if n_codes <= np.iinfo(t).max:
+            return t
+    return np.int64
+
+
+def _repeats(sorted_dates: np.ndarray, rule: str) -> tuple[np.ndarray, np.ndarray]:
+    """Per entry in (date, file) order: repeats an earlier one, and is dropped by ``rule``."""
+    same_next = np.zeros(sorted_dates.size, dtype=bool)
+    if sorted_dates.size > 1:
+        same_next[:-1] = sorted_dates[:-1] == sorted_dates[1:]
+    same_prev = np.zeros(sorted_dates.size, dtype=bool)
+    same_prev[1:] = same_next[:-1]
+    return same_prev, (same_prev if rule == "first" else same_next)
+
+
+def by_column_entries(final: np.ndarray, values: np.ndarray, n: int, column_code: np.ndarray, dates: np.ndarray,
+                      rule: str) -> Entries:
+    """Entries when value column ``j`` holds security ``column_code[j]`` (wide and single-series files).
+
+    ``final`` (status per cell, int8) is updated in place: dropped duplicates
+    get :data:`DUP` (except under the "error" rule, which only reports the first).
+    """
+    m = len(column_code)
+    cells = final.reshape(m, n)
+    date_ns = dates.astype("datetime64[ns]").view(np.int64)
+    row_order = np.argsort(date_ns, kind="stable")  # rows by date, file order among equal dates
+    dates_by_row = date_ns[row_order]
+    seen = (cells == nb.PARSED).any(axis=0)
+    dates_seen = np.unique(date_ns[seen])
+    del seen
+    groups: dict[int, list[int]] = {}
+    for j in np.argsort(column_code, kind="stable"):
+        groups.setdefault(int(column_code[j]), []).append(int(j))
+
+    def walk(cols: list[int]) -> tuple[np.ndarray, np.ndarray]:
+        """The parsed cells of one security's columns in (date, column, row) order: stacked index and date."""
+        if len(cols) == 1:
+            j = cols[0]
+            rows = row_order[cells[j, row_order] == nb.PARSED]
+            return rows + j * n, date_ns[rows]
+        parts = [(row_order[cells[j, row_order] == nb.PARSED], j) for j in cols]
+        idx = np.concatenate([rows + j * n for rows, j in parts])
+        when = date_ns[idx % n]
+        o = np.argsort(when, kind="stable")  # stable: among equal dates, columns in file order, then rows
+        return idx[o], when[o]
+
+    first_repeat: int | None = None
+    first_code: int | None = None
+    n_dropped = 0
+    for code, cols in groups.items():  # pass 1: duplicates (a security with one column repeats only a date row)
+        idx, when = walk(cols)
+        same_prev, drop = _repeats(when, rule)
+        if not drop.any():
+            continue
+        if rule == "error":
+            k = int(idx[same_prev].min())
+            if first_repeat is None or k < first_repeat:
+                first_repeat, first_code = k, code
+            continue
+        final[idx[drop]] = DUP
+        n_dropped += int(drop.sum())
+    if first_repeat is not None:
+        empty = np.zeros(0)
+        return Entries(empty.astype(dates.dtype), empty.astype(np.int8), empty, dates_seen, 0, 0, first_repeat, first_code)
+    total = int(np.count_nonzero(final == nb.PARSED))
+    out_dates = np.empty(total, dtype=dates.dtype)
+    out_codes = np.empty(total, dtype=_code_dtype(max(groups, default=0)))
+    out_vals = np.empty(total, dtype=np.float64)
+    pos, n_secs = 0, 0
+    for code, cols in groups.items():  # pass 2: the kept cells, written straight into the output
+        idx, _ = walk(cols)
+        c = idx.size
+        if not c:
+            continue
+        out_dates[pos:pos + c] = dates[idx % n]
+        out_vals[pos:pos + c] = values[idx]
+        out_codes[pos:pos + c] = code
+        pos += c
+        n_secs += 1
+    return Entries(out_dates, out_codes, out_vals, dates_seen, n_secs, n_dropped)
+
+
+def by_key_entries(final: np.ndarray, values: np.ndarray, n: int, row_code: np.ndarray, dates: np.ndarray,
+                   rule: str) -> Entries:
+    """Entries when file row ``i`` holds security ``row_code[i]`` (long files: one value column).
+
+    One key per parsed cell (security code times the number of distinct dates
+    plus the date's rank), sorted stably.  ``final`` is updated as in
+    :func:`by_column_entries`.
+    """
+    valid = np.flatnonzero(final == nb.PARSED)
+    ii = valid % n if n else valid
+    sec_v = row_code[ii].astype(np.int64)
+    date_ns = dates.astype("datetime64[ns]").view(np.int64)
+    dcodes, dates_seen = pd.factorize(date_ns[ii], sort=True)
+    key = sec_v * max(len(dates_seen), 1) + dcodes.astype(np.int64)
+    del dcodes
+    order = np.argsort(key, kind="stable")  # by security, then date, then file order
+    ks = key[order]
+    del key
+    same_prev, drop = _repeats(ks, rule)
+    del ks
+    if drop.any():
+        if rule == "error":
+            k = int(order[same_prev].min())  # the earliest entry (in file order) that repeats another
+            empty = np.zeros(0)
+            return Entries(empty.astype(dates.dtype), empty.astype(np.int8), empty, dates_seen, 0, 0,
+                           int(valid[k]), int(sec_v[k]))
+        final[valid[order[drop]]] = DUP
+    keep = order[~drop]
+    del order
+    sec_k = sec_v[keep]
+    n_secs = int(1 + np.count_nonzero(np.diff(sec_k))) if keep.size else 0
+    codes = sec_k.astype(_code_dtype(int(sec_k.max()) if sec_k.size else 0))
+    del sec_k
+    return Entries(dates[ii[keep]], codes, values[valid[keep]], dates_seen, n_secs, int(drop.sum()))
+
