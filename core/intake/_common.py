@@ -275,8 +275,8 @@ def tally_values(ctx: Ctx, final: np.ndarray, vcols: Sequence[int], stacked: pd.
     None to read each example's text from its own column (the same text: columns of one text dtype)."""
     g = ctx.grid
     n = g.n_rows
-    counts = np.bincount(final.view(np.uint8) if final.dtype == np.int8 and final.min(initial=0) >= 0
-                         else final.astype(np.int64), minlength=16)
+    # one comparison per code (a bincount would first copy the codes to 64-bit integers)
+    counts = {code: int(np.count_nonzero(final == code)) for code in (nb.PARSED, *CODE_REASON)}
     ctx.tally.add_parsed(int(counts[nb.PARSED]))
     names = np.asarray([ctx.header[j] for j in vcols], dtype=object)
 

@@ -66,14 +66,18 @@ def _repeats(sorted_dates: np.ndarray, rule: str) -> tuple[np.ndarray, np.ndarra
     return same_prev, (same_prev if rule == "first" else same_next)
 
 
-def by_column_entries(final: np.ndarray, values: np.ndarray, n: int, column_code: np.ndarray, dates: np.ndarray,
+def by_column_entries(final: np.ndarray, values: list[np.ndarray], n: int, column_code: np.ndarray, dates: np.ndarray,
                       rule: str) -> Entries:
     """Entries when value column ``j`` holds security ``column_code[j]`` (wide and single-series files).
 
     ``final`` (status per cell, int8) is updated in place: dropped duplicates
     get :data:`DUP` (except under the "error" rule, which only reports the first).
+    ``values`` is a one-item list holding the parsed numbers per cell; it is
+    emptied, so that those numbers are freed once the kept ones are copied
+    (before the dates are gathered).
     """
     m = len(column_code)
+    numbers = values.pop()
     cells = final.reshape(m, n)
     date_ns = dates.astype("datetime64[ns]").view(np.int64)
     row_order = np.argsort(date_ns, kind="stable")  # rows by date, file order among equal dates
@@ -116,31 +120,34 @@ def by_column_entries(final: np.ndarray, values: np.ndarray, n: int, column_code
         empty = np.zeros(0)
         return Entries(empty.astype(dates.dtype), empty.astype(np.int8), empty, dates_seen, 0, 0, first_repeat, first_code)
     total = int(np.count_nonzero(final == nb.PARSED))
-    out_dates = np.empty(total, dtype=dates.dtype)
     out_codes = np.empty(total, dtype=_code_dtype(max(groups, default=0)))
     out_vals = np.empty(total, dtype=np.float64)
     pos, n_secs = 0, 0
-    for code, cols in groups.items():  # pass 2: the kept cells, written straight into the output
+    for code, cols in groups.items():  # pass 2: the kept cells' values, written straight into the output
         idx, _ = walk(cols)
-        c = idx.size
-        if not c:
-            continue
-        out_dates[pos:pos + c] = dates[idx % n]
-        out_vals[pos:pos + c] = values[idx]
-        out_codes[pos:pos + c] = code
-        pos += c
-        n_secs += 1
+        out_vals[pos:pos + idx.size] = numbers[idx]
+        out_codes[pos:pos + idx.size] = code
+        pos += idx.size
+        n_secs += bool(idx.size)
+    del numbers
+    out_dates = np.empty(total, dtype=dates.dtype)
+    pos = 0
+    for cols in groups.values():  # pass 3: their dates
+        idx, _ = walk(cols)
+        out_dates[pos:pos + idx.size] = dates[idx % n]
+        pos += idx.size
     return Entries(out_dates, out_codes, out_vals, dates_seen, n_secs, n_dropped)
 
 
-def by_key_entries(final: np.ndarray, values: np.ndarray, n: int, row_code: np.ndarray, dates: np.ndarray,
+def by_key_entries(final: np.ndarray, values: list[np.ndarray], n: int, row_code: np.ndarray, dates: np.ndarray,
                    rule: str) -> Entries:
     """Entries when file row ``i`` holds security ``row_code[i]`` (long files: one value column).
 
     One key per parsed cell (security code times the number of distinct dates
-    plus the date's rank), sorted stably.  ``final`` is updated as in
+    plus the date's rank), sorted stably.  ``final`` and ``values`` as in
     :func:`by_column_entries`.
     """
+    numbers = values.pop()
     valid = np.flatnonzero(final == nb.PARSED)
     ii = valid % n if n else valid
     sec_v = row_code[ii].astype(np.int64)
@@ -166,5 +173,7 @@ def by_key_entries(final: np.ndarray, values: np.ndarray, n: int, row_code: np.n
     n_secs = int(1 + np.count_nonzero(np.diff(sec_k))) if keep.size else 0
     codes = sec_k.astype(_code_dtype(int(sec_k.max()) if sec_k.size else 0))
     del sec_k
-    return Entries(dates[ii[keep]], codes, values[valid[keep]], dates_seen, n_secs, int(drop.sum()))
+    kept = numbers[valid[keep]]
+    del numbers
+    return Entries(dates[ii[keep]], codes, kept, dates_seen, n_secs, int(drop.sum()))
 

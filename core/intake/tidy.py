@@ -295,11 +295,10 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         cell_code = ccodes
 
     # tidy entries and duplicates, in the order security, then date, then file order
-    if sec is None:
-        ent = by_column_entries(final, vals, n, np.asarray(cell_code), dres.dates, o.duplicate_rule)
-    else:
-        ent = by_key_entries(final, vals, n, np.asarray(cell_code), dres.dates, o.duplicate_rule)
+    numbers = [vals]  # handed over: the entries free the parsed numbers once they have copied the kept ones
     del vals
+    entries = by_column_entries if sec is None else by_key_entries
+    ent = entries(final, numbers, n, np.asarray(cell_code), dres.dates, o.duplicate_rule)
     dvals = ent.dates_seen
     if ent.first_repeat is not None:
         k = ent.first_repeat
