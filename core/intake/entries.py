@@ -23,7 +23,7 @@ import pandas as pd
 from valuesift.core.intake import numbers as nb
 from valuesift.core.intake._common import DUP
 
-__all__ = ["Entries", "by_column_entries", "by_key_entries"]
+__all__ = ["Entries", "by_column_entries", "by_key_entries", "code_dtype"]
 
 
 @dataclass(frozen=True)
@@ -49,7 +49,20 @@ class Entries:
     first_repeat_code: int | None = None
 
 
-def _code_dtype(n_codes: int) -> type[np.integer]:
+def _ranks(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """``pandas.factorize(x, sort=True)`` of int64 values: each value's rank among the distinct values, and those
+    (ascending); the codes are ranked in place, without the sorted factorization's extra copies of them."""
+    codes, uniq = pd.factorize(x, size_hint=1024)  # a table sized for the distinct values, not for every cell
+    del x
+    by_value = np.argsort(uniq, kind="stable")
+    rank = np.empty(by_value.size, dtype=np.int64)
+    rank[by_value] = np.arange(by_value.size)
+    np.take(rank, codes, out=codes)
+    return codes, np.asarray(uniq)[by_value]
+
+
+def code_dtype(n_codes: int) -> type[np.integer]:
+    """The smallest signed integer type that holds the codes ``0 .. n_codes``."""
     for t in (np.int8, np.int16, np.int32):
         if n_codes <= np.iinfo(t).max:
             return t
@@ -120,7 +133,7 @@ def by_column_entries(final: np.ndarray, values: list[np.ndarray], n: int, colum
         empty = np.zeros(0)
         return Entries(empty.astype(dates.dtype), empty.astype(np.int8), empty, dates_seen, 0, 0, first_repeat, first_code)
     total = int(np.count_nonzero(final == nb.PARSED))
-    out_codes = np.empty(total, dtype=_code_dtype(max(groups, default=0)))
+    out_codes = np.empty(total, dtype=code_dtype(max(groups, default=0)))
     out_vals = np.empty(total, dtype=np.float64)
     pos, n_secs = 0, 0
     for code, cols in groups.items():  # pass 2: the kept cells' values, written straight into the output
@@ -149,31 +162,41 @@ def by_key_entries(final: np.ndarray, values: list[np.ndarray], n: int, row_code
     """
     numbers = values.pop()
     valid = np.flatnonzero(final == nb.PARSED)
-    ii = valid % n if n else valid
-    sec_v = row_code[ii].astype(np.int64)
     date_ns = dates.astype("datetime64[ns]").view(np.int64)
-    dcodes, dates_seen = pd.factorize(date_ns[ii], sort=True)
-    key = sec_v * max(len(dates_seen), 1) + dcodes.astype(np.int64)
+    rows = valid if final.size == n else valid % n  # one value column (a long file): cell k is row k
+    dcodes, dates_seen = _ranks(date_ns[rows])
+    width = max(len(dates_seen), 1)
+    key = row_code[rows].astype(np.int64, copy=False)
+    key *= width
+    key += dcodes
     del dcodes
-    order = np.argsort(key, kind="stable")  # by security, then date, then file order
-    ks = key[order]
+    if key.size < 2 or bool(np.all(key[1:] >= key[:-1])):
+        order: np.ndarray | None = None  # already by security, then date (a file sorted that way)
+        ks = key
+    else:
+        order = np.argsort(key, kind="stable")  # by security, then date, then file order
+        ks = key[order]
     del key
     same_prev, drop = _repeats(ks, rule)
-    del ks
-    if drop.any():
+    n_dropped = int(drop.sum())
+    if n_dropped:
         if rule == "error":
-            k = int(order[same_prev].min())  # the earliest entry (in file order) that repeats another
+            pos = np.flatnonzero(same_prev) if order is None else order[same_prev]
+            k = int(pos.min())  # the earliest entry (in file order) that repeats another
             empty = np.zeros(0)
             return Entries(empty.astype(dates.dtype), empty.astype(np.int8), empty, dates_seen, 0, 0,
-                           int(valid[k]), int(sec_v[k]))
-        final[valid[order[drop]]] = DUP
-    keep = order[~drop]
-    del order
-    sec_k = sec_v[keep]
-    n_secs = int(1 + np.count_nonzero(np.diff(sec_k))) if keep.size else 0
-    codes = sec_k.astype(_code_dtype(int(sec_k.max()) if sec_k.size else 0))
-    del sec_k
-    kept = numbers[valid[keep]]
+                           int(valid[k]), int(row_code[rows[k]]))
+        final[valid[drop] if order is None else valid[order[drop]]] = DUP
+    keep_mask = ~drop
+    del same_prev, drop
+    kept_keys = ks[keep_mask]
+    del ks
+    kept_keys //= width  # the security codes of the kept entries, in output order
+    codes = kept_keys.astype(code_dtype(int(kept_keys[-1]) if kept_keys.size else 0))
+    del kept_keys
+    n_secs = int(1 + np.count_nonzero(np.diff(codes))) if codes.size else 0
+    cells = valid[keep_mask] if order is None else valid[order[keep_mask]]
+    del valid, order, keep_mask, rows
+    kept = numbers[cells]
     del numbers
-    return Entries(dates[ii[keep]], codes, kept, dates_seen, n_secs, int(drop.sum()))
-
+    return Entries(dates[cells if final.size == n else cells % n], codes, kept, dates_seen, n_secs, n_dropped)

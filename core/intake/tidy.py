@@ -26,7 +26,7 @@ from valuesift.core.intake._common import (
 )
 from valuesift.core.intake.dates import parse_dates
 from valuesift.core.intake.kinds import guess_kind, infer_earnings_form
-from valuesift.core.intake.entries import by_column_entries, by_key_entries
+from valuesift.core.intake.entries import by_column_entries, by_key_entries, code_dtype
 from valuesift.core.intake.numbers import parse_numbers, parse_text_columns
 from valuesift.core.intake.options import ReadOptions, choice_words
 from valuesift.core.intake.readers import Grid
@@ -270,7 +270,8 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         if misses:
             ctx.notes.append(f"{misses} distinct identifiers did not match id_regex and were kept as written")
         ccodes, id_table = pd.factorize(cleaned, sort=True)
-        cell_code = ccodes[codes] if len(codes) else np.zeros(0, dtype=np.int64)
+        cell_code = ccodes.astype(code_dtype(len(id_table)))[codes] if len(codes) else np.zeros(0, dtype=np.int64)
+        del codes
         blank_code = np.flatnonzero(np.asarray(id_table, dtype=object) == "")
         sec_blank = np.isin(cell_code, blank_code)
         ctx.tally.add_parsed(int((~sec_blank).sum()))
