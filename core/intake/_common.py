@@ -51,6 +51,7 @@ class Ctx:
     header: list[str]
     tally: Tally = field(default_factory=Tally)
     notes: list[str] = field(default_factory=list)
+    release_cells: bool = False  # empty grid.columns once the cells are counted (see tidy_grid)
 
     def col(self, j: int) -> pd.Series:
         return self.grid.columns[j]

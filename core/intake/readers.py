@@ -11,7 +11,7 @@ import datetime as _dt
 import io
 import zipfile
 from dataclasses import dataclass, field
-from typing import Any, Sequence
+from typing import Any, Callable, Sequence
 
 import numpy as np
 import pandas as pd
@@ -248,7 +248,9 @@ def _fast_text(body: str, header: list[str], delim: str, header_row: int) -> _Ce
     data = body.rstrip("\r\n")
     if "\n\n" in data or "\n\r\n" in data:
         return None
-    return _arrow_cells(io.BytesIO((data + "\n").encode("utf-8")), data.count("\n") + 1, header, delim, header_row)
+    encoded = (data + "\n").encode("utf-8")
+    del data
+    return _arrow_cells(lambda: io.BytesIO(encoded), encoded.count(b"\n"), header, delim, header_row)
 
 
 def _fast_bytes(raw: bytes, start: int, header: list[str], delim: str, header_row: int) -> _Cells | None:
@@ -261,7 +263,8 @@ def _fast_bytes(raw: bytes, start: int, header: list[str], delim: str, header_ro
     if raw.find(b"\n\n", start, stop) >= 0 or raw.find(b"\n\r\n", start, stop) >= 0:
         return None
     view = memoryview(raw)
-    return _arrow_cells(_Joined((view[start:stop], b"\n")), raw.count(b"\n", start, stop) + 1, header, delim, header_row)
+    return _arrow_cells(lambda: _Joined((view[start:stop], b"\n")), raw.count(b"\n", start, stop) + 1, header, delim,
+                        header_row)
 
 
 def _data_end(raw: bytes, start: int) -> int:
@@ -300,16 +303,34 @@ class _Joined(io.RawIOBase):
         return out
 
 
-def _arrow_cells(source: Any, n_lines: int, header: list[str], delim: str, header_row: int) -> _Cells | None:
+#: bytes pyarrow parses at a time: small blocks keep its working memory near the size of the cells it returns
+#: (16 MB blocks took five times the file); a record longer than a block is read again with the large blocks
+ARROW_BLOCK_BYTES = 1 << 20
+_ARROW_LARGE_BLOCK_BYTES = 1 << 24
+
+
+def _arrow_table(source: Any, names: list[str], delim: str, block_size: int) -> pa.Table:
+    return pacsv.read_csv(
+        source,
+        read_options=pacsv.ReadOptions(column_names=names, use_threads=True, block_size=block_size),
+        parse_options=pacsv.ParseOptions(delimiter=delim, newlines_in_values=True),
+        convert_options=pacsv.ConvertOptions(column_types={c: pa.large_string() for c in names},
+                                             strings_can_be_null=False, quoted_strings_can_be_null=False),
+    )
+
+
+def _arrow_cells(source: Callable[[], Any], n_lines: int, header: list[str], delim: str, header_row: int) -> _Cells | None:
+    """pyarrow's reader over a fresh stream from ``source()``; None when it fails or the row numbering would not hold.
+
+    The cells do not depend on the block size (only how the columns are chunked), so any failure with
+    the small blocks is retried with the large ones, the former single read.
+    """
     names = [f"c{i}" for i in range(len(header))]
     try:
-        table = pacsv.read_csv(
-            source,
-            read_options=pacsv.ReadOptions(column_names=names, use_threads=True, block_size=1 << 24),
-            parse_options=pacsv.ParseOptions(delimiter=delim, newlines_in_values=True),
-            convert_options=pacsv.ConvertOptions(column_types={c: pa.large_string() for c in names},
-                                                 strings_can_be_null=False, quoted_strings_can_be_null=False),
-        )
+        try:
+            table = _arrow_table(source(), names, delim, ARROW_BLOCK_BYTES)
+        except (pa.ArrowInvalid, pa.ArrowException):
+            table = _arrow_table(source(), names, delim, _ARROW_LARGE_BLOCK_BYTES)
     except (pa.ArrowInvalid, pa.ArrowException):
         return None
     if table.num_rows != n_lines:  # a quoted value spans lines: row numbers would drift

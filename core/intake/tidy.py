@@ -45,7 +45,7 @@ def _future_limit() -> np.datetime64:
     return np.datetime64(pd.Timestamp.now().normalize() + pd.Timedelta(days=366), "ns")
 
 
-def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd.DataFrame, FileReport]:
+def tidy_grid(grid: Grid, name: str, options: ReadOptions, *, release_cells: bool = False) -> tuple[FileKind, pd.DataFrame, FileReport]:
     """Turn a grid into the tidy table of its kind and the file's report.
 
     Parameters
@@ -54,6 +54,10 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd
     name : str
         The file name as the user knows it.
     options : ReadOptions
+    release_cells : bool
+        Empty ``grid.columns`` once a series file's cells are counted (before
+        its tidy table is built), so that their text is freed when the caller
+        holds the grid only to hand it over (as :func:`read_table` does).
 
     Returns
     -------
@@ -77,7 +81,7 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd
     if grid.n_rows == 0:
         raise IntakeError(name, Reason.NO_DATA, "the file has a header but no data rows.", row=grid.header_row,
                           hint=f"Check that the export contains the data, or that {choice_words('header_row')} is right.")
-    ctx = Ctx(name, grid, options, header)
+    ctx = Ctx(name, grid, options, header, release_cells=release_cells)
     ctx.notes.extend(grid.notes)
     if grid.extra_cells:
         ctx.tally.add_count(Reason.EXTRA_FIELD, grid.extra_cells,
@@ -313,11 +317,14 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         n_dup_dates = int(pd.Series(date_ns[date_ok]).duplicated().sum())
         ctx.notes.append(f"{ent.n_dropped} duplicate entries resolved ({o.duplicate_rule} wins)"
                          + (f"; {n_dup_dates} date row(s) repeat an earlier date" if n_dup_dates else ""))
+    tally_values(ctx, final, vcols, stacked)
+    del final, stacked
+    if ctx.release_cells:  # every count and example is taken: the cells' text goes before the security column is built
+        g.columns.clear()
     keep_size, n_secs = int(len(ent.values)), ent.n_securities
     ids = _id_column(id_table, ent.codes)
     tidy = pd.DataFrame({"date": ent.dates, "security": ids, "value": ent.values}, copy=False)
     del ent, ids
-    tally_values(ctx, final, vcols, stacked)
 
     # report fields
     value_form: str | None = None
