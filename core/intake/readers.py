@@ -197,20 +197,16 @@ def _longest_arrow_text(cols: Sequence[pd.Series]) -> int:
     """Characters in the longest text cell of Arrow-backed columns (``MAX_CELL_CHARS + 1`` when any is not Arrow)."""
     import pyarrow.compute as pc
 
-    import pyarrow as pa
-
-    chunks = []
-    for s in cols:
+    longest = 0
+    for s in cols:  # column by column: the lengths of one column's cells at a time, not of every cell
         if pd.api.types.is_numeric_dtype(s.dtype) or pd.api.types.is_datetime64_any_dtype(s.dtype) or not len(s):
             continue
         arr = getattr(s.array, "_pa_array", None)
         if arr is None:
             return MAX_CELL_CHARS + 1
-        chunks.extend(ch if ch.type == pa.large_string() else ch.cast(pa.large_string()) for ch in arr.chunks)
-    if not chunks:
-        return 0
-    m = pc.max(pc.utf8_length(pa.chunked_array(chunks, pa.large_string()))).as_py()
-    return int(m or 0)
+        m = pc.max(pc.utf8_length(arr if arr.type == pa.large_string() else arr.cast(pa.large_string()))).as_py()
+        longest = max(longest, int(m or 0))
+    return longest
 
 
 def _check_size(n_rows: int, n_cols: int, name: str) -> None:
@@ -250,7 +246,8 @@ def _fast_text(body: str, header: list[str], delim: str, header_row: int) -> _Ce
         return None
     encoded = (data + "\n").encode("utf-8")
     del data
-    return _arrow_cells(lambda: io.BytesIO(encoded), encoded.count(b"\n"), header, delim, header_row)
+    return _arrow_cells(lambda: io.BytesIO(encoded), encoded.count(b"\n"), _block_size(encoded, 0), header, delim,
+                        header_row)
 
 
 def _fast_bytes(raw: bytes, start: int, header: list[str], delim: str, header_row: int) -> _Cells | None:
@@ -263,8 +260,8 @@ def _fast_bytes(raw: bytes, start: int, header: list[str], delim: str, header_ro
     if raw.find(b"\n\n", start, stop) >= 0 or raw.find(b"\n\r\n", start, stop) >= 0:
         return None
     view = memoryview(raw)
-    return _arrow_cells(lambda: _Joined((view[start:stop], b"\n")), raw.count(b"\n", start, stop) + 1, header, delim,
-                        header_row)
+    return _arrow_cells(lambda: _Joined((view[start:stop], b"\n")), raw.count(b"\n", start, stop) + 1,
+                        _block_size(raw, start), header, delim, header_row)
 
 
 def _data_end(raw: bytes, start: int) -> int:
@@ -303,10 +300,20 @@ class _Joined(io.RawIOBase):
         return out
 
 
-#: bytes pyarrow parses at a time: small blocks keep its working memory near the size of the cells it returns
-#: (16 MB blocks took five times the file); a record longer than a block is read again with the large blocks
+#: bytes pyarrow parses at a time, at least: small blocks keep its working memory near the size of the cells it
+#: returns (16 MB blocks took five times the file) ...
 ARROW_BLOCK_BYTES = 1 << 20
+#: ... and at most; a block holds at least this many records of the first one's length (so a file with
+#: thousands of columns is not cut into thousands of tiny chunks per column), and a record longer than
+#: its block is read again with the largest blocks
+_ARROW_BLOCK_RECORDS = 256
 _ARROW_LARGE_BLOCK_BYTES = 1 << 24
+
+
+def _block_size(data: bytes, start: int) -> int:
+    first = data.find(b"\n", start, start + _ARROW_LARGE_BLOCK_BYTES)
+    record = (first - start + 1) if first >= 0 else _ARROW_LARGE_BLOCK_BYTES
+    return int(min(_ARROW_LARGE_BLOCK_BYTES, max(ARROW_BLOCK_BYTES, _ARROW_BLOCK_RECORDS * record)))
 
 
 def _arrow_table(source: Any, names: list[str], delim: str, block_size: int) -> pa.Table:
@@ -319,7 +326,8 @@ def _arrow_table(source: Any, names: list[str], delim: str, block_size: int) -> 
     )
 
 
-def _arrow_cells(source: Callable[[], Any], n_lines: int, header: list[str], delim: str, header_row: int) -> _Cells | None:
+def _arrow_cells(source: Callable[[], Any], n_lines: int, block_size: int, header: list[str], delim: str,
+                 header_row: int) -> _Cells | None:
     """pyarrow's reader over a fresh stream from ``source()``; None when it fails or the row numbering would not hold.
 
     The cells do not depend on the block size (only how the columns are chunked), so any failure with
@@ -328,8 +336,10 @@ def _arrow_cells(source: Callable[[], Any], n_lines: int, header: list[str], del
     names = [f"c{i}" for i in range(len(header))]
     try:
         try:
-            table = _arrow_table(source(), names, delim, ARROW_BLOCK_BYTES)
+            table = _arrow_table(source(), names, delim, block_size)
         except (pa.ArrowInvalid, pa.ArrowException):
+            if block_size >= _ARROW_LARGE_BLOCK_BYTES:
+                raise
             table = _arrow_table(source(), names, delim, _ARROW_LARGE_BLOCK_BYTES)
     except (pa.ArrowInvalid, pa.ArrowException):
         return None
