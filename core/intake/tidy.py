@@ -255,7 +255,8 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
     else:
         num = parse_numbers(stacked, decimal)  # type: ignore[arg-type]
     n = g.n_rows
-    final, vals = num.status, num.values  # the parser's own arrays (the percent marks are not needed here)
+    # the parser's own arrays (contiguous, so the reshaped view below writes into ``final``); no percent marks
+    final, vals = np.ascontiguousarray(num.status), num.values
     del num
     ok = final == nb.PARSED
     if kind in POSITIVE_KINDS:
