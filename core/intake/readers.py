@@ -11,7 +11,7 @@ import datetime as _dt
 import io
 import zipfile
 from dataclasses import dataclass, field
-from typing import Any, Callable, Sequence
+from typing import Any, Sequence
 
 import numpy as np
 import pandas as pd
@@ -246,8 +246,7 @@ def _fast_text(body: str, header: list[str], delim: str, header_row: int) -> _Ce
         return None
     encoded = (data + "\n").encode("utf-8")
     del data
-    return _arrow_cells(lambda: io.BytesIO(encoded), encoded.count(b"\n"), _block_size(encoded, 0), header, delim,
-                        header_row)
+    return _arrow_cells(io.BytesIO(encoded), encoded.count(b"\n"), header, delim, header_row)
 
 
 def _fast_bytes(raw: bytes, start: int, header: list[str], delim: str, header_row: int) -> _Cells | None:
@@ -260,8 +259,7 @@ def _fast_bytes(raw: bytes, start: int, header: list[str], delim: str, header_ro
     if raw.find(b"\n\n", start, stop) >= 0 or raw.find(b"\n\r\n", start, stop) >= 0:
         return None
     view = memoryview(raw)
-    return _arrow_cells(lambda: _Joined((view[start:stop], b"\n")), raw.count(b"\n", start, stop) + 1,
-                        _block_size(raw, start), header, delim, header_row)
+    return _arrow_cells(_Joined((view[start:stop], b"\n")), raw.count(b"\n", start, stop) + 1, header, delim, header_row)
 
 
 def _data_end(raw: bytes, start: int) -> int:
@@ -300,47 +298,16 @@ class _Joined(io.RawIOBase):
         return out
 
 
-#: bytes pyarrow parses at a time, at least: small blocks keep its working memory near the size of the cells it
-#: returns (16 MB blocks took five times the file) ...
-ARROW_BLOCK_BYTES = 1 << 20
-#: ... and at most; a block holds at least this many records of the first one's length (so a file with
-#: thousands of columns is not cut into thousands of tiny chunks per column), and a record longer than
-#: its block is read again with the largest blocks
-_ARROW_BLOCK_RECORDS = 256
-_ARROW_LARGE_BLOCK_BYTES = 1 << 24
-
-
-def _block_size(data: bytes, start: int) -> int:
-    first = data.find(b"\n", start, start + _ARROW_LARGE_BLOCK_BYTES)
-    record = (first - start + 1) if first >= 0 else _ARROW_LARGE_BLOCK_BYTES
-    return int(min(_ARROW_LARGE_BLOCK_BYTES, max(ARROW_BLOCK_BYTES, _ARROW_BLOCK_RECORDS * record)))
-
-
-def _arrow_table(source: Any, names: list[str], delim: str, block_size: int) -> pa.Table:
-    return pacsv.read_csv(
-        source,
-        read_options=pacsv.ReadOptions(column_names=names, use_threads=True, block_size=block_size),
-        parse_options=pacsv.ParseOptions(delimiter=delim, newlines_in_values=True),
-        convert_options=pacsv.ConvertOptions(column_types={c: pa.large_string() for c in names},
-                                             strings_can_be_null=False, quoted_strings_can_be_null=False),
-    )
-
-
-def _arrow_cells(source: Callable[[], Any], n_lines: int, block_size: int, header: list[str], delim: str,
-                 header_row: int) -> _Cells | None:
-    """pyarrow's reader over a fresh stream from ``source()``; None when it fails or the row numbering would not hold.
-
-    The cells do not depend on the block size (only how the columns are chunked), so any failure with
-    the small blocks is retried with the large ones, the former single read.
-    """
+def _arrow_cells(source: Any, n_lines: int, header: list[str], delim: str, header_row: int) -> _Cells | None:
     names = [f"c{i}" for i in range(len(header))]
     try:
-        try:
-            table = _arrow_table(source(), names, delim, block_size)
-        except (pa.ArrowInvalid, pa.ArrowException):
-            if block_size >= _ARROW_LARGE_BLOCK_BYTES:
-                raise
-            table = _arrow_table(source(), names, delim, _ARROW_LARGE_BLOCK_BYTES)
+        table = pacsv.read_csv(
+            source,
+            read_options=pacsv.ReadOptions(column_names=names, use_threads=True, block_size=1 << 24),
+            parse_options=pacsv.ParseOptions(delimiter=delim, newlines_in_values=True),
+            convert_options=pacsv.ConvertOptions(column_types={c: pa.large_string() for c in names},
+                                                 strings_can_be_null=False, quoted_strings_can_be_null=False),
+        )
     except (pa.ArrowInvalid, pa.ArrowException):
         return None
     if table.num_rows != n_lines:  # a quoted value spans lines: row numbers would drift

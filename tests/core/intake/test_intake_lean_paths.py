@@ -5,8 +5,7 @@
   reference, "Floating point literals");
 * the tidy entries (``by_column_entries``, ``by_key_entries``) against a sort of Python tuples written
   out here (security, date, file order; the first or last of equal keys kept);
-* a UTF-8 body read from the file's own bytes, in small blocks, against the decoded text re-encoded
-  and read in 16 MB blocks (the former reader).
+* a UTF-8 body read from the file's own bytes against the decoded text re-encoded (the former reader).
 """
 
 from __future__ import annotations
@@ -193,8 +192,6 @@ def _same_read(a: tuple, b: tuple) -> None:
 def test_body_from_the_bytes_reads_as_the_reencoded_text(case: str, monkeypatch: pytest.MonkeyPatch) -> None:
     raw = FILES[case].encode("utf-8")
     monkeypatch.setattr(readers, "FAST_PATH_MIN_CHARS", 100)  # the corpus files are small: take the fast path
-    monkeypatch.setattr(readers, "ARROW_BLOCK_BYTES", 256)  # many blocks; records that straddle them
-    monkeypatch.setattr(readers, "_ARROW_BLOCK_RECORDS", 1)
     used = []
     fast_bytes = readers._fast_bytes
 
@@ -207,5 +204,4 @@ def test_body_from_the_bytes_reads_as_the_reencoded_text(case: str, monkeypatch:
     assert used  # the body was read from the bytes
     text_of = readers._text_of
     monkeypatch.setattr(readers, "_text_of", lambda *a: text_of(*a)[:2] + (None,))  # the former route: text
-    monkeypatch.setattr(readers, "_block_size", lambda data, start: 1 << 24)  # in 16 MB blocks
     _same_read(lean, _read(raw, "prices.csv"))
