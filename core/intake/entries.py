@@ -94,7 +94,6 @@ def by_column_entries(final: np.ndarray, values: list[np.ndarray], n: int, colum
     cells = final.reshape(m, n)
     date_ns = dates.astype("datetime64[ns]").view(np.int64)
     row_order = np.argsort(date_ns, kind="stable")  # rows by date, file order among equal dates
-    dates_by_row = date_ns[row_order]
     seen = (cells == nb.PARSED).any(axis=0)
     dates_seen = np.unique(date_ns[seen])
     del seen

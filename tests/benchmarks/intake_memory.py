@@ -109,8 +109,13 @@ def main(argv: list[str] | None = None) -> None:
                       f"| {r['arrow'] / mib:.0f} MB = {r['arrow'] / size:.1f}x | {r['resident'] / mib:.0f} MB = "
                       f"{r['resident'] / size:.1f}x | {r['data'] / mib:.0f} MB, {r['rows']:,.0f} rows |")
             v, p = got["valuesift"], got["pandas"]
-            print(f"| {layout} | valuesift / pandas | {v['traced'] / p['traced']:.2f}x | {v['arrow'] / p['arrow']:.2f}x "
-                  f"| {v['resident'] / p['resident']:.2f}x | |")
+            print(f"| {layout} | valuesift / pandas | {_ratio(v['traced'], p['traced'])} | {_ratio(v['arrow'], p['arrow'])} "
+                  f"| {_ratio(v['resident'], p['resident'])} | |")
+
+
+def _ratio(a: float, b: float) -> str:
+    """``a / b`` as a multiple, or a dash when the reference used (next to) nothing of that kind."""
+    return f"{a / b:.2f}x" if b > 2 ** 20 else "-"
 
 
 if __name__ == "__main__":
