@@ -88,6 +88,17 @@ def by_column_entries(final: np.ndarray, values: list[np.ndarray], n: int, colum
     ``values`` is a one-item list holding the parsed numbers per cell; it is
     emptied, so that those numbers are freed once the kept ones are copied
     (before the dates are gathered).
+
+    Examples
+    --------
+    Two value columns of two rows: column 0 holds security 1, column 1
+    security 0 (whose first cell is blank); the rows are dated 2 and 1 January.
+
+    >>> final = np.array([nb.PARSED, nb.PARSED, nb.BLANK, nb.PARSED], dtype=np.int8)
+    >>> days = np.array(["2020-01-02", "2020-01-01"], dtype="datetime64[ns]")
+    >>> e = by_column_entries(final, [np.array([1.0, 2.0, np.nan, 4.0])], 2, np.array([1, 0]), days, "last")
+    >>> e.codes.tolist(), e.values.tolist(), e.n_securities
+    ([0, 1, 1], [4.0, 2.0, 1.0], 2)
     """
     m = len(column_code)
     numbers = values.pop()
