@@ -51,6 +51,7 @@ class Ctx:
     header: list[str]
     tally: Tally = field(default_factory=Tally)
     notes: list[str] = field(default_factory=list)
+    release_cells: bool = False  # empty grid.columns once the cells are counted (see tidy_grid)
 
     def col(self, j: int) -> pd.Series:
         return self.grid.columns[j]
@@ -270,15 +271,26 @@ def value_column(ctx: Ctx, kind: str, candidates: Sequence[int], numeric: Sequen
                       row=ctx.grid.header_row, hint=f"Set {choice_words('value_column')} to the one to use.")
 
 
-def tally_values(ctx: Ctx, final: np.ndarray, vcols: Sequence[int], stacked: pd.Series) -> None:
+def tally_values(ctx: Ctx, final: np.ndarray, vcols: Sequence[int], stacked: pd.Series | None) -> None:
+    """Count the value cells by final status; ``stacked`` holds their cells one column below the other, or
+    None to read each example's text from its own column (the same text: columns of one text dtype)."""
     g = ctx.grid
     n = g.n_rows
-    counts = np.bincount(final.astype(np.int64), minlength=16)
+    # one comparison per code (a bincount would first copy the codes to 64-bit integers)
+    counts = {code: int(np.count_nonzero(final == code)) for code in (nb.PARSED, *CODE_REASON)}
     ctx.tally.add_parsed(int(counts[nb.PARSED]))
     names = np.asarray([ctx.header[j] for j in vcols], dtype=object)
 
+    def text(i: np.ndarray) -> np.ndarray:
+        if stacked is not None:
+            return stacked.iloc[i].astype("str").to_numpy()
+        out = np.empty(i.size, dtype=object)
+        for t, k in enumerate(i):
+            out[t] = ctx.col(vcols[int(k) // n]).iloc[[int(k) % n]].astype("str").to_numpy()[0]
+        return out
+
     def locate(i: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        return g.rows[i % n], names[i // n], stacked.iloc[i].astype("str").to_numpy()
+        return g.rows[i % n], names[i // n], text(i)
 
     for code, reason in CODE_REASON.items():
         if counts[code]:

@@ -131,7 +131,8 @@ def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = Non
         raw, label = _load(source, name, options)
         grid = read_grid(raw, label, options)
         _check_time(deadline, label, "splitting it into cells")
-        kind, data, report = tidy_grid(grid, label, options)
+        kind, data, report = tidy_grid(grid, label, options, release_cells=True)
+        del grid
         _check_time(deadline, label, "reading its dates and numbers")
     except IntakeError:
         raise

@@ -25,6 +25,7 @@ __all__ = [
     "MISSING_MARKERS",
     "NumberResult",
     "parse_numbers",
+    "parse_text_columns",
     "detect_decimal",
 ]
 
@@ -113,6 +114,15 @@ def parse_numbers(values: pd.Series, decimal: Literal["point", "comma"] = "point
     if quick is not None:
         status[np.isnan(quick)] = BLANK
         return NumberResult(quick, status, percent)
+    return _careful(values, decimal)
+
+
+def _careful(values: pd.Series, decimal: str) -> NumberResult:
+    """The full parser of text cells: a plain conversion first, the spelled-out forms for the rest."""
+    n = len(values)
+    out = np.full(n, np.nan)
+    status = np.full(n, PARSED, dtype=np.int8)
+    percent = np.zeros(n, dtype=bool)
     s = _as_text(values)
     blank = (s == "").to_numpy(dtype=bool, na_value=False).copy()
     # fast path: plain numbers
@@ -133,6 +143,60 @@ def parse_numbers(values: pd.Series, decimal: Literal["point", "comma"] = "point
         out[rest_idx] = vals
         status[rest_idx] = st
         percent[rest_idx] = pc
+    return NumberResult(out, status, percent)
+
+
+def parse_text_columns(columns: Sequence[pd.Series], decimal: Literal["point", "comma"] = "point") -> NumberResult:
+    """:func:`parse_numbers` of the columns stacked one below the other, parsed column by column.
+
+    The result is the stacked parse, cell for cell (the same values, codes and
+    percent marks in the same order: column 0's cells, then column 1's, ...),
+    without the stacked copy of every cell's text: each column's text is read
+    where it lies and only its numbers are kept.  As in the stacked parse, the
+    one Arrow cast is used only when every cell of every column is a plain
+    number or blank; otherwise each column goes through the careful parser.
+
+    Parameters
+    ----------
+    columns : sequence of pandas.Series
+        Text columns, all of one length.
+    decimal : {"point", "comma"}
+
+    Returns
+    -------
+    NumberResult
+        Of length ``len(columns) * len(columns[0])``.
+
+    Examples
+    --------
+    >>> r = parse_text_columns([pd.Series(["1", ""], dtype="str"), pd.Series(["(2)", "5%"], dtype="str")])
+    >>> r.values.tolist()[2:], r.status.tolist()
+    ([-2.0, 0.05], [0, 1, 0, 0])
+    """
+    n = len(columns[0]) if len(columns) else 0
+    total = n * len(columns)
+    out = np.full(total, np.nan)
+    status = np.full(total, PARSED, dtype=np.int8)
+    percent = np.zeros(total, dtype=bool)
+    if total == 0:
+        return NumberResult(out, status, percent)
+    if decimal == "point":
+        for k, col in enumerate(columns):
+            quick = _arrow_cast(col)
+            if quick is None:
+                break
+            out[k * n:(k + 1) * n] = quick
+            del quick
+        else:
+            status[np.isnan(out)] = BLANK
+            return NumberResult(out, status, percent)
+        out[:] = np.nan
+    for k, col in enumerate(columns):
+        part = _careful(col, decimal)
+        out[k * n:(k + 1) * n] = part.values
+        status[k * n:(k + 1) * n] = part.status
+        percent[k * n:(k + 1) * n] = part.percent
+        del part
     return NumberResult(out, status, percent)
 
 

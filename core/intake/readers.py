@@ -94,12 +94,22 @@ def read_grid(raw: bytes, name: str, options: ReadOptions) -> Grid:
 
 
 # -- delimited text -------------------------------------------------------------
-def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
+def _text_of(raw: bytes, name: str, options: ReadOptions) -> tuple[str, str, int | None]:
+    """The file's text, the encoding's label, and how many bytes of ``raw`` precede the text's first
+    character when the text is ``raw`` decoded as UTF-8 from there on (else None: the text's bytes differ)."""
     text, enc = decode(raw, name, options.encoding)
+    lead: int | None = {"UTF-8": 0, "UTF-8 with BOM": 3}.get(enc) if options.encoding is None else None
     if text.startswith("\ufeff"):
         text = text[1:]
+        lead = None if lead is None else lead + 3
     if "\n" not in text and "\r" in text:  # old-style line ends (CR only)
         text = text.replace("\r", "\n")
+        lead = None
+    return text, enc, lead
+
+
+def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
+    text, enc, lead = _text_of(raw, name, options)
     if not text.strip():
         raise IntakeError(name, Reason.EMPTY_FILE, "the file holds only blank lines.", hint="Check that the right file was chosen.")
     delim = options.delimiter or sniff_delimiter(text)
@@ -125,12 +135,18 @@ def _read_text(raw: bytes, name: str, options: ReadOptions) -> Grid:
     if len(header) < 1:
         raise IntakeError(name, Reason.NO_HEADER, "the header row is empty.", row=h_line + 1, hint=f"Set {choice_words('header_row')} to the row with column names.")
     _check_width(len(header), name, h_line + 1)
-    body = text[end:]
     grid = None
-    if len(body) >= FAST_PATH_MIN_CHARS:
-        grid = _fast_text(body, header, delim, h_line + 1)
+    if len(text) - end >= FAST_PATH_MIN_CHARS:
+        if lead is not None:  # UTF-8: pyarrow reads the body where it lies in the file's bytes
+            start = lead + (end if text.isascii() else len(text[:end].encode("utf-8")))
+            del text
+            grid = _fast_bytes(raw, start, header, delim, h_line + 1)
+            if grid is None:
+                text = _text_of(raw, name, options)[0]
+        else:
+            grid = _fast_text(text[end:], header, delim, h_line + 1)
     if grid is None:
-        grid = _python_text(body, header, delim, h_line + 1, name)
+        grid = _python_text(text[end:], header, delim, h_line + 1, name)
     cols, rows, extra, ex = grid
     _check_columns(header, cols, rows, name)
     return Grid(header, cols, rows, "csv", enc, delim, h_line + 1, None, extra, ex, _header_notes(header, h_line + 1))
@@ -181,20 +197,16 @@ def _longest_arrow_text(cols: Sequence[pd.Series]) -> int:
     """Characters in the longest text cell of Arrow-backed columns (``MAX_CELL_CHARS + 1`` when any is not Arrow)."""
     import pyarrow.compute as pc
 
-    import pyarrow as pa
-
-    chunks = []
-    for s in cols:
+    longest = 0
+    for s in cols:  # column by column: the lengths of one column's cells at a time, not of every cell
         if pd.api.types.is_numeric_dtype(s.dtype) or pd.api.types.is_datetime64_any_dtype(s.dtype) or not len(s):
             continue
         arr = getattr(s.array, "_pa_array", None)
         if arr is None:
             return MAX_CELL_CHARS + 1
-        chunks.extend(ch if ch.type == pa.large_string() else ch.cast(pa.large_string()) for ch in arr.chunks)
-    if not chunks:
-        return 0
-    m = pc.max(pc.utf8_length(pa.chunked_array(chunks, pa.large_string()))).as_py()
-    return int(m or 0)
+        m = pc.max(pc.utf8_length(arr if arr.type == pa.large_string() else arr.cast(pa.large_string()))).as_py()
+        longest = max(longest, int(m or 0))
+    return longest
 
 
 def _check_size(n_rows: int, n_cols: int, name: str) -> None:
@@ -224,16 +236,73 @@ def _line_offset(text: str, h: int) -> int:
     return pos if pos <= len(text) else -1
 
 
-def _fast_text(body: str, header: list[str], delim: str, header_row: int) -> tuple[list[pd.Series], np.ndarray, int, tuple[tuple[int, str], ...]] | None:
+_Cells = tuple[list[pd.Series], np.ndarray, int, tuple[tuple[int, str], ...]]
+
+
+def _fast_text(body: str, header: list[str], delim: str, header_row: int) -> _Cells | None:
     """pyarrow's multithreaded reader; None when the simple row numbering would not hold."""
     data = body.rstrip("\r\n")
     if "\n\n" in data or "\n\r\n" in data:
         return None
-    n_lines = data.count("\n") + 1
+    encoded = (data + "\n").encode("utf-8")
+    del data
+    return _arrow_cells(io.BytesIO(encoded), encoded.count(b"\n"), header, delim, header_row)
+
+
+def _fast_bytes(raw: bytes, start: int, header: list[str], delim: str, header_row: int) -> _Cells | None:
+    """:func:`_fast_text` of the body that starts at byte ``start`` of a UTF-8 file, read from ``raw`` itself.
+
+    The same bytes reach pyarrow (the body without its trailing line ends, then one line feed) with
+    no decoded, trimmed or re-encoded copy of the body.
+    """
+    stop = _data_end(raw, start)
+    if raw.find(b"\n\n", start, stop) >= 0 or raw.find(b"\n\r\n", start, stop) >= 0:
+        return None
+    view = memoryview(raw)
+    return _arrow_cells(_Joined((view[start:stop], b"\n")), raw.count(b"\n", start, stop) + 1, header, delim, header_row)
+
+
+def _data_end(raw: bytes, start: int) -> int:
+    """Offset just after the last byte of ``raw[start:]`` that is not a carriage return or line feed."""
+    end = len(raw)
+    while end > start:
+        lo = max(start, end - 4096)
+        kept = raw[lo:end].rstrip(b"\r\n")
+        if kept:
+            return lo + len(kept)
+        end = lo
+    return start
+
+
+class _Joined(io.RawIOBase):
+    """A read-only stream over byte buffers one after the other, handing out views (no copies)."""
+
+    def __init__(self, parts: Sequence[bytes | memoryview]) -> None:
+        super().__init__()
+        self._parts = [memoryview(p) for p in parts]
+        self._k = 0
+        self._pos = 0
+
+    def readable(self) -> bool:
+        return True
+
+    def read(self, size: int | None = -1) -> memoryview | bytes:  # type: ignore[override]
+        while self._k < len(self._parts) and self._pos >= len(self._parts[self._k]):
+            self._k, self._pos = self._k + 1, 0
+        if self._k >= len(self._parts):
+            return b""
+        part = self._parts[self._k]
+        end = len(part) if size is None or size < 0 else min(len(part), self._pos + size)
+        out = part[self._pos:end]
+        self._pos = end
+        return out
+
+
+def _arrow_cells(source: Any, n_lines: int, header: list[str], delim: str, header_row: int) -> _Cells | None:
     names = [f"c{i}" for i in range(len(header))]
     try:
         table = pacsv.read_csv(
-            io.BytesIO((data + "\n").encode("utf-8")),
+            source,
             read_options=pacsv.ReadOptions(column_names=names, use_threads=True, block_size=1 << 24),
             parse_options=pacsv.ParseOptions(delimiter=delim, newlines_in_values=True),
             convert_options=pacsv.ConvertOptions(column_types={c: pa.large_string() for c in names},

@@ -14,17 +14,20 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from valuesift.core.choices import FileKind
 from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake import numbers as nb
 from valuesift.core.intake._common import (
-    DUP, NEGAMT, NODATE, NONPOS, NOSEC, POSITIVE_KINDS, Ctx, clean_ids, date_profile, decide_decimal,
+    NEGAMT, NODATE, NONPOS, NOSEC, POSITIVE_KINDS, Ctx, clean_ids, date_profile, decide_decimal,
     find_column, frequency, number_profiles, stack_columns, tally_values, value_column,
 )
 from valuesift.core.intake.dates import parse_dates
 from valuesift.core.intake.kinds import guess_kind, infer_earnings_form
-from valuesift.core.intake.numbers import parse_numbers
+from valuesift.core.intake.entries import by_column_entries, by_key_entries, code_dtype
+from valuesift.core.intake.numbers import parse_numbers, parse_text_columns
 from valuesift.core.intake.options import ReadOptions, choice_words
 from valuesift.core.intake.readers import Grid
 from valuesift.core.intake.records import tidy_records
@@ -33,6 +36,8 @@ from valuesift.core.intake.sniff import DATE_WORDS, SECURITY_WORDS, looks_like_i
 
 __all__ = ["tidy_grid", "clean_ids"]
 
+_TEXT = pd.StringDtype("pyarrow", na_value=np.nan)  # the "str" dtype of text cells
+
 
 # -- entry ------------------------------------------------------------------------------
 def _future_limit() -> np.datetime64:
@@ -40,7 +45,7 @@ def _future_limit() -> np.datetime64:
     return np.datetime64(pd.Timestamp.now().normalize() + pd.Timedelta(days=366), "ns")
 
 
-def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd.DataFrame, FileReport]:
+def tidy_grid(grid: Grid, name: str, options: ReadOptions, *, release_cells: bool = False) -> tuple[FileKind, pd.DataFrame, FileReport]:
     """Turn a grid into the tidy table of its kind and the file's report.
 
     Parameters
@@ -49,6 +54,10 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd
     name : str
         The file name as the user knows it.
     options : ReadOptions
+    release_cells : bool
+        Empty ``grid.columns`` once a series file's cells are counted (before
+        its tidy table is built), so that their text is freed when the caller
+        holds the grid only to hand it over (as :func:`read_table` does).
 
     Returns
     -------
@@ -72,7 +81,7 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions) -> tuple[FileKind, pd
     if grid.n_rows == 0:
         raise IntakeError(name, Reason.NO_DATA, "the file has a header but no data rows.", row=grid.header_row,
                           hint=f"Check that the export contains the data, or that {choice_words('header_row')} is right.")
-    ctx = Ctx(name, grid, options, header)
+    ctx = Ctx(name, grid, options, header, release_cells=release_cells)
     ctx.notes.extend(grid.notes)
     if grid.extra_cells:
         ctx.tally.add_count(Reason.EXTRA_FIELD, grid.extra_cells,
@@ -116,6 +125,18 @@ def _excluded(ctx: Ctx) -> set[int]:
         ctx.notes.append(f"excluded by request: {', '.join(repr(ctx.header[j]) for j in sorted(out))} "
                          f"({len(out) * ctx.grid.n_rows} cells dropped)")
     return out
+
+
+def _arrow_text(s: pd.Series) -> bool:
+    """Whether a column is text held in Arrow (the "str" dtype every delimited file and spreadsheet gives)."""
+    return s.dtype == _TEXT and hasattr(s.array, "_pa_array")
+
+
+def _id_column(id_table: Any, codes: np.ndarray) -> pd.Series:
+    """The security column: ``id_table[codes]`` as text, taken in Arrow from the small table of distinct ids."""
+    table = pd.array(np.asarray(id_table, dtype=object), dtype="str")._pa_array
+    taken = pc.take(pa.concat_arrays(table.chunks) if table.num_chunks != 1 else table.chunk(0), pa.array(codes))
+    return pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array([taken]), dtype=_TEXT))
 
 
 # -- series kinds -------------------------------------------------------------------------
@@ -222,15 +243,21 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         ctx.notes.append(f"dates are ambiguous: {dres.order_reason}")
     date_ok = (dres.status == 0) & ~future
 
-    # values
-    stacked = stack_columns([ctx.col(j) for j in vcols])
+    # values: Arrow text columns (every delimited file and spreadsheet) are parsed column by column, with no
+    # stacked copy of their text; typed columns (Parquet) are stacked as arrays first
+    by_column = all(_arrow_text(ctx.col(j)) for j in vcols)
+    stacked = None if by_column else stack_columns([ctx.col(j) for j in vcols])
     if vcols != rest:
         decimal, dec_reason = decide_decimal(ctx, vcols)
     ctx.notes.append(f"decimal {decimal}: {dec_reason}")
-    num = parse_numbers(stacked, decimal)  # type: ignore[arg-type]
+    if stacked is None:
+        num = parse_text_columns([ctx.col(j) for j in vcols], decimal)  # type: ignore[arg-type]
+    else:
+        num = parse_numbers(stacked, decimal)  # type: ignore[arg-type]
     n = g.n_rows
-    final = num.status.copy()
-    vals = num.values
+    # the parser's own arrays (contiguous, so the reshaped view below writes into ``final``); no percent marks
+    final, vals = np.ascontiguousarray(num.status), num.values
+    del num
     ok = final == nb.PARSED
     if kind in POSITIVE_KINDS:
         with np.errstate(invalid="ignore"):
@@ -238,9 +265,9 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
     elif kind == "dividends":
         with np.errstate(invalid="ignore"):
             final[ok & (vals < 0)] = NEGAMT
-    rowpos = np.tile(np.arange(n), len(vcols))
-    ok = final == nb.PARSED
-    final[ok & ~date_ok[rowpos]] = NODATE
+    del ok
+    cells = final.reshape(len(vcols), n)  # a view: one row per value column, one column per file row
+    cells[(cells == nb.PARSED) & ~date_ok[None, :]] = NODATE
     if sec is not None:
         raw_ids = ctx.text(sec)
         codes, uniq = pd.factorize(raw_ids)
@@ -248,13 +275,13 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         if misses:
             ctx.notes.append(f"{misses} distinct identifiers did not match id_regex and were kept as written")
         ccodes, id_table = pd.factorize(cleaned, sort=True)
-        cell_code = ccodes[codes] if len(codes) else np.zeros(0, dtype=np.int64)
+        cell_code = ccodes.astype(code_dtype(len(id_table)))[codes] if len(codes) else np.zeros(0, dtype=np.int64)
+        del codes
         blank_code = np.flatnonzero(np.asarray(id_table, dtype=object) == "")
         sec_blank = np.isin(cell_code, blank_code)
         ctx.tally.add_parsed(int((~sec_blank).sum()))
         ctx.tally.add(Reason.BLANK, sec_blank, ctx.locator(sec))
-        ok = final == nb.PARSED
-        final[ok & sec_blank[rowpos]] = NOSEC
+        cells[(cells == nb.PARSED) & sec_blank[None, :]] = NOSEC
     else:
         names = pd.Series([ctx.header[j] for j in vcols], dtype="str") if layout == "wide" else pd.Series([""], dtype="str")
         cleaned, misses = clean_ids(names, o)
@@ -273,39 +300,32 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         ccodes, id_table = pd.factorize(cleaned, sort=True)
         cell_code = ccodes
 
-    # tidy entries (integer keys) and duplicates
-    valid = np.flatnonzero(final == nb.PARSED)
-    ii = valid % n if n else valid
-    jj = valid // n if n else valid
-    sec_v = (cell_code[ii] if sec is not None else cell_code[jj]).astype(np.int64)
-    date_ns = dres.dates.astype("datetime64[ns]").view(np.int64)
-    dcodes, dvals = pd.factorize(date_ns[ii], sort=True)
-    key = sec_v * max(len(dvals), 1) + dcodes.astype(np.int64)
-    order = np.argsort(key, kind="stable")  # by security, then date, then file order
-    ks = key[order]
-    same_next = np.zeros(ks.size, dtype=bool)
-    if ks.size > 1:
-        same_next[:-1] = ks[:-1] == ks[1:]
-    same_prev = np.zeros(ks.size, dtype=bool)
-    same_prev[1:] = same_next[:-1]
-    drop = same_prev if o.duplicate_rule == "first" else same_next
-    if drop.any():
-        if o.duplicate_rule == "error":
-            k = int(order[same_prev].min())  # the earliest entry (in file order) that repeats another
-            when = pd.Timestamp(dres.dates[ii[k]]).strftime("%Y-%m-%d")
-            who = f"security {id_table[sec_v[k]]!r} " if layout != "series" else ""
-            raise IntakeError(ctx.name, Reason.DUPLICATE_ENTRY, f"{who}has more than one value for {when}.",
-                              row=int(g.rows[ii[k]]), column=ctx.header[vcols[jj[k]]],
-                              hint=f"Remove the duplicate, or set {choice_words('duplicate_rule')} to the last (or the first) one wins.")
-        final[valid[order[drop]]] = DUP
+    # tidy entries and duplicates, in the order security, then date, then file order
+    numbers = [vals]  # handed over: the entries free the parsed numbers once they have copied the kept ones
+    del vals
+    entries = by_column_entries if sec is None else by_key_entries
+    ent = entries(final, numbers, n, np.asarray(cell_code), dres.dates, o.duplicate_rule)
+    dvals = ent.dates_seen
+    if ent.first_repeat is not None:
+        k = ent.first_repeat
+        when = pd.Timestamp(dres.dates[k % n]).strftime("%Y-%m-%d")
+        who = f"security {id_table[ent.first_repeat_code]!r} " if layout != "series" else ""
+        raise IntakeError(ctx.name, Reason.DUPLICATE_ENTRY, f"{who}has more than one value for {when}.",
+                          row=int(g.rows[k % n]), column=ctx.header[vcols[k // n]],
+                          hint=f"Remove the duplicate, or set {choice_words('duplicate_rule')} to the last (or the first) one wins.")
+    if ent.n_dropped:
+        date_ns = dres.dates.astype("datetime64[ns]").view(np.int64)
         n_dup_dates = int(pd.Series(date_ns[date_ok]).duplicated().sum())
-        ctx.notes.append(f"{int(drop.sum())} duplicate entries resolved ({o.duplicate_rule} wins)"
+        ctx.notes.append(f"{ent.n_dropped} duplicate entries resolved ({o.duplicate_rule} wins)"
                          + (f"; {n_dup_dates} date row(s) repeat an earlier date" if n_dup_dates else ""))
-    keep = order[~drop]
-    sec_k = sec_v[keep]
-    ids = pd.Series(pd.array(np.asarray(id_table, dtype=object), dtype="str")).take(sec_k).reset_index(drop=True)
-    tidy = pd.DataFrame({"date": dres.dates[ii[keep]], "security": ids, "value": vals[valid[keep]]}, copy=False)
     tally_values(ctx, final, vcols, stacked)
+    del final, stacked
+    if ctx.release_cells:  # every count and example is taken: the cells' text goes before the security column is built
+        g.columns.clear()
+    keep_size, n_secs = int(len(ent.values)), ent.n_securities
+    ids = _id_column(id_table, ent.codes)
+    tidy = pd.DataFrame({"date": ent.dates, "security": ids, "value": ent.values}, copy=False)
+    del ent, ids
 
     # report fields
     value_form: str | None = None
@@ -335,9 +355,9 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
     extra: dict[str, Any] = dict(
         layout=layout if layout != "series" else "long",
         date_column=ctx.header[d], date_order=dres.order, date_order_reason=dres.order_reason,
-        decimal=decimal, n_securities=int(1 + np.count_nonzero(np.diff(sec_k))) if kind != "benchmark" and keep.size else 0,
-        first_date=pd.Timestamp(dvals.min()) if keep.size else None,
-        last_date=pd.Timestamp(dvals.max()) if keep.size else None,
+        decimal=decimal, n_securities=n_secs if kind != "benchmark" and keep_size else 0,
+        first_date=pd.Timestamp(dvals.min()) if keep_size else None,
+        last_date=pd.Timestamp(dvals.max()) if keep_size else None,
         frequency=("annual or irregular" if avail_col is not None else frequency(dvals.astype("datetime64[ns]")))
         if kind != "dividends" else "events", security_column=ctx.header[sec] if sec is not None else None,
         value_column=ctx.header[vcols[0]] if layout != "wide" else None, value_form=value_form,

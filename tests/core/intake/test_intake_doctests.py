@@ -7,7 +7,7 @@ import importlib
 
 import pytest
 
-MODULES = ["numbers", "dates", "kinds", "_common", "files", "align", "splits", "flags"]
+MODULES = ["numbers", "dates", "kinds", "_common", "files", "align", "splits", "flags", "entries"]
 
 
 @pytest.mark.parametrize("mod", MODULES)
