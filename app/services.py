@@ -383,16 +383,17 @@ def default_upload_budget() -> int:
 class UploadBudget:
     """Admission of uploads against one memory budget for all uploads being read at once.
 
-    Reading an upload costs a multiple of its size (the request body, its text,
-    the decoded bytes and the parsed cells); ``COST`` is that multiple as
-    measured by ``tests/benchmarks/upload_memory.py`` (a 90 MB wide daily
-    price file peaked at 20 times its size above the server's baseline).  An
-    upload whose cost does not fit the remaining budget is refused with a
-    message, never queued behind the others; one upload alone is always
-    admitted (the size limit bounds it).
+    Reading an upload costs a multiple of its size (the request body, the
+    parsed cells and the tidy table built from them); ``COST`` is that multiple
+    as measured by ``tests/benchmarks/upload_memory.py`` through the Data
+    page's upload route (a 41 MB wide daily price file peaked at 9.3 times its
+    size above the server's baseline, a 90 MB one at 6.0 times; the older
+    callback path 11.2 times), with a margin.  An upload whose cost does not
+    fit the remaining budget is refused with a message, never queued behind
+    the others; one upload alone is always admitted (the size limit bounds it).
     """
 
-    COST = 20
+    COST = 12
 
     def __init__(self, budget_bytes: int) -> None:
         self.budget = int(budget_bytes)

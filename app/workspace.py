@@ -417,7 +417,8 @@ class Workspace:
         did = _dataset_id(sha, options, owner)
         now = datetime.now(timezone.utc).isoformat(timespec="seconds")
         report = report_to_dict(pf.report)
-        atomic_write_bytes(self._data_path(did), pf.data.to_parquet(index=False))
+        # written straight to the file (no Parquet copy of the whole table in memory first)
+        _atomic(self._data_path(did), lambda fh: pf.data.to_parquet(fh, index=False))
         try:
             with self._lock, self._connect() as con:
                 con.execute(
