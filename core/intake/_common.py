@@ -142,7 +142,8 @@ def number_profiles(ctx: Ctx, cols: Sequence[int], decimal: str, k: int = 200) -
     pieces: list[tuple[int, pa.Array | pa.ChunkedArray]] = []
     for j in cols:
         c = ctx.col(j)
-        if pd.api.types.is_numeric_dtype(c.dtype) or pd.api.types.is_datetime64_any_dtype(c.dtype):
+        if not isinstance(c.dtype, pd.StringDtype) and (pd.api.types.is_numeric_dtype(c.dtype)
+                                                         or pd.api.types.is_datetime64_any_dtype(c.dtype)):
             out[j] = (0.0, _present(c, k))  # typed cells need no text profiling
             continue
         pa_arr = getattr(c.array, "_pa_array", None)

@@ -198,14 +198,30 @@ def _longest_arrow_text(cols: Sequence[pd.Series]) -> int:
     import pyarrow.compute as pc
 
     longest = 0
-    for s in cols:  # column by column: the lengths of one column's cells at a time, not of every cell
-        if pd.api.types.is_numeric_dtype(s.dtype) or pd.api.types.is_datetime64_any_dtype(s.dtype) or not len(s):
+    block: list[Any] = []
+    cells = 0
+
+    def measure() -> int:
+        # the lengths of a block of about 130,000 cells at a time (one Arrow pass per block, not per column of a
+        # wide file, and never the lengths of every cell at once)
+        m = pc.max(pc.utf8_length(pa.chunked_array(block, pa.large_string()))).as_py()
+        return int(m or 0)
+
+    for s in cols:
+        if not len(s) or not isinstance(s.dtype, pd.StringDtype):
+            if len(s) and not (pd.api.types.is_numeric_dtype(s.dtype) or pd.api.types.is_datetime64_any_dtype(s.dtype)):
+                return MAX_CELL_CHARS + 1   # text that is not Arrow-backed
             continue
         arr = getattr(s.array, "_pa_array", None)
         if arr is None:
             return MAX_CELL_CHARS + 1
-        m = pc.max(pc.utf8_length(arr if arr.type == pa.large_string() else arr.cast(pa.large_string()))).as_py()
-        longest = max(longest, int(m or 0))
+        block.extend(ch if ch.type == pa.large_string() else ch.cast(pa.large_string()) for ch in arr.chunks)
+        cells += len(s)
+        if cells >= 1 << 17:
+            longest = max(longest, measure())
+            block, cells = [], 0
+    if block:
+        longest = max(longest, measure())
     return longest
 
 

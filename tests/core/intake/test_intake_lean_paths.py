@@ -61,6 +61,21 @@ def test_columns_parse_as_the_stacked_cells(decimal: str, chunked: bool, pool: s
         _same(parse_text_columns(cols, decimal), parse_numbers(stack_columns(cols), decimal))  # type: ignore[arg-type]
 
 
+@pytest.mark.parametrize("chunked", [False, True], ids=["one-chunk", "chunked"])
+def test_columns_joined_in_blocks_parse_as_the_stacked_cells(chunked: bool, monkeypatch: pytest.MonkeyPatch) -> None:
+    """Blocks of several columns in one Arrow pass (a small block size forces many blocks, a last short one and a
+    dirty cell in a later block) give the stacked parse cell for cell."""
+    monkeypatch.setattr(nb, "_BLOCK_CELLS", 50)
+    rng = np.random.default_rng(12)
+    plain = [repr(float(v)) for v in rng.normal(0, 1e3, 50)] + [""]
+    cols = _columns(rng, 20, 13, plain, chunked)                 # 2 columns a block, 7 blocks
+    _same(parse_text_columns(cols), parse_numbers(stack_columns(cols)))
+    assert (parse_text_columns(cols).status != nb.BLANK).sum() > 0
+    dirty = _columns(rng, 20, 1, ["n.a.", "3"], chunked)
+    cols = cols[:9] + dirty + cols[9:]
+    _same(parse_text_columns(cols), parse_numbers(stack_columns(cols)))
+
+
 def test_one_dirty_column_sends_every_column_through_the_careful_parser() -> None:
     clean = pd.Series(["1.5", "2", ""], dtype="str")
     dirty = pd.Series(["n.a.", "3", "4"], dtype="str")
