@@ -64,7 +64,7 @@ _OVERLAPS = """() => {
 
 # A data grid's header broken inside a word ("Holdi / ng") or a cell cut short ("not m..."): each header
 # word measured in the header's own font against the room the header has, and each cell's text against its box.
-_GRID_CLIPS = """() => {
+_GRID_CLIPS = r"""() => {
     const out = [];
     const probe = document.createElement('span');
     probe.style.cssText = 'position:absolute;visibility:hidden;white-space:nowrap';
