@@ -123,19 +123,25 @@ def _reference(final: np.ndarray, values: np.ndarray, n: int, code_of: np.ndarra
 
 
 @pytest.mark.parametrize("rule", ["first", "last", "error"])
-@pytest.mark.parametrize("layout", ["wide", "wide-repeated-ids", "long"])
+@pytest.mark.parametrize("layout", ["wide", "wide-repeated-ids", "long", "wide-distinct-dates", "wide-large"])
 def test_entries_match_a_sort_of_tuples(rule: str, layout: str) -> None:
-    rng = np.random.default_rng({"wide": 1, "wide-repeated-ids": 2, "long": 3}[layout])
-    for trial in range(25):
-        n = int(rng.integers(1, 40))
-        m = 1 if layout == "long" else int(rng.integers(1, 6))
-        day = rng.integers(0, max(2, n // 2), n)  # repeated dates
+    """``wide-distinct-dates`` and ``wide-large`` take the one-column-per-security path (no date twice);
+    ``wide-large`` has about 300,000 cells, so that path works through several blocks of columns."""
+    rng = np.random.default_rng({"wide": 1, "wide-repeated-ids": 2, "long": 3, "wide-distinct-dates": 4,
+                                 "wide-large": 5}[layout])
+    for trial in range(2 if layout == "wide-large" else 25):
+        n = 1000 if layout == "wide-large" else int(rng.integers(1, 40))
+        m = 1 if layout == "long" else 300 if layout == "wide-large" else int(rng.integers(1, 6))
+        if layout in ("wide-distinct-dates", "wide-large"):
+            day = rng.permutation(3 * n)[:n]          # every row its own date, rows not in date order
+        else:
+            day = rng.integers(0, max(2, n // 2), n)  # repeated dates
         dates = (np.datetime64("2020-01-01", "D") + day).astype("datetime64[ns]")
         final = rng.choice(np.array([nb.PARSED, nb.PARSED, nb.PARSED, nb.BLANK], dtype=np.int8), n * m)
         values = rng.normal(size=n * m)
         if layout == "long":
             code_of = rng.integers(0, 4, n)
-        elif layout == "wide":
+        elif layout in ("wide", "wide-distinct-dates", "wide-large"):
             code_of = rng.permutation(m)
         else:
             code_of = rng.integers(0, max(1, m - 1), m)
