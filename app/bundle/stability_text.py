@@ -163,8 +163,7 @@ def controls_sentences(result: StudyResult, horizon: int) -> list[str]:
     if int(r.get("n_dates_with", 0) or 0) == 0:
         return [f"With {r['controls']} in the same monthly regressions, the slope on the signal at {horizon} months "
                 "cannot be estimated: no date had enough names with every control for a regression with that many "
-                f"terms. Without the controls it is {fmt_num(r['slope_without'], 4)} "
-                f"(t = {fmt_num(r['t_without'], 2)})."]
+                f"terms. Without the controls it is {fmt_num(r['slope_without'], 4)}."]
     verdict = evidence_phrase(r["evidence_with"])
     return [f"With {r['controls']} in the same monthly regressions, the slope on the signal at {horizon} months is "
             f"{fmt_num(r['slope_with'], 4)} (t = {fmt_num(r['t_with'], 2)}: {verdict}) against "
