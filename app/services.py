@@ -23,7 +23,7 @@ import flask
 from valuesift.app.jobs import Busy, Job, JobRunner
 from valuesift.app.result_cache import SignedCache, load_secret
 from valuesift.app.workspace import Workspace, options_to_dict
-from valuesift.core.intake import PanelOptions, build_panel
+from valuesift.core.intake import PanelOptions, ReadOptions, build_panel
 from valuesift.core.panel import Panel
 from valuesift.core.config import StudyConfig
 from valuesift.core.result import StudyResult
@@ -170,6 +170,18 @@ class AppState:
                 parts.append([rec.sha256, options_to_dict(rec.options)])
         blob = json.dumps({"files": parts, "splits": sel["splits"]}, sort_keys=True, default=str)
         return hashlib.sha256(blob.encode()).hexdigest()
+
+    def read_upload(self, name: str, raw: bytes, kind: str | None = None) -> tuple[Any, str | None]:
+        """One uploaded file for the current session: ``(record, None)`` after reading it, or ``(the dataset
+        already read from the same bytes, its name)`` -- reused with its reading choices, not catalogued twice.
+        The caller admits the upload against :attr:`uploads` around this."""
+        owner = current_owner() or ""
+        known = self.workspace.find_upload(raw, owner=owner)
+        if known is not None:
+            return known, known.name
+        rec = self.workspace.add_upload(name, raw, ReadOptions(kind=kind or None, max_bytes=self.max_upload_bytes),
+                                        owner=owner)
+        return rec, None
 
     def usable_ids(self, sel: Selection) -> list[str]:
         """The ids of a selection that are readable and visible to the current session."""

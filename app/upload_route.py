@@ -27,10 +27,9 @@ from urllib.parse import unquote, urlsplit
 
 import flask
 
-from valuesift.app.services import AppState, current_owner
+from valuesift.app.services import AppState
 from valuesift.core.choices import FileKind
 from valuesift.core.errors import ValueSiftError
-from valuesift.core.intake import ReadOptions
 
 __all__ = ["UPLOAD_PATH", "UPLOAD_HEADER", "install_upload_route", "read_body_to_file"]
 
@@ -113,15 +112,10 @@ def install_upload_route(server: flask.Flask, st: AppState) -> None:
                                status=400)
             raw = path.read_bytes()
             path.unlink(missing_ok=True)
-            owner = current_owner() or ""
-            known = st.workspace.find_upload(raw, owner=owner)
-            if known is not None:   # the same bytes again: the dataset already read, with its reading choices
-                return _answer(name, True, dataset_id=known.id, known=known.name)
-            rec = st.workspace.add_upload(name, raw, ReadOptions(kind=kind, max_bytes=st.max_upload_bytes),
-                                          owner=owner)
+            rec, known = st.read_upload(name, raw, kind)
             del raw
             if rec.ok:
-                return _answer(name, True, dataset_id=rec.id)
+                return _answer(name, True, dataset_id=rec.id, known=known)
             return _answer(name, False, rec.error or f"{name} could not be read.")
         finally:
             if path is not None:

@@ -22,7 +22,6 @@ from valuesift.app.upload_route import UPLOAD_PATH
 from valuesift.app.words import SECURITY_FLAG_WORDS, reason_words
 from valuesift.app.workspace import UNDO_S
 from valuesift.core.errors import ValueSiftError
-from valuesift.core.intake import ReadOptions
 from valuesift.core.intake.options import READ_CHOICES
 
 dash.register_page(__name__, path="/data", name="Data", order=0, title="ValueSift - Data")
@@ -87,6 +86,11 @@ def _out(sel: dict[str, list[str]]) -> dict[str, Any]:
     return {**sel, "instance": st.instance}
 
 
+def _already_loaded(name: str, known: str) -> html.Div:
+    return alert(f"{name} is already loaded (as {known}); it is used as it was read, with the choices made for it.",
+                 "info")
+
+
 def _with(sel: dict[str, list[str]], rec: Any) -> dict[str, list[str]]:
     """Put a dataset in use; it replaces another of the same kind (except user signals)."""
     ws = state().workspace
@@ -133,14 +137,9 @@ def _upload(contents: Any, names: Any, sel_raw: Any, version: Any, kind: Any = N
             except (ValueError, binascii.Error):
                 messages.append(alert(f"{name}: the upload arrived damaged; please drop the file again."))
                 continue
-            known = st.workspace.find_upload(raw, owner=current_owner() or "")
+            rec, known = st.read_upload(name, raw, kind)
             if known is not None:       # the same bytes again: the dataset already read, with its reading choices
-                rec = known
-                messages.append(alert(f"{name} is already loaded (as {known.name}); it is used as it was read, "
-                                      "with the choices made for it.", "info"))
-            else:
-                rec = st.workspace.add_upload(name, raw, ReadOptions(kind=kind or None, max_bytes=st.max_upload_bytes),
-                                              owner=current_owner() or "")
+                messages.append(_already_loaded(name, known))
             del raw
         finally:
             st.uploads.release(cost)
@@ -189,8 +188,7 @@ def _uploaded(done: Any, sel_raw: Any, version: Any) -> Any:
             continue
         ok += 1
         if r.get("known"):
-            messages.append(alert(f"{name} is already loaded (as {r['known']}); it is used as it was read, "
-                                  "with the choices made for it.", "info"))
+            messages.append(_already_loaded(name, str(r["known"])))
         sel = _with(sel, rec)
     if ok:
         messages.insert(0, alert(f"Read {ok} of {len(results)} file(s); their reports are below.", "info"))
