@@ -39,7 +39,7 @@ from valuesift.app.services import (
 )
 from valuesift.app.settings import config_from_settings
 from valuesift.app.upload_route import install_upload_route
-from valuesift.app.workspace import Workspace, user_data_dir
+from valuesift.app.workspace import Workspace, user_data_dir, warm_intake
 from valuesift.core.demo import write_demo
 from valuesift.core.demo.write import INDEX_COLUMN
 from valuesift.core.errors import ConfigError
@@ -401,6 +401,11 @@ def serve(host: str = "127.0.0.1", port: int = 8750, demo: bool = False, workspa
     ws_path = Path(workspace).expanduser() if workspace else DEFAULT_WORKSPACE
     app = create_app(ws_path, demo=demo, dev=dev, max_upload_mb=max_upload_mb, token=token,
                      hosts=allowed_hosts(host, port, public_names))
+    # the readers' one-time set-up now, not inside the first upload's memory; in a thread of its own that then
+    # ends, so that the memory it set up is left to the threads that serve the uploads
+    warm = threading.Thread(target=warm_intake, name="intake warm-up")
+    warm.start()
+    warm.join()
     shown = "127.0.0.1" if host in ("0.0.0.0", "::") else host
     start = "/study" if demo else "/"
     url = f"http://{shown}:{port}{start}" + (f"?token={token}" if token else "")

@@ -16,6 +16,7 @@ import threading
 import uuid
 from collections import OrderedDict
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
 import flask
@@ -171,10 +172,11 @@ class AppState:
         blob = json.dumps({"files": parts, "splits": sel["splits"]}, sort_keys=True, default=str)
         return hashlib.sha256(blob.encode()).hexdigest()
 
-    def read_upload(self, name: str, raw: bytes, kind: str | None = None) -> tuple[Any, str | None]:
-        """One uploaded file for the current session: ``(record, None)`` after reading it, or ``(the dataset
-        already read from the same bytes, its name)`` -- reused with its reading choices, not catalogued twice.
-        The caller admits the upload against :attr:`uploads` around this."""
+    def read_upload(self, name: str, raw: bytes | Path, kind: str | None = None) -> tuple[Any, str | None]:
+        """One uploaded file (its bytes, or the file they were written to) for the current session:
+        ``(record, None)`` after reading it, or ``(the dataset already read from the same bytes, its name)``
+        -- reused with its reading choices, not catalogued twice.  The caller admits the upload against
+        :attr:`uploads` around this."""
         owner = current_owner() or ""
         known = self.workspace.find_upload(raw, owner=owner)
         if known is not None:
@@ -395,26 +397,33 @@ def default_upload_budget() -> int:
 class UploadBudget:
     """Admission of uploads against one memory budget for all uploads being read at once.
 
-    Reading an upload costs a multiple of its size (the request body, the
-    parsed cells and the tidy table built from them); ``COST`` is that multiple
-    as measured by ``tests/benchmarks/upload_memory.py`` through the Data
-    page's upload route (a 41 MB wide daily price file peaked at 9.3 times its
-    size above the server's baseline, a 90 MB one at 6.0 times; the older
-    callback path 11.2 times), with a margin.  An upload whose cost does not
-    fit the remaining budget is refused with a message, never queued behind
-    the others; one upload alone is always admitted (the size limit bounds it).
+    Reading an upload costs a multiple of its size plus a fixed part, as
+    measured by ``tests/benchmarks/upload_memory.py`` on a server just started
+    (the first upload, so nothing an earlier one left behind is reused):
+    through the Data page's upload route a wide daily price file peaked at
+    3.5 times its size above the server's baseline at 41 MB and 3.2 times at
+    90 MB, a 16 MB one at 77 MB (4.7 times: about 30 MB of it does not grow
+    with the file); through the older callback path (the file base64-encoded
+    in a JSON body) 6.6 times at 41 MB.  ``COST`` and ``CALLBACK_COST`` are
+    those multiples and ``FIXED`` the fixed part, each with a margin.  An
+    upload whose cost does not fit the remaining budget is refused with a
+    message, never queued behind the others; one upload alone is always
+    admitted (the size limit bounds it).
     """
 
-    COST = 12
+    COST = 4
+    CALLBACK_COST = 8
+    FIXED = 48 * 1024 * 1024
 
     def __init__(self, budget_bytes: int) -> None:
         self.budget = int(budget_bytes)
         self.in_use = 0
         self._lock = threading.Lock()
 
-    def admit(self, size: int) -> int:
-        """Reserve the memory of one upload of ``size`` bytes; returns the reservation (release it)."""
-        cost = max(1, int(size)) * self.COST
+    def admit(self, size: int, multiple: int | None = None) -> int:
+        """Reserve the memory of one upload of ``size`` bytes (``multiple`` of it, :attr:`COST` unless
+        given, plus :attr:`FIXED`); returns the reservation (release it)."""
+        cost = max(1, int(size)) * (self.COST if multiple is None else int(multiple)) + self.FIXED
         with self._lock:
             if self.in_use and self.in_use + cost > self.budget:
                 raise Busy(f"The server is reading other uploads right now and has no memory left for a file of "

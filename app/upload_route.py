@@ -4,8 +4,9 @@ The framework's own upload component sends a file base64-encoded inside a JSON
 callback body, which costs about three times the file in the server's memory
 before intake starts.  The Data page's script (``assets/upload.js``) instead
 sends each dropped file as the raw body of ``POST /_valuesift/upload``; the
-body is copied to a temporary file in the workspace in 1 MB pieces and read
-back once, so the server holds the file once while intake reads it.
+body is copied to a temporary file in the workspace in 1 MB pieces and intake
+reads that file, letting its bytes go once the cells are split, so the server
+holds the file at most once and not while the table is built.
 
 Every check of the dashboard applies: the Host names, the access token and the
 browser session (all ``before_request``).  The route also needs the header
@@ -110,10 +111,7 @@ def install_upload_route(server: flask.Flask, st: AppState) -> None:
             except (ValueError, OSError):
                 return _answer(name, False, f"{name}: the upload arrived incomplete; please drop the file again.",
                                status=400)
-            raw = path.read_bytes()
-            path.unlink(missing_ok=True)
-            rec, known = st.read_upload(name, raw, kind)
-            del raw
+            rec, known = st.read_upload(name, path, kind)   # read from the file: the bytes are held once
             if rec.ok:
                 return _answer(name, True, dataset_id=rec.id, known=known)
             return _answer(name, False, rec.error or f"{name} could not be read.")

@@ -127,7 +127,7 @@ def _upload(contents: Any, names: Any, sel_raw: Any, version: Any, kind: Any = N
         name = str(name or "upload")
         text = str(content)
         try:
-            cost = st.uploads.admit(len(text) * 3 // 4)     # memory for reading it, against the server's budget
+            cost = st.uploads.admit(len(text) * 3 // 4, st.uploads.CALLBACK_COST)  # its memory, against the budget
         except ValueSiftError as err:
             messages.append(alert(f"{name}: {err}"))
             continue

@@ -52,6 +52,7 @@ class Ctx:
     tally: Tally = field(default_factory=Tally)
     notes: list[str] = field(default_factory=list)
     release_cells: bool = False  # empty grid.columns once the cells are counted (see tidy_grid)
+    lean: bool = False  # less memory: see tidy_grid
 
     def col(self, j: int) -> pd.Series:
         return self.grid.columns[j]
@@ -287,7 +288,9 @@ def tally_values(ctx: Ctx, final: np.ndarray, vcols: Sequence[int], stacked: pd.
             return stacked.iloc[i].astype("str").to_numpy()
         out = np.empty(i.size, dtype=object)
         for t, k in enumerate(i):
-            out[t] = ctx.col(vcols[int(k) // n]).iloc[[int(k) % n]].astype("str").to_numpy()[0]
+            col = ctx.col(vcols[int(k) // n])
+            # a column whose text a lean read let go holds only blank cells and kept numbers (no examples)
+            out[t] = "" if col is None else col.iloc[[int(k) % n]].astype("str").to_numpy()[0]
         return out
 
     def locate(i: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -24,7 +24,7 @@ import pandas as pd
 from valuesift.core.intake import numbers as nb
 from valuesift.core.intake._common import DUP
 
-__all__ = ["Entries", "by_column_entries", "by_key_entries", "code_dtype"]
+__all__ = ["Entries", "by_column_entries", "by_key_entries", "code_dtype", "nothing_can_repeat"]
 
 
 @dataclass(frozen=True)
@@ -48,6 +48,9 @@ class Entries:
     n_dropped: int
     first_repeat: int | None = None
     first_repeat_code: int | None = None
+    #: when given, ``dates`` holds each entry's position in this sorted array of distinct dates instead of
+    #: the date itself (a small integer per entry; see ``dates_as_codes`` of :func:`by_column_entries`)
+    date_categories: np.ndarray | None = None
 
 
 def _ranks(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -80,15 +83,34 @@ def _repeats(sorted_dates: np.ndarray, rule: str) -> tuple[np.ndarray, np.ndarra
     return same_prev, (same_prev if rule == "first" else same_next)
 
 
+def nothing_can_repeat(column_code: np.ndarray, dates: np.ndarray) -> bool:
+    """Whether :func:`by_column_entries` can drop nothing: one column per security and no date twice.
+
+    Then no cell becomes a duplicate, so every cell's final status is known before the entries are built
+    (the common wide file).  A date that could not be read counts as repeated (NaT equals NaT here).
+
+    Examples
+    --------
+    >>> days = np.array(["2020-01-02", "2020-01-01"], dtype="datetime64[ns]")
+    >>> nothing_can_repeat(np.array([1, 0]), days), nothing_can_repeat(np.array([0, 0]), days)
+    (True, False)
+    """
+    date_ns = dates.astype("datetime64[ns]").view(np.int64)
+    return bool(np.unique(column_code).size == len(column_code) and np.unique(date_ns).size == date_ns.size)
+
+
 def by_column_entries(final: np.ndarray, values: list[np.ndarray], n: int, column_code: np.ndarray, dates: np.ndarray,
-                      rule: str) -> Entries:
+                      rule: str, *, dates_as_codes: bool = False) -> Entries:
     """Entries when value column ``j`` holds security ``column_code[j]`` (wide and single-series files).
 
     ``final`` (status per cell, int8) is updated in place: dropped duplicates
     get :data:`DUP` (except under the "error" rule, which only reports the first).
     ``values`` is a one-item list holding the parsed numbers per cell; it is
     emptied, so that those numbers are freed once the kept ones are copied
-    (before the dates are gathered).
+    (before the dates are gathered).  With ``dates_as_codes``, a file where
+    nothing can repeat (:func:`nothing_can_repeat`) gives its entries' dates as
+    codes into ``date_categories`` (the same dates in a quarter of the memory
+    or less); other files give the dates themselves.
 
     Examples
     --------
@@ -110,12 +132,12 @@ def by_column_entries(final: np.ndarray, values: list[np.ndarray], n: int, colum
     dates_seen = np.unique(date_ns[seen])
     del seen
     by_code = np.argsort(column_code, kind="stable")
-    if np.unique(column_code).size == m and np.unique(date_ns).size == n:
+    if nothing_can_repeat(column_code, dates):
         # the common wide file: one column per security and no date twice, so nothing repeats; every column's
         # parsed cells in date order, a block of columns at a time (a few array passes instead of three per column)
         held = [numbers]
         del numbers      # the callee frees them before gathering the dates: no reference may stay here
-        return _one_column_each(final, held, n, column_code, by_code, row_order, dates, dates_seen)
+        return _one_column_each(final, held, n, column_code, by_code, row_order, dates, dates_seen, dates_as_codes)
     groups: dict[int, list[int]] = {}
     for j in by_code:
         groups.setdefault(int(column_code[j]), []).append(int(j))
@@ -171,7 +193,8 @@ def by_column_entries(final: np.ndarray, values: list[np.ndarray], n: int, colum
 
 
 def _one_column_each(final: np.ndarray, held: list[np.ndarray], n: int, column_code: np.ndarray, by_code: np.ndarray,
-                     row_order: np.ndarray, dates: np.ndarray, dates_seen: np.ndarray) -> Entries:
+                     row_order: np.ndarray, dates: np.ndarray, dates_seen: np.ndarray,
+                     dates_as_codes: bool = False) -> Entries:
     """:func:`by_column_entries` when every security has one column and no date repeats (no duplicates to drop):
     the same entries in the same order (securities by code, each one's cells by date), built in blocks of about
     130,000 cells; the values are gathered (and the parsed numbers freed) before the dates, as there."""
@@ -199,12 +222,19 @@ def _one_column_each(final: np.ndarray, held: list[np.ndarray], n: int, column_c
         n_secs += int(np.count_nonzero(counts))
         pos += k
     del numbers
-    out_dates = np.empty(total, dtype=dates.dtype)
+    table: np.ndarray | None = None
+    source = dates
+    if dates_as_codes:  # each row's date as its place among the rows' distinct dates (no date repeats here)
+        dated = ~np.isnat(dates)
+        table = np.sort(dates[dated])
+        source = np.full(n, -1, dtype=code_dtype(len(table)))
+        source[dated] = np.searchsorted(table, dates[dated])
+    out_dates = np.empty(total, dtype=source.dtype)
     pos = 0
     for _, _, rows in blocks():
-        out_dates[pos:pos + rows.size] = dates[rows]
+        out_dates[pos:pos + rows.size] = source[rows]
         pos += rows.size
-    return Entries(out_dates, out_codes, out_vals, dates_seen, n_secs, 0)
+    return Entries(out_dates, out_codes, out_vals, dates_seen, n_secs, 0, date_categories=table)
 
 
 def by_key_entries(final: np.ndarray, values: list[np.ndarray], n: int, row_code: np.ndarray, dates: np.ndarray,

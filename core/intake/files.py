@@ -12,7 +12,7 @@ import pandas as pd
 from valuesift.core.choices import FileKind
 from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake.options import ReadOptions
-from valuesift.core.intake.readers import read_grid
+from valuesift.core.intake.readers import read_grid, read_text_file
 from valuesift.core.intake.report import FileReport
 from valuesift.core.intake.tidy import tidy_grid
 
@@ -47,16 +47,8 @@ _RAISE_LIMIT = ("If the file is genuine, raise the size limit (--max-upload-mb w
                 "max_bytes of the reading choices in Python).")
 
 
-def _load(source: str | os.PathLike[str] | bytes, name: str | None, options: ReadOptions) -> tuple[bytes, str]:
-    if isinstance(source, (bytes, bytearray, memoryview)):
-        if not name:
-            raise IntakeError("(unnamed file)", Reason.BAD_OPTION, "a file given as bytes needs a name.",
-                              hint="Pass name='the file name as the user knows it'.")
-        raw = bytes(source)
-        if len(raw) > options.max_bytes:
-            raise IntakeError(name, Reason.TOO_LARGE, f"the file has {len(raw):,} bytes, above the limit of {options.max_bytes:,}.",
-                              hint=_RAISE_LIMIT)
-        return raw, name
+def _checked_path(source: str | os.PathLike[str], name: str | None, options: ReadOptions) -> tuple[str, str, int]:
+    """The path, the file's label and its size, once it exists and is within the size limit."""
     path = os.fspath(source)
     label = name or os.path.basename(path)
     try:
@@ -67,9 +59,34 @@ def _load(source: str | os.PathLike[str] | bytes, name: str | None, options: Rea
     if size > options.max_bytes:
         raise IntakeError(label, Reason.TOO_LARGE, f"the file has {size:,} bytes, above the limit of {options.max_bytes:,}.",
                           hint=_RAISE_LIMIT)
+    return path, label, size
+
+
+def _file_digest(path: str, label: str) -> tuple[str, int]:
     try:
         with open(path, "rb") as fh:
-            raw = fh.read(options.max_bytes + 1)
+            return hashlib.file_digest(fh, "sha256").hexdigest(), os.fstat(fh.fileno()).st_size
+    except OSError as err:
+        raise IntakeError(label, Reason.UNREADABLE, "the file cannot be read.", hint="Check the path and permissions.") from err
+
+
+def _load(source: str | os.PathLike[str] | bytes, name: str | None, options: ReadOptions) -> tuple[bytes, str]:
+    if isinstance(source, (bytes, bytearray, memoryview)):
+        if not name:
+            raise IntakeError("(unnamed file)", Reason.BAD_OPTION, "a file given as bytes needs a name.",
+                              hint="Pass name='the file name as the user knows it'.")
+        raw = bytes(source)
+        if len(raw) > options.max_bytes:
+            raise IntakeError(name, Reason.TOO_LARGE, f"the file has {len(raw):,} bytes, above the limit of {options.max_bytes:,}.",
+                              hint=_RAISE_LIMIT)
+        return raw, name
+    path, label, size = _checked_path(source, name, options)
+    try:
+        with open(path, "rb") as fh:
+            # the size read first (no buffer of the whole limit); a file that grew since is read on, up to the limit
+            raw = fh.read(min(size, options.max_bytes) + 1)
+            if len(raw) > size:
+                raw += fh.read(options.max_bytes + 1 - len(raw))
     except OSError as err:
         raise IntakeError(label, Reason.UNREADABLE, "the file cannot be read.", hint="Check the path and permissions.") from err
     if len(raw) > options.max_bytes:
@@ -86,7 +103,7 @@ def _check_time(deadline: float, name: str, stage: str) -> None:
 
 
 def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = None,
-               options: ReadOptions = ReadOptions()) -> ParsedFile:
+               options: ReadOptions = ReadOptions(), lean: bool = False) -> ParsedFile:
     """Read one file into a tidy table with a full account of its cells.
 
     Parameters
@@ -97,6 +114,15 @@ def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = Non
         The file name as the user knows it (used in every message); required for bytes.
     options : ReadOptions
         Reading choices; every set field overrides detection.
+    lean : bool
+        Less memory, for a caller that stores the table (the dashboard): the
+        security column is a categorical of the same text (each id held once),
+        and a wide file's text is let go as its numbers are made (see
+        :func:`~valuesift.core.intake.tidy.tidy_grid`); given a path, a large
+        delimited UTF-8 file is read from disk in pieces (its bytes never all
+        in memory at once) and any other file's bytes are let go once its
+        cells are split.  The report is the same, and the table once its
+        categorical columns are read as plain values.
 
     Returns
     -------
@@ -128,10 +154,19 @@ def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = Non
     label = name or ("(unnamed file)" if isinstance(source, (bytes, bytearray, memoryview)) else os.path.basename(os.fspath(source)))
     deadline = time.monotonic() + INTAKE_TIME_BUDGET_S
     try:
-        raw, label = _load(source, name, options)
-        grid = read_grid(raw, label, options)
+        grid = None
+        if lean and not isinstance(source, (bytes, bytearray, memoryview)):
+            # a large delimited file is read from disk in pieces (its bytes never all in memory); None otherwise
+            path, label, _ = _checked_path(source, name, options)
+            sha, size = _file_digest(path, label)
+            grid = read_text_file(path, label, options)
+        if grid is None:
+            raw, label = _load(source, name, options)
+            sha, size = hashlib.sha256(raw).hexdigest(), len(raw)
+            grid = read_grid(raw, label, options)
+            del raw  # the bytes read from a path are freed here (bytes passed in stay with the caller)
         _check_time(deadline, label, "splitting it into cells")
-        kind, data, report = tidy_grid(grid, label, options, release_cells=True)
+        kind, data, report = tidy_grid(grid, label, options, release_cells=True, lean=lean)
         del grid
         _check_time(deadline, label, "reading its dates and numbers")
     except IntakeError:
@@ -141,4 +176,4 @@ def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = Non
     except Exception as err:
         raise IntakeError(label, Reason.UNREADABLE, f"the file could not be read ({type(err).__name__}).",
                           hint="Check the format settings (delimiter, header row, sheet), or export the file again.") from err
-    return ParsedFile(label, kind, data, report, options, hashlib.sha256(raw).hexdigest(), len(raw))
+    return ParsedFile(label, kind, data, report, options, sha, size)

@@ -8,7 +8,7 @@ values that a plain numeric conversion already reads are not touched again.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Literal, Sequence
+from typing import Callable, Literal, Sequence
 
 import numpy as np
 import pandas as pd
@@ -146,7 +146,8 @@ def _careful(values: pd.Series, decimal: str) -> NumberResult:
     return NumberResult(out, status, percent)
 
 
-def parse_text_columns(columns: Sequence[pd.Series], decimal: Literal["point", "comma"] = "point") -> NumberResult:
+def parse_text_columns(columns: list[pd.Series | None], decimal: Literal["point", "comma"] = "point", *,
+                       spare: Callable[[int, int, np.ndarray], bool] | None = None) -> NumberResult:
     """:func:`parse_numbers` of the columns stacked one below the other, parsed column by column.
 
     The result is the stacked parse, cell for cell (the same values, codes and
@@ -155,6 +156,13 @@ def parse_text_columns(columns: Sequence[pd.Series], decimal: Literal["point", "
     where it lies and only its numbers are kept.  As in the stacked parse, the
     one Arrow cast is used only when every cell of every column is a plain
     number or blank; otherwise each column goes through the careful parser.
+
+    ``spare`` (for a caller short of memory) is asked, after each block of
+    columns ``k0 .. k1 - 1`` has its numbers, whether their text is still
+    needed: when it answers True their places in ``columns`` are emptied (so
+    the text is freed as the numbers are made, instead of both existing
+    whole).  It is used only after a first pass has found that every block
+    takes the one cast, since the careful parser needs every column's text.
 
     Parameters
     ----------
@@ -173,9 +181,9 @@ def parse_text_columns(columns: Sequence[pd.Series], decimal: Literal["point", "
     >>> r.values.tolist()[2:], r.status.tolist()
     ([-2.0, 0.05], [0, 1, 0, 0])
     """
-    n = len(columns[0]) if len(columns) else 0
+    n = len(columns[0]) if len(columns) else 0  # type: ignore[arg-type]
     total = n * len(columns)
-    out = np.full(total, np.nan)
+    out = np.empty(total)  # every cell is written below (pages become resident as they are written)
     status = np.full(total, PARSED, dtype=np.int8)
     percent = np.zeros(total, dtype=bool)
     if total == 0:
@@ -184,18 +192,29 @@ def parse_text_columns(columns: Sequence[pd.Series], decimal: Literal["point", "
         # columns in blocks of about 130,000 cells: one Arrow pass per block instead of one per column (a wide
         # file has thousands), while the pass's temporary copy stays a small part of the file
         step = max(1, _BLOCK_CELLS // max(n, 1))
+        if spare is not None and not all(_arrow_cast_block(columns[k:k + step]) is not None  # type: ignore[arg-type]
+                                         for k in range(0, len(columns), step)):
+            spare = None
+        freed = 0
         for k in range(0, len(columns), step):
-            quick = _arrow_cast_block(columns[k:k + step])
+            quick = _arrow_cast_block(columns[k:k + step])  # type: ignore[arg-type]
             if quick is None:
                 break
             out[k * n:k * n + quick.size] = quick
+            if spare is not None and spare(k, min(k + step, len(columns)), quick):
+                columns[k:k + step] = [None] * len(columns[k:k + step])
+                freed += 1
+                if freed % 8 == 0:  # hand the freed text back (the Arrow pool keeps it otherwise)
+                    pa.default_memory_pool().release_unused()
             del quick
         else:
+            if freed:
+                pa.default_memory_pool().release_unused()
             status[np.isnan(out)] = BLANK
             return NumberResult(out, status, percent)
         out[:] = np.nan
     for k, col in enumerate(columns):
-        part = _careful(col, decimal)
+        part = _careful(col, decimal)  # type: ignore[arg-type]
         out[k * n:(k + 1) * n] = part.values
         status[k * n:(k + 1) * n] = part.status
         percent[k * n:(k + 1) * n] = part.percent

@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+import codecs
+
 import csv
 import re
-from typing import Sequence
+from typing import Iterable, Sequence
 
 import pandas as pd
 
@@ -13,6 +15,8 @@ from valuesift.core.intake.options import choice_words
 
 __all__ = [
     "decode",
+    "utf8_head",
+    "utf8_head_of",
     "sniff_delimiter",
     "find_header",
     "split_sample",
@@ -105,6 +109,51 @@ def decode(raw: bytes, name: str, encoding: str | None = None) -> tuple[str, str
         raise IntakeError(name, Reason.UNREADABLE, "the file does not look like text (too many control characters).",
                           hint="Export the data as CSV, XLSX or Parquet.")
     return text, label
+
+
+#: files of at least this many bytes may have only their first part decoded (see :func:`utf8_head`)
+HEAD_FROM_BYTES = 8 << 20
+#: about how many bytes :func:`utf8_head` decodes (whole lines)
+HEAD_BYTES = 4 << 20
+
+
+def utf8_head(raw: bytes) -> str | None:
+    """The first whole lines (about :data:`HEAD_BYTES`) of a large file that :func:`decode` reads as UTF-8
+    without a mark, decoded; None for any other file (smaller, a mark, NUL bytes, not all UTF-8, control
+    characters at the start, or no line feed in that part).
+
+    The whole file is checked as UTF-8 in pieces, so the answer is the one :func:`decode` gives, but the text
+    of the whole file is never held: a reader that takes the body from the bytes themselves needs only the
+    head (delimiter, header) as text.
+
+    Examples
+    --------
+    >>> utf8_head(b"date,A\n2020-01-31,1\n") is None   # small files are decoded whole
+    True
+    """
+    step = 4 << 20
+    return utf8_head_of(len(raw), raw[:HEAD_BYTES], (raw[k:k + step] for k in range(0, len(raw), step)))
+
+
+def utf8_head_of(size: int, first: bytes, pieces: Iterable[bytes]) -> str | None:
+    """:func:`utf8_head` of a file of ``size`` bytes given as its first :data:`HEAD_BYTES` (``first``) and
+    all its bytes in consecutive ``pieces`` (read from a file one piece at a time, say)."""
+    if size < HEAD_FROM_BYTES or any(first.startswith(bom) for bom, _, _ in _BOMS):
+        return None
+    check = codecs.getincrementaldecoder("utf-8")()
+    try:
+        for piece in pieces:
+            if b"\x00" in piece:
+                return None
+            check.decode(piece, final=False)
+        check.decode(b"", final=True)
+    except UnicodeDecodeError:
+        return None
+    cut = first.rfind(b"\n")
+    if cut < 0:
+        return None
+    head = first[:cut + 1].decode("utf-8")
+    return head if _printable_share(head[:20000]) >= 0.9 else None
 
 
 def _printable_share(text: str) -> float:

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 
-from typing import Any
+from typing import Any, Callable
 
 import numpy as np
 import pandas as pd
@@ -26,7 +26,7 @@ from valuesift.core.intake._common import (
 )
 from valuesift.core.intake.dates import parse_dates
 from valuesift.core.intake.kinds import guess_kind, infer_earnings_form
-from valuesift.core.intake.entries import by_column_entries, by_key_entries, code_dtype
+from valuesift.core.intake.entries import by_column_entries, by_key_entries, code_dtype, nothing_can_repeat
 from valuesift.core.intake.numbers import parse_numbers, parse_text_columns
 from valuesift.core.intake.options import ReadOptions, choice_words
 from valuesift.core.intake.readers import Grid
@@ -45,7 +45,8 @@ def _future_limit() -> np.datetime64:
     return np.datetime64(pd.Timestamp.now().normalize() + pd.Timedelta(days=366), "ns")
 
 
-def tidy_grid(grid: Grid, name: str, options: ReadOptions, *, release_cells: bool = False) -> tuple[FileKind, pd.DataFrame, FileReport]:
+def tidy_grid(grid: Grid, name: str, options: ReadOptions, *, release_cells: bool = False,
+              lean: bool = False) -> tuple[FileKind, pd.DataFrame, FileReport]:
     """Turn a grid into the tidy table of its kind and the file's report.
 
     Parameters
@@ -58,6 +59,14 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions, *, release_cells: boo
         Empty ``grid.columns`` once a series file's cells are counted (before
         its tidy table is built), so that their text is freed when the caller
         holds the grid only to hand it over (as :func:`read_table` does).
+    lean : bool
+        Less memory, for a caller that stores the table (the dashboard's
+        uploads): a series file's security column is a categorical of the same
+        text (each id held once, a small integer code per entry) instead of one
+        string per entry, and with ``release_cells`` a wide file's text is let
+        go column block by column block as its numbers are made, wherever no
+        example will need it (one more Arrow pass over the numbers).  The
+        report is the same.
 
     Returns
     -------
@@ -81,7 +90,7 @@ def tidy_grid(grid: Grid, name: str, options: ReadOptions, *, release_cells: boo
     if grid.n_rows == 0:
         raise IntakeError(name, Reason.NO_DATA, "the file has a header but no data rows.", row=grid.header_row,
                           hint=f"Check that the export contains the data, or that {choice_words('header_row')} is right.")
-    ctx = Ctx(name, grid, options, header, release_cells=release_cells)
+    ctx = Ctx(name, grid, options, header, release_cells=release_cells, lean=lean)
     ctx.notes.extend(grid.notes)
     if grid.extra_cells:
         ctx.tally.add_count(Reason.EXTRA_FIELD, grid.extra_cells,
@@ -132,11 +141,46 @@ def _arrow_text(s: pd.Series) -> bool:
     return s.dtype == _TEXT and hasattr(s.array, "_pa_array")
 
 
-def _id_column(id_table: Any, codes: np.ndarray) -> pd.Series:
-    """The security column: ``id_table[codes]`` as text, taken in Arrow from the small table of distinct ids."""
+def _id_column(id_table: Any, codes: np.ndarray, *, as_categories: bool = False) -> pd.Series:
+    """The security column: ``id_table[codes]`` as text, taken in Arrow from the small table of distinct ids;
+    with ``as_categories`` a categorical column of the same text (the codes kept, the ids held once)."""
+    if as_categories:
+        return pd.Series(pd.Categorical.from_codes(codes, categories=pd.Index(np.asarray(id_table, dtype=object), dtype="str")))
     table = pd.array(np.asarray(id_table, dtype=object), dtype="str")._pa_array
     taken = pc.take(pa.concat_arrays(table.chunks) if table.num_chunks != 1 else table.chunk(0), pa.array(codes))
     return pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array([taken]), dtype=_TEXT))
+
+
+def _spare_text(ctx: Ctx, kind: str, layout: str, vcols: list[int], dates: np.ndarray,
+                date_ok: np.ndarray) -> Callable[[int, int, np.ndarray], bool] | None:
+    """For a lean read of a wide (or one-series) file where no entry can repeat: the question
+    :func:`~valuesift.core.intake.numbers.parse_text_columns` asks after each block of value columns,
+    answered True (and the columns' text let go from the grid) when every cell of the block is blank or
+    a number that stays (a dated row; above zero for prices, not below zero for dividends), so that no
+    example will show its text (a blank cell's example is its empty text).  None when not lean."""
+    if not (ctx.lean and ctx.release_cells):
+        return None
+    names = pd.Series([ctx.header[j] for j in vcols] if layout == "wide" else [""], dtype="str")
+    if not nothing_can_repeat(pd.factorize(clean_ids(names, ctx.options)[0])[0], dates):
+        return None          # duplicates would need their cells' text for the examples
+    g = ctx.grid
+    undated = ~date_ok
+
+    def spare(k0: int, k1: int, values: np.ndarray) -> bool:
+        v = values.reshape(k1 - k0, -1)
+        has = ~np.isnan(v)
+        if np.any(has & undated[None, :]):
+            return False
+        with np.errstate(invalid="ignore"):
+            if kind in POSITIVE_KINDS and np.any(has & (v <= 0)):
+                return False
+            if kind == "dividends" and np.any(has & (v < 0)):
+                return False
+        for i in range(k0, k1):
+            g.columns[vcols[i]] = None  # type: ignore[call-overload]
+        return True
+
+    return spare
 
 
 # -- series kinds -------------------------------------------------------------------------
@@ -251,7 +295,9 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         decimal, dec_reason = decide_decimal(ctx, vcols)
     ctx.notes.append(f"decimal {decimal}: {dec_reason}")
     if stacked is None:
-        num = parse_text_columns([ctx.col(j) for j in vcols], decimal)  # type: ignore[arg-type]
+        spare = _spare_text(ctx, kind, layout, vcols, dres.dates, date_ok) if sec is None and decimal == "point" else None
+        num = parse_text_columns([ctx.col(j) for j in vcols], decimal, spare=spare)  # type: ignore[arg-type]
+        del spare
     else:
         num = parse_numbers(stacked, decimal)  # type: ignore[arg-type]
     n = g.n_rows
@@ -303,8 +349,18 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
     # tidy entries and duplicates, in the order security, then date, then file order
     numbers = [vals]  # handed over: the entries free the parsed numbers once they have copied the kept ones
     del vals
+    # When no cell can become a duplicate (a wide file with one column per security and no date twice) every
+    # cell's status is final now: the cells are counted and their text let go before the entries are built.
+    counted = sec is None and nothing_can_repeat(np.asarray(cell_code), dres.dates)
+    if counted:
+        tally_values(ctx, final, vcols, stacked)
+        stacked = None
+        if ctx.release_cells:
+            g.columns.clear()
+            pa.default_memory_pool().release_unused()
     entries = by_column_entries if sec is None else by_key_entries
-    ent = entries(final, numbers, n, np.asarray(cell_code), dres.dates, o.duplicate_rule)
+    lean_dates = {"dates_as_codes": True} if ctx.lean and sec is None else {}
+    ent = entries(final, numbers, n, np.asarray(cell_code), dres.dates, o.duplicate_rule, **lean_dates)  # type: ignore[operator]
     dvals = ent.dates_seen
     if ent.first_repeat is not None:
         k = ent.first_repeat
@@ -318,13 +374,17 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         n_dup_dates = int(pd.Series(date_ns[date_ok]).duplicated().sum())
         ctx.notes.append(f"{ent.n_dropped} duplicate entries resolved ({o.duplicate_rule} wins)"
                          + (f"; {n_dup_dates} date row(s) repeat an earlier date" if n_dup_dates else ""))
-    tally_values(ctx, final, vcols, stacked)
+    if not counted:
+        tally_values(ctx, final, vcols, stacked)
     del final, stacked
     if ctx.release_cells:  # every count and example is taken: the cells' text goes before the security column is built
         g.columns.clear()
     keep_size, n_secs = int(len(ent.values)), ent.n_securities
-    ids = _id_column(id_table, ent.codes)
-    tidy = pd.DataFrame({"date": ent.dates, "security": ids, "value": ent.values}, copy=False)
+    ids = _id_column(id_table, ent.codes, as_categories=ctx.lean)
+    when = ent.dates if ent.date_categories is None else \
+        pd.Categorical.from_codes(ent.dates, categories=pd.Index(ent.date_categories))
+    tidy = pd.DataFrame({"date": when, "security": ids, "value": ent.values}, copy=False)
+    del when
     del ent, ids
 
     # report fields

@@ -67,15 +67,17 @@ def _digest(df: pd.DataFrame) -> str:
     return hashlib.sha256(df.to_csv(index=True).encode("utf-8")).hexdigest()
 
 
-def _file(path: Path, options: ReadOptions) -> dict[str, Any]:
+def _file(path: Path, options: ReadOptions, lean: bool = False) -> dict[str, Any]:
     try:
-        pf = read_table(path, options=options)
+        pf = read_table(path, options=options, lean=lean)
     except IntakeError as err:
         return {"error": {"reason": err.reason.value, "file": err.file, "row": _jsonable(getattr(err, "row", None)),
                           "column": _jsonable(getattr(err, "column", None))}}
     rep = {f.name: _jsonable(getattr(pf.report, f.name)) for f in dataclasses.fields(pf.report)}
+    data = pf.data  # a lean read's categorical columns as the plain values they hold (as stored)
+    data = data.astype({c: data[c].cat.categories.dtype for c in data.columns if isinstance(data[c].dtype, pd.CategoricalDtype)})
     return {"report": rep, "kind": pf.kind, "data_columns": [str(c) for c in pf.data.columns],
-            "data_rows": int(len(pf.data)), "data_digest": _digest(pf.data)}
+            "data_rows": int(len(pf.data)), "data_digest": _digest(data)}
 
 
 def _options(raw: dict[str, Any]) -> ReadOptions:
@@ -162,23 +164,24 @@ def _generated(tmp: Path) -> dict[str, tuple[Path, ReadOptions]]:
     return out
 
 
-def snapshot() -> dict[str, Any]:
-    """The whole account, keyed ``corpus/case``."""
+def snapshot(lean: bool = False) -> dict[str, Any]:
+    """The whole account, keyed ``corpus/case``; ``lean``: every file read the dashboard's way
+    (``read_table(..., lean=True)``), which must give the same account (the panels are built as before)."""
     out: dict[str, Any] = {}
     for c in json.loads((AWKWARD / "cases.json").read_text(encoding="utf-8")):
-        out[f"awkward/{c['id']}"] = _file(AWKWARD / c["file"], _options(c.get("options", {})))
+        out[f"awkward/{c['id']}"] = _file(AWKWARD / c["file"], _options(c.get("options", {})), lean)
     with tempfile.TemporaryDirectory() as d:
         folder = _hostile_folder(Path(d) / "hostile")
         for c in json.loads((HOSTILE / "cases.json").read_text(encoding="utf-8")):
-            out[f"hostile/{c['id']}"] = _file(folder / c["file"], _options(c.get("options", {})))
+            out[f"hostile/{c['id']}"] = _file(folder / c["file"], _options(c.get("options", {})), lean)
         demo = sorted(DEMO.glob("*.csv"))
         for p in demo:
-            out[f"demo/{p.name}"] = _file(p, ReadOptions())
+            out[f"demo/{p.name}"] = _file(p, ReadOptions(), lean)
         for name, p in _demo_variants(Path(d)).items():
-            out[f"demo/{name}"] = _file(p, ReadOptions())
+            out[f"demo/{name}"] = _file(p, ReadOptions(), lean)
         gen = _generated(Path(d))
         for name, (p, opts) in gen.items():
-            out[f"generated/{name}"] = _file(p, opts)
+            out[f"generated/{name}"] = _file(p, opts, lean)
         for prices, eps in (("gen_wide_prices.csv", "gen_wide_eps_semicolon.csv"),
                             ("gen_wide_prices.parquet", "gen_wide_eps_semicolon.csv")):
             panel = build_panel([read_table(gen[prices][0], options=gen[prices][1]),
