@@ -16,8 +16,8 @@ import numpy as np
 import pandas as pd
 
 from valuesift.core.choices import HacLagRule
-from valuesift.core.correlation.ranks import average_ranks
-from valuesift.core.correlation.rowwise import masked_spearman
+from valuesift.core.correlation.ranks import RowSort, ranks_within, row_sort
+from valuesift.core.correlation.rowwise import masked_pearson, masked_spearman
 from valuesift.core.inference.nonoverlap import headline_block
 
 __all__ = ["DECAY_MONTHS", "ic_decay", "half_life", "rank_autocorrelation"]
@@ -27,7 +27,7 @@ DECAY_MONTHS = 24
 
 
 def ic_decay(z: np.ndarray, r1: np.ndarray, min_breadth: int, rule: HacLagRule = "overlap_or_auto",
-             months: int = DECAY_MONTHS, z_ranks: np.ndarray | None = None, workers: int = 1) -> pd.DataFrame:
+             months: int = DECAY_MONTHS, z_ranks: np.ndarray | RowSort | None = None, workers: int = 1) -> pd.DataFrame:
     """The marginal rank IC of the signal at ``t`` against the one-month return of month ``t + k``.
 
     Parameters
@@ -41,6 +41,9 @@ def ic_decay(z: np.ndarray, r1: np.ndarray, min_breadth: int, rule: HacLagRule =
     rule : {"overlap", "overlap_or_auto"}
     months : int
         ``k = 1..months``.
+    z_ranks : RowSort or ndarray, optional
+        ``row_sort(z)`` when the caller has it (else made here); ranks of ``z`` (the older form) rank
+        each month's returns afresh instead of from one sort.
     workers : int
         Threads for the months on large panels (same numbers, any order of work).
 
@@ -58,15 +61,37 @@ def ic_decay(z: np.ndarray, r1: np.ndarray, min_breadth: int, rule: HacLagRule =
     ICs over ``1..k``.
     """
     d = z.shape[0]
-    ranks = average_ranks(z) if z_ranks is None else z_ranks
+    if isinstance(z_ranks, np.ndarray):   # ranks of z given (the older form): the per-month ranking below
+        ranks = z_ranks
 
-    def one(k: int) -> np.ndarray:
-        y = np.full_like(r1, np.nan)
-        if k - 1 < d:
-            y[: d - (k - 1)] = r1[k - 1:]
-        both = np.isfinite(z) & np.isfinite(y)
-        n = both.sum(axis=1)
-        return np.where(n < min_breadth, np.nan, masked_spearman(z, y, both, n, ranks))
+        def one(k: int) -> np.ndarray:
+            y = np.full_like(r1, np.nan)
+            if k - 1 < d:
+                y[: d - (k - 1)] = r1[k - 1:]
+            both = np.isfinite(z) & np.isfinite(y)
+            n = both.sum(axis=1)
+            return np.where(n < min_breadth, np.nan, masked_spearman(z, y, both, n, ranks))
+    else:
+        # z and r1 each sorted once: month k's return is r1 shifted k - 1 rows, so its ranks over the names
+        # that have both are r1's ranks within the shifted mask, shifted back (ranks_within: the same ranks
+        # as ranking each month's returns afresh, to the bit)
+        z_sort = z_ranks if isinstance(z_ranks, RowSort) else row_sort(z)
+        r_sort = row_sort(r1)
+        z_fin, r_fin = np.isfinite(z), np.isfinite(r1)
+
+        def one(k: int) -> np.ndarray:
+            s = k - 1
+            both = np.zeros(z.shape, dtype=bool)
+            at_r = np.zeros(z.shape, dtype=bool)   # the same cells, in r1's rows
+            if s < d:
+                both[: d - s] = z_fin[: d - s] & r_fin[s:]
+                at_r[s:] = both[: d - s]
+            n = both.sum(axis=1)
+            ry = np.full(z.shape, np.nan)
+            if s < d:
+                ry[: d - s] = ranks_within(r_sort, at_r)[s:]
+            rho = masked_pearson(ranks_within(z_sort, both), ry, both, n)
+            return np.where(n < min_breadth, np.nan, rho)
 
     ks = list(range(1, int(months) + 1))
     if workers > 1 and z.size >= 200_000:  # numpy's sorts release the GIL: the months run side by side

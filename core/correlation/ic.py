@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Hashable, Mapping
+from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
 import pandas as pd
@@ -66,7 +67,8 @@ def ic_by_date(
 
 
 def rank_ic_grid(
-    signals: Mapping[Hashable, np.ndarray], targets: Mapping[Hashable, np.ndarray], min_breadth: int
+    signals: Mapping[Hashable, np.ndarray], targets: Mapping[Hashable, np.ndarray], min_breadth: int, *,
+    target_sorts: Mapping[Hashable, RowSort] | None = None, workers: int = 1,
 ) -> dict[tuple[Hashable, Hashable], np.ndarray]:
     """``ic_by_date(z, y, min_breadth)[0]`` for every pair of a signal and a target, each array sorted once.
 
@@ -75,6 +77,10 @@ def rank_ic_grid(
     signals, targets : mapping of key -> ndarray (D x S)
         E.g. the signal at several delays, and the forward returns per horizon.
     min_breadth : int
+    target_sorts : mapping of key -> RowSort, optional
+        ``row_sort`` of some targets, made by the caller already (the others are sorted here).
+    workers : int
+        Threads for the pairs on large arrays (numpy's loops release the GIL; the same numbers).
 
     Returns
     -------
@@ -88,31 +94,45 @@ def rank_ic_grid(
     ranks from one sort per array, so S signals and H targets cost S + H sorts
     instead of 2 S H.
     """
-    s_sorts = {k: row_sort(z) for k, z in signals.items()}
-    t_sorts = {k: row_sort(y) for k, y in targets.items()}
-    s_fin = {k: np.isfinite(z) for k, z in signals.items()}
-    t_fin = {k: np.isfinite(y) for k, y in targets.items()}
-    out: dict[tuple[Hashable, Hashable], np.ndarray] = {}
-    for ks in signals:
-        for kt in targets:
+    given = target_sorts or {}
+    arrays = [*signals.values(), *(y for k, y in targets.items() if k not in given)]
+    big = workers > 1 and bool(arrays) and arrays[0].size >= 200_000
+    pool = ThreadPoolExecutor(max_workers=workers, thread_name_prefix="valuesift-grid") if big else None
+    try:
+        run = pool.map if pool is not None else map
+        s_sorts = dict(zip(signals, run(row_sort, signals.values())))
+        todo = [k for k in targets if k not in given]
+        t_sorts = {**{k: given[k] for k in targets if k in given}, **dict(zip(todo, run(row_sort, [targets[k] for k in todo])))}
+        s_fin = {k: np.isfinite(z) for k, z in signals.items()}
+        t_fin = {k: np.isfinite(y) for k, y in targets.items()}
+
+        def one(pair: tuple[Hashable, Hashable]) -> np.ndarray:
+            ks, kt = pair
             both = s_fin[ks] & t_fin[kt]
             n = both.sum(axis=1)
             rho = masked_pearson(ranks_within(s_sorts[ks], both), ranks_within(t_sorts[kt], both), both, n)
-            out[(ks, kt)] = np.where(n < min_breadth, np.nan, rho)
-    return out
+            return np.where(n < min_breadth, np.nan, rho)
+
+        pairs = [(ks, kt) for ks in signals for kt in targets]
+        return dict(zip(pairs, run(one, pairs)))
+    finally:
+        if pool is not None:
+            pool.shutdown()
 
 
 def ic_and_slope(
-    z: np.ndarray, fwd: np.ndarray, min_breadth: int, z_ranks: np.ndarray | RowSort | None
+    z: np.ndarray, fwd: np.ndarray, min_breadth: int, z_ranks: np.ndarray | RowSort | None,
+    fwd_sort: RowSort | None = None,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """:func:`ic_by_date` plus the Fama-MacBeth slope without controls, sharing the centred arrays.
 
     The slope is ``core.evaluate.famamacbeth.fm_slopes(z, fwd)`` (same
-    expressions on the same demeaned arrays, so the same numbers).
+    expressions on the same demeaned arrays, so the same numbers).  ``fwd_sort``:
+    ``row_sort(fwd)`` when the caller keeps it for other correlations (same numbers).
     """
     both = np.isfinite(z) & np.isfinite(fwd)
     n = both.sum(axis=1)
-    rho = masked_spearman(z, fwd, both, n, z_ranks)
+    rho = masked_spearman(z, fwd, both, n, z_ranks, fwd_sort)
     r, dz, dy, zm = pearson_parts(z, fwd, both, n)
     slope = slope_from_centred(dz, dy, zm, n)
     low = n < min_breadth

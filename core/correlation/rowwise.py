@@ -75,9 +75,11 @@ def row_spearman(
 
 
 def masked_spearman(
-    x: np.ndarray, y: np.ndarray, both: np.ndarray, n: np.ndarray, x_ranks: np.ndarray | RowSort | None
+    x: np.ndarray, y: np.ndarray, both: np.ndarray, n: np.ndarray, x_ranks: np.ndarray | RowSort | None,
+    y_sort: RowSort | None = None,
 ) -> np.ndarray:
-    """:func:`row_spearman` given the common-finite mask ``both`` and its row counts ``n``."""
+    """:func:`row_spearman` given the common-finite mask ``both`` and its row counts ``n``; ``y_sort``:
+    ``row_sort(y)`` when the caller has it (``y``'s ranks over ``both`` then come from it, the same numbers)."""
     if isinstance(x_ranks, RowSort):  # one sort of x shared by every y: its ranks over any subset in linear time
         rx = ranks_within(x_ranks, both)
     elif x_ranks is None:
@@ -88,6 +90,6 @@ def masked_spearman(
         redo = ~same
         if redo.any():
             rx[redo] = average_ranks(np.where(both[redo], x[redo], np.nan))
-    ry = average_ranks(np.where(both, y, np.nan))
+    ry = ranks_within(y_sort, both) if y_sort is not None else average_ranks(np.where(both, y, np.nan))
     # the ranks are finite exactly where ``both`` holds
     return masked_pearson(rx, ry, both, n)

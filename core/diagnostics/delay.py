@@ -8,6 +8,8 @@ in the input file).
 
 from __future__ import annotations
 
+from collections.abc import Mapping
+
 import numpy as np
 import pandas as pd
 
@@ -39,6 +41,7 @@ def ic_by_delay(
     rule: HacLagRule,
     rank_ic_now: dict[int, np.ndarray],
     delays: tuple[int, ...] = DELAYS,
+    late: Mapping[tuple[int, int], np.ndarray] | None = None,
 ) -> pd.DataFrame:
     """Mean rank IC and its headline t per delay and horizon.
 
@@ -54,6 +57,9 @@ def ic_by_delay(
     rank_ic_now : dict of h -> ndarray (D,)
         The study's own rank IC per date (delay 0), reused.
     delays : tuple of int
+    late : mapping of (delay, horizon) -> ndarray (D,), optional
+        The rank IC of each delayed signal against each horizon's returns when the caller has them
+        (:func:`~valuesift.core.correlation.ic.rank_ic_grid` of the delayed signals); made here otherwise.
 
     Returns
     -------
@@ -68,7 +74,8 @@ def ic_by_delay(
     """
     rows = []
     # every delayed signal and every horizon's returns sorted once (the same ICs as ic_by_date per pair)
-    late = rank_ic_grid({d: delayed_signal(z, universe, d) for d in delays if d != 0}, forward, min_breadth)
+    if late is None:
+        late = rank_ic_grid({d: delayed_signal(z, universe, d) for d in delays if d != 0}, forward, min_breadth)
     for d in delays:
         for h in forward:
             ric = rank_ic_now[h] if d == 0 else late[(d, h)]

@@ -20,6 +20,7 @@ from valuesift.core.portfolio.summaries import cohort_summary, drawdown_summary,
 from valuesift.core.quantiles.bands import equal_count_bins, row_breakpoints
 from valuesift.core.regression.pooled import row_simple_ols, simple_ols
 from valuesift.core.reporting.coverage import price_coverage
+from valuesift.core.study.steps import per_horizon
 
 if TYPE_CHECKING:  # pragma: no cover
     from valuesift.core.result import StudyResult
@@ -56,16 +57,20 @@ def _spread_facts(result: "StudyResult") -> pd.DataFrame:
 
 def _fits(result: "StudyResult") -> tuple[pd.DataFrame, dict[int, pd.DataFrame], dict[int, pd.DataFrame]]:
     pooled, bins, per_date = {}, {}, {}
-    for h in result.config.horizons:
+
+    def one(h: int) -> tuple[dict[str, float], pd.DataFrame, pd.DataFrame]:
         z, y = _pairs(result, int(h))
         a, b, t, n = simple_ols(z, y)
         ok = np.isfinite(z) & np.isfinite(y)
-        pooled[int(h)] = {"intercept": a, "slope": b, "t_slope": t, "n_pairs": float(n),
-                          "n_dates": float(np.count_nonzero(ok.any(axis=1)))}
-        bins[int(h)] = equal_count_bins(z, y, POOLED_BINS)
         ra, rb, rt, rn = row_simple_ols(z, y)
-        per_date[int(h)] = pd.DataFrame({"intercept": ra, "slope": rb, "t_slope": rt, "n_names": rn},
-                                        index=result.forward_returns[h].index)
+        return ({"intercept": a, "slope": b, "t_slope": t, "n_pairs": float(n),
+                 "n_dates": float(np.count_nonzero(ok.any(axis=1)))}, equal_count_bins(z, y, POOLED_BINS),
+                pd.DataFrame({"intercept": ra, "slope": rb, "t_slope": rt, "n_names": rn},
+                             index=result.forward_returns[h].index))
+
+    horizons = tuple(int(h) for h in result.config.horizons)
+    for h, (p, b, d) in zip(horizons, per_horizon(one, horizons, int(result.signal_z.size))):
+        pooled[h], bins[h], per_date[h] = p, b, d
     pf = pd.DataFrame.from_dict(pooled, orient="index", columns=["intercept", "slope", "t_slope", "n_pairs", "n_dates"])
     pf.index.name = "horizon"
     return pf, bins, per_date

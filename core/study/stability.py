@@ -25,6 +25,7 @@ from valuesift.core.portfolio.performance import max_drawdown, sharpe_ratio
 from valuesift.core.portfolio.relative import RELATIVE_KEYS, relative_performance
 from valuesift.core.regression.factors import log_market_cap, momentum_12_1, rolling_beta
 from valuesift.core.regression.multi import fm_multi, residualise
+from valuesift.core.correlation.ranks import row_sort
 from valuesift.core.correlation.rowwise import row_spearman
 from valuesift.core.returns import excess_returns, forward_returns, level_forward_returns, monthly_returns, price_track
 from valuesift.core.signals.clean import sector_codes, sector_relative
@@ -38,7 +39,7 @@ from valuesift.core.stability.subsets import (
     trailing_volatility,
     year_masks,
 )
-from valuesift.core.study.steps import to_month_grid
+from valuesift.core.study.steps import per_horizon, to_month_grid
 
 if TYPE_CHECKING:  # pragma: no cover
     from valuesift.core.result import StudyResult
@@ -192,13 +193,14 @@ def _fm_controls(result: "StudyResult", grid: Panel, track: Any, valid: np.ndarr
     used = [CONTROL_WORDS[k] for k in ctrl] + ([CONTROL_WORDS["sector"]] if groups is not None else [])
     resid = residualise(z, list(ctrl.values()), groups)
     plain_is_study = not (cfg.fm_log_market_cap or cfg.fm_sector_dummies)
-    rows = []
-    for h in cfg.horizons:
+    resid_sort = row_sort(resid)  # sorted once: each horizon's net IC ranks its names from it (same numbers)
+
+    def one(h: int) -> dict[str, Any]:
         # without controls: the study's own slopes when it ran none (the same regression), else computed here
         plain = (result.fm_slopes[h].to_numpy(dtype=float) if plain_is_study else fm_multi(fwd[h], [z])[0][:, 0])
         full, _ = fm_multi(fwd[h], [z, *ctrl.values()], groups)
         a, b = headline_block(plain, h, cfg.hac_lag_rule), headline_block(full[:, 0], h, cfg.hac_lag_rule)
-        rho, n = row_spearman(resid, fwd[h])
+        rho, n = row_spearman(resid, fwd[h], resid_sort)
         net = headline_block(np.where(n < cfg.min_breadth, np.nan, rho), h, cfg.hac_lag_rule)
         row = {"horizon": int(h), "slope_without": a["mean"], "t_without": a["t"], "slope_with": b["mean"],
                "t_with": b["t"], "n_dates_with": int(b["n_dates"]), "ic_net": net["mean"], "ic_net_t": net["t"],
@@ -207,7 +209,9 @@ def _fm_controls(result: "StudyResult", grid: Panel, track: Any, valid: np.ndarr
         for j, k in enumerate(ctrl, start=1):
             ci = headline_block(full[:, j], h, cfg.hac_lag_rule)
             row[f"slope_{k}"], row[f"t_{k}"] = ci["mean"], ci["t"]
-        rows.append(row)
+        return row
+
+    rows = per_horizon(one, tuple(cfg.horizons), int(z.size))  # the horizons side by side on large panels
     return pd.DataFrame(rows)
 
 

@@ -20,7 +20,7 @@ from valuesift.core.correlation.ic import (
     ic_summary,
     rolling_ic,
 )
-from valuesift.core.correlation.ranks import row_sort
+from valuesift.core.correlation.ranks import RowSort, row_sort
 from valuesift.core.diagnostics.delay import DELAYS, delayed_signal, ic_by_delay
 from valuesift.core.diagnostics.warnings import input_warnings, lookahead_warnings
 from valuesift.core.errors import ConfigError, InsufficientDataError
@@ -89,7 +89,7 @@ _THREADS = _thread_count()
 _THREAD_MIN_CELLS = 200_000
 
 
-def _per_horizon(fn: Callable[[int], _T], horizons: tuple[int, ...], cells: int) -> list[_T]:
+def per_horizon(fn: Callable[[int], _T], horizons: tuple[int, ...], cells: int) -> list[_T]:
     """``[fn(h) for h in horizons]``, on a small thread pool for large panels (same results, same order)."""
     workers = min(_THREADS, len(horizons))
     if workers < 2 or cells < _THREAD_MIN_CELLS:
@@ -276,7 +276,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
 
     fwd: dict[int, np.ndarray] = {}
     delisted = {}
-    for h, (f_h, d_h) in zip(cfg.horizons, _per_horizon(fwd_one, cfg.horizons, cells)):
+    for h, (f_h, d_h) in zip(cfg.horizons, per_horizon(fwd_one, cfg.horizons, cells)):
         fwd[h], delisted[h] = f_h, d_h
     if cfg.sector_neutral and panel.sectors is not None:
         # A sector-neutral signal is judged against sector-relative returns, so sector bets cannot leak in.
@@ -294,12 +294,15 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     # Without Fama-MacBeth controls the slope comes from the IC's own centred arrays (same numbers).
     fm_plain = not (cfg.fm_log_market_cap or cfg.fm_sector_dummies)
 
+    fwd_sorts: dict[int, RowSort] = {}  # each horizon's returns sorted once, for its IC and the look-ahead grid
+
     def ic_one(h: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray | None]:
         if fm_plain:
-            return ic_and_slope(zeval, fwd[h], cfg.min_breadth, zranks)
+            fwd_sorts[h] = row_sort(fwd[h])
+            return ic_and_slope(zeval, fwd[h], cfg.min_breadth, zranks, fwd_sorts[h])
         return (*ic_by_date(zeval, fwd[h], cfg.min_breadth, zranks), None)
 
-    ics = _per_horizon(ic_one, cfg.horizons, cells)
+    ics = per_horizon(ic_one, cfg.horizons, cells)
     for j, h in enumerate(cfg.horizons):
         ric[:, j], pic[:, j], brd[:, j] = ics[j][:3]
         has_fwd = np.arange(t_len) < t_len - h
@@ -311,15 +314,20 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     summ = ic_summary(rank_ic, pearson_ic, breadth, cfg.hac_lag_rule)
     tick("look-ahead checks", 0.5)
     ric_by_h = {h: ric[:, j] for j, h in enumerate(cfg.horizons)}
-    delay_tab = ic_by_delay(zeval, fwd, universe, cfg.min_breadth, cfg.hac_lag_rule, ric_by_h)
     h0 = min(cfg.horizons)
+    # one grid: each delayed signal against every horizon's returns and against today's signal, each array
+    # sorted once (rank_ic_grid: the same ICs as ic_by_date per pair), today's signal from the IC stage's sort
+    now = np.where(universe, zeval, np.nan)  # a subset of zeval's finite cells, so zeval's sort serves
+    late = rank_ic_grid({d: delayed_signal(zeval, universe, d) for d in DELAYS[1:]},
+                        {**{h: fwd[h] for h in cfg.horizons}, "now": now}, cfg.min_breadth,
+                        target_sorts={**fwd_sorts, "now": zranks},  # (zeval's sort ranks any subset of it)
+                        workers=min(_THREADS, 2) if cells >= _THREAD_MIN_CELLS else 1)
+    delay_tab = ic_by_delay(zeval, fwd, universe, cfg.min_breadth, cfg.hac_lag_rule, ric_by_h,
+                            late={(d, h): late[(d, h)] for d in DELAYS[1:] for h in cfg.horizons})
     drop_t: dict[int, float] = {}
     persistence: dict[int, float] = {}
-    # each delayed signal and both targets sorted once (rank_ic_grid: the same ICs as ic_by_date per pair)
-    late = rank_ic_grid({d: delayed_signal(zeval, universe, d) for d in DELAYS[1:]},
-                        {"h0": fwd[h0], "now": np.where(universe, zeval, np.nan)}, cfg.min_breadth)
     for d in DELAYS[1:]:
-        ric_d = late[(d, "h0")]
+        ric_d = late[(d, h0)]
         # how much of the signal's ranking survives d months: the IC may fall that much without any look-ahead
         rho_d = late[(d, "now")]
         with np.errstate(invalid="ignore"):
@@ -357,7 +365,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     spread = np.full((t_len, len(hcols)), np.nan)
     qmean = np.full((len(hcols), n_q), np.nan)
     qidx = quantile_index(q, n_q)  # shared by every horizon and the monthly returns
-    qms = _per_horizon(lambda h: means_by_index(qidx, fwd[h])[0], cfg.horizons, cells)
+    qms = per_horizon(lambda h: means_by_index(qidx, fwd[h])[0], cfg.horizons, cells)
     for j, h in enumerate(cfg.horizons):
         means = qms[j]
         qret[h] = pd.DataFrame(means, index=dates, columns=qcols)
@@ -381,7 +389,7 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     fm = np.full((t_len, len(hcols)), np.nan)
     fms = [ic[3] for ic in ics]
     if not fm_plain:
-        fms = _per_horizon(lambda h: fm_slopes(zeval, fwd[h], controls, groups)[0], cfg.horizons, cells)
+        fms = per_horizon(lambda h: fm_slopes(zeval, fwd[h], controls, groups)[0], cfg.horizons, cells)
     for j in range(len(cfg.horizons)):
         fm[:, j] = np.where(brd[:, j] >= cfg.min_breadth, fms[j], np.nan)   # the same breadth rule as the IC
     fsum = fm_summary(fm, cfg.horizons, cfg.hac_lag_rule)

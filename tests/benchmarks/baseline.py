@@ -26,7 +26,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from valuesift.core.study.steps import _per_horizon
+from valuesift.core.study.steps import per_horizon
 from valuesift.core.correlation.ic import ic_by_date
 from valuesift.core.panel import Panel
 from valuesift.core.returns import forward_returns, price_track
@@ -124,9 +124,9 @@ def engine_forward_ic(price: np.ndarray, valid: np.ndarray, div: np.ndarray, uni
     def fwd_one(h: int) -> np.ndarray:
         return np.where(universe, forward_returns(track, valid, h, "reinvest", delisting_return)[0], np.nan)
 
-    fwd = dict(zip(horizons, _per_horizon(fwd_one, horizons, cells)))
+    fwd = dict(zip(horizons, per_horizon(fwd_one, horizons, cells)))
     zr = row_sort(z)  # as the study does
-    ics = _per_horizon(lambda h: ic_by_date(z, fwd[h], min_breadth, zr), horizons, cells)
+    ics = per_horizon(lambda h: ic_by_date(z, fwd[h], min_breadth, zr), horizons, cells)
     return {"fwd": fwd, "rank_ic": {h: ics[j][0] for j, h in enumerate(horizons)},
             "pearson_ic": {h: ics[j][1] for j, h in enumerate(horizons)},
             "breadth": {h: ics[j][2] for j, h in enumerate(horizons)}}

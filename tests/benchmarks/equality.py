@@ -7,7 +7,10 @@ The reference (``study_L_reference.npz``) holds, for the L benchmark panel
 settings): every numeric table of the :class:`StudyResult` in full when it has at
 most 200,000 cells, else its NaN count, sum, sum of squares and 2,000 fixed
 cells; every text part (notes, warnings, flags, labels) as a SHA-256 digest.
-It was written by the code as it stood before issue 15's speed work.
+It was first written by the code as it stood before issue 15's speed work, and written again on
+2026-12-04 at main ad69114: issues 11-13 had since added result fields (decay, periods, regimes,
+sectors, controls, the cap-weighted backtest) and reworded notes, which the old reference reported
+as the only differences ("only in new" and the notes' text); every number it held was unchanged.
 """
 
 from __future__ import annotations

@@ -30,7 +30,7 @@ def _sm(x: np.ndarray, lags: int, kernel: str) -> tuple[float, float]:
         warnings.simplefilter("ignore", RuntimeWarning)
         fit = sm.OLS(x, np.ones_like(x)).fit(cov_type="HAC", cov_kwds={"maxlags": lags, "kernel": kernel,
                                                                       "use_correction": False})
-    return float(fit.bse[0]), float(fit.tvalues[0])
+        return float(fit.bse[0]), float(fit.tvalues[0])  # (computed on first use: inside the filter)
 
 
 def test_hansen_hodrick_case_17_by_hand_and_statsmodels() -> None:
