@@ -141,19 +141,27 @@ def half_life(marginal_ic: np.ndarray) -> float:
     return math.nan
 
 
-def rank_autocorrelation(z: np.ndarray, lag: int = 1, min_breadth: int = 3) -> tuple[float, int]:
+def rank_autocorrelation(z: np.ndarray, lag: int = 1, min_breadth: int = 3,
+                         z_sort: RowSort | None = None) -> tuple[float, int]:
     """Time-mean of the Spearman correlation between the signal at ``t`` and at ``t - lag``.
 
     Over the names with a value on both dates; dates with fewer than ``min_breadth`` such names
     are left out.  Returns ``(mean, dates used)``.  Near 1: the screen barely changes from month
     to month (low turnover); near 0: a new list every month (common practice as a turnover proxy).
+    ``z_sort``: ``row_sort(z)`` when the caller has it (both dates' ranks come from it, the same numbers).
     """
     if z.shape[0] <= lag:
         return math.nan, 0
     a, b = z[lag:], z[:-lag]
     both = np.isfinite(a) & np.isfinite(b)
     n = both.sum(axis=1)
-    rho = masked_spearman(a, b, both, n, None)
+    if z_sort is not None:
+        at_a = np.zeros(z.shape, dtype=bool)
+        at_b = np.zeros(z.shape, dtype=bool)
+        at_a[lag:], at_b[:-lag] = both, both   # the same cells in z's own rows
+        rho = masked_pearson(ranks_within(z_sort, at_a)[lag:], ranks_within(z_sort, at_b)[:-lag], both, n)
+    else:
+        rho = masked_spearman(a, b, both, n, None)
     rho = np.where(n < min_breadth, np.nan, rho)
     ok = np.isfinite(rho)
     return (float(rho[ok].mean()) if ok.any() else math.nan), int(ok.sum())

@@ -9,7 +9,7 @@ import pandas as pd
 
 from valuesift.core.choices import HacLagRule
 from valuesift.core.correlation.ic import ic_by_date
-from valuesift.core.correlation.ranks import average_ranks
+from valuesift.core.correlation.ranks import row_sort
 from valuesift.core.quantiles.assign import assign_quantiles
 from valuesift.core.inference.nonoverlap import headline_block
 
@@ -64,7 +64,7 @@ def sector_ic_table(z: np.ndarray, fwd: dict[int, np.ndarray], codes: np.ndarray
         if not np.isfinite(zs).any():  # no name of this sector ever had a signal: nothing to show
             continue
         qs = assign_quantiles(zs, n_q, tiebreak=tb[cols])
-        ranks = average_ranks(zs)
+        ranks = row_sort(zs)  # sorted once: each horizon ranks the sector's names with returns from it
         for h in sorted(fwd):
             fs = fwd[h][:, cols]
             ric, _, brd = ic_by_date(zs, fs, min_breadth, ranks)

@@ -161,9 +161,10 @@ def _one_month(result: "StudyResult", grid: Panel, track: Any, valid: np.ndarray
 
 def _decay(result: "StudyResult", r1: np.ndarray) -> tuple[pd.DataFrame, pd.Series]:
     z = result.signal_z.to_numpy(dtype=float)
-    tab = ic_decay(z, r1, result.config.min_breadth, result.config.hac_lag_rule, workers=_WORKERS)
-    ac1, n1 = rank_autocorrelation(z, 1, result.config.min_breadth)
-    ac12, _ = rank_autocorrelation(z, 12, result.config.min_breadth)
+    z_sort = row_sort(z)  # sorted once for the decay table and both autocorrelations (the same numbers)
+    tab = ic_decay(z, r1, result.config.min_breadth, result.config.hac_lag_rule, z_ranks=z_sort, workers=_WORKERS)
+    ac1, n1 = rank_autocorrelation(z, 1, result.config.min_breadth, z_sort)
+    ac12, _ = rank_autocorrelation(z, 12, result.config.min_breadth, z_sort)
     facts = pd.Series({"half_life_months": half_life(tab["marginal_ic"].to_numpy(dtype=float)),
                        "rank_autocorrelation_1m": ac1, "rank_autocorrelation_12m": ac12,
                        "autocorrelation_dates": float(n1), "months": float(len(tab))}, dtype=float)
