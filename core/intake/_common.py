@@ -143,8 +143,9 @@ def number_profiles(ctx: Ctx, cols: Sequence[int], decimal: str, k: int = 200) -
     pieces: list[tuple[int, pa.Array | pa.ChunkedArray]] = []
     for j in cols:
         c = ctx.col(j)
-        if not isinstance(c.dtype, pd.StringDtype) and (pd.api.types.is_numeric_dtype(c.dtype)
-                                                         or pd.api.types.is_datetime64_any_dtype(c.dtype)):
+        plain = isinstance(c.dtype, np.dtype) and c.dtype.kind in "fiuM"  # (the common typed case, checked first)
+        if plain or not isinstance(c.dtype, pd.StringDtype) and (pd.api.types.is_numeric_dtype(c.dtype)
+                                                                  or pd.api.types.is_datetime64_any_dtype(c.dtype)):
             out[j] = (0.0, _present(c, k))  # typed cells need no text profiling
             continue
         pa_arr = getattr(c.array, "_pa_array", None)

@@ -241,6 +241,8 @@ def _longest_arrow_text(cols: Sequence[pd.Series]) -> int:
         return int(m or 0)
 
     for s in cols:
+        if isinstance(s.dtype, np.dtype) and s.dtype.kind in "fiuM":  # numbers and dates hold no text
+            continue
         if not len(s) or not isinstance(s.dtype, pd.StringDtype):
             if len(s) and not (pd.api.types.is_numeric_dtype(s.dtype) or pd.api.types.is_datetime64_any_dtype(s.dtype)):
                 return MAX_CELL_CHARS + 1   # text that is not Arrow-backed
@@ -681,8 +683,18 @@ def _read_parquet(raw: bytes, name: str, options: ReadOptions) -> Grid:
     cols = []
     # items() hands out each column over the frame's 0-based RangeIndex (what iloc + reset_index gave,
     # at a tenth of the cost per column: the wide L file has 3,001 of them)
+    as_text: dict[Any, bool] = {}  # per dtype, not per column (a wide file's 3,001 columns share one or two)
     for _, s in frame.items():
-        if not (pd.api.types.is_numeric_dtype(s.dtype) or pd.api.types.is_datetime64_any_dtype(s.dtype)) or pd.api.types.is_bool_dtype(s.dtype):
+        try:
+            text = as_text[s.dtype]
+        except (KeyError, TypeError):
+            text = not (pd.api.types.is_numeric_dtype(s.dtype) or pd.api.types.is_datetime64_any_dtype(s.dtype)) \
+                or pd.api.types.is_bool_dtype(s.dtype)
+            try:
+                as_text[s.dtype] = text
+            except TypeError:  # (an unhashable dtype: decided per column)
+                pass
+        if text:
             s = s.astype("str").fillna("")
         cols.append(s)
     rows = np.arange(len(frame), dtype=np.int64) + 2
