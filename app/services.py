@@ -178,11 +178,12 @@ class AppState:
         -- reused with its reading choices, not catalogued twice.  The caller admits the upload against
         :attr:`uploads` around this."""
         owner = current_owner() or ""
-        known = self.workspace.find_upload(raw, owner=owner)
+        digest = self.workspace.digest(raw)  # hashed once for both steps (each would read a large file again)
+        known = self.workspace.find_upload(raw, owner=owner, digest=digest)
         if known is not None:
             return known, known.name
         rec = self.workspace.add_upload(name, raw, ReadOptions(kind=kind or None, max_bytes=self.max_upload_bytes),
-                                        owner=owner)
+                                        owner=owner, digest=digest)
         return rec, None
 
     def usable_ids(self, sel: Selection) -> list[str]:

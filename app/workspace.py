@@ -393,14 +393,16 @@ class Workspace:
 
     # -- writing -----------------------------------------------------------------------
     def add_upload(self, name: str, raw: bytes | Path, options: ReadOptions | None = None, *,
-                   demo: bool = False, owner: str = "") -> DatasetRecord:
+                   demo: bool = False, owner: str = "", digest: tuple[str, int] | None = None) -> DatasetRecord:
         """Read the file and, when it reads, keep a copy and catalogue the dataset.
 
         ``raw`` is the file's bytes, or the path of a file holding them (the
         dashboard's upload route gives the file it wrote the upload to): then
         the bytes are let go once the cells are split, and the kept copy is
         streamed from the file, so the upload is never held twice in memory.
-        The file at the path is left where it is.
+        The file at the path is left where it is.  ``digest``: :meth:`digest` of
+        ``raw`` when the caller has it already (a large upload is not read twice
+        for its hash).
 
         A file above ``options.max_bytes``, a file that cannot be read and a
         file that cannot be stored (a full disk) leave the folder unchanged:
@@ -408,7 +410,7 @@ class Workspace:
         is not catalogued.
         """
         options = options or ReadOptions()
-        sha, size = _digest(raw)
+        sha, size = digest or self.digest(raw)
         if size > options.max_bytes:
             err = IntakeError(name, Reason.TOO_LARGE,
                               f"the file has {size:,} bytes, above the limit of {options.max_bytes:,}.",
@@ -433,14 +435,19 @@ class Workspace:
                 self._drop_raw_if_unused(sha)
             return self._failed(name, sha, size, options, self._disk_message(name, err), demo, owner)
 
-    def find_upload(self, raw: bytes | Path, *, owner: str = "") -> DatasetRecord | None:
+    @staticmethod
+    def digest(raw: bytes | Path) -> tuple[str, int]:
+        """SHA-256 (hex) and size of an upload's bytes, or of the file holding them (read in pieces)."""
+        return _digest(raw)
+
+    def find_upload(self, raw: bytes | Path, *, owner: str = "", digest: tuple[str, int] | None = None) -> DatasetRecord | None:
         """The dataset already read from exactly these bytes (same SHA-256) that ``owner`` can see, or None.
 
-        ``raw`` as for :meth:`add_upload`.  An identical upload is recognised by this and reused with its
+        ``raw`` and ``digest`` as for :meth:`add_upload`.  An identical upload is recognised by this and reused with its
         reading choices (exclusions, date order ...), instead of being catalogued a second time with the
         detected ones.  The owner's own copy is preferred, then a shared one; among several, the latest.
         """
-        sha, _ = _digest(raw)
+        sha, _ = digest or self.digest(raw)
         with self._connect() as con:
             rows = con.execute("SELECT * FROM datasets WHERE sha256 = ? AND status = 'ok' AND owner IN (?, '') "
                                "AND removed_at IS NULL "

@@ -82,14 +82,11 @@ def ic_decay(z: np.ndarray, r1: np.ndarray, min_breadth: int, rule: HacLagRule =
         def one(k: int) -> np.ndarray:
             s = k - 1
             both = np.zeros(z.shape, dtype=bool)
-            at_r = np.zeros(z.shape, dtype=bool)   # the same cells, in r1's rows
-            if s < d:
-                both[: d - s] = z_fin[: d - s] & r_fin[s:]
-                at_r[s:] = both[: d - s]
-            n = both.sum(axis=1)
             ry = np.full(z.shape, np.nan)
             if s < d:
-                ry[: d - s] = ranks_within(r_sort, at_r)[s:]
+                both[: d - s] = z_fin[: d - s] & r_fin[s:]
+                ry[: d - s] = _ranks_of_rows(r_sort, both[: d - s], s)
+            n = both.sum(axis=1)
             rho = masked_pearson(ranks_within(z_sort, both), ry, both, n)
             return np.where(n < min_breadth, np.nan, rho)
 
@@ -141,6 +138,14 @@ def half_life(marginal_ic: np.ndarray) -> float:
     return math.nan
 
 
+def _ranks_of_rows(sort: RowSort, mask: np.ndarray, start: int) -> np.ndarray:
+    """Average ranks of rows ``start .. start + len(mask) - 1`` of ``x`` over ``mask`` (one row of the mask per
+    row), from ``row_sort(x)``: a shifted array's ranks need no sort of their own (the same numbers)."""
+    at = np.zeros(sort.order.shape, dtype=bool)
+    at[start:start + len(mask)] = mask
+    return ranks_within(sort, at)[start:start + len(mask)]
+
+
 def rank_autocorrelation(z: np.ndarray, lag: int = 1, min_breadth: int = 3,
                          z_sort: RowSort | None = None) -> tuple[float, int]:
     """Time-mean of the Spearman correlation between the signal at ``t`` and at ``t - lag``.
@@ -156,10 +161,7 @@ def rank_autocorrelation(z: np.ndarray, lag: int = 1, min_breadth: int = 3,
     both = np.isfinite(a) & np.isfinite(b)
     n = both.sum(axis=1)
     if z_sort is not None:
-        at_a = np.zeros(z.shape, dtype=bool)
-        at_b = np.zeros(z.shape, dtype=bool)
-        at_a[lag:], at_b[:-lag] = both, both   # the same cells in z's own rows
-        rho = masked_pearson(ranks_within(z_sort, at_a)[lag:], ranks_within(z_sort, at_b)[:-lag], both, n)
+        rho = masked_pearson(_ranks_of_rows(z_sort, both, lag), _ranks_of_rows(z_sort, both, 0), both, n)
     else:
         rho = masked_spearman(a, b, both, n, None)
     rho = np.where(n < min_breadth, np.nan, rho)

@@ -95,14 +95,14 @@ def rank_ic_grid(
     instead of 2 S H.
     """
     given = target_sorts or {}
-    arrays = [*signals.values(), *(y for k, y in targets.items() if k not in given)]
-    big = workers > 1 and bool(arrays) and arrays[0].size >= 200_000
+    big = workers > 1 and any(a.size >= 200_000 for a in (*signals.values(), *targets.values()))
     pool = ThreadPoolExecutor(max_workers=workers, thread_name_prefix="valuesift-grid") if big else None
     try:
         run = pool.map if pool is not None else map
         s_sorts = dict(zip(signals, run(row_sort, signals.values())))
         todo = [k for k in targets if k not in given]
-        t_sorts = {**{k: given[k] for k in targets if k in given}, **dict(zip(todo, run(row_sort, [targets[k] for k in todo])))}
+        t_sorts = {k: given[k] for k in targets if k in given}
+        t_sorts.update(zip(todo, run(row_sort, [targets[k] for k in todo])))
         s_fin = {k: np.isfinite(z) for k, z in signals.items()}
         t_fin = {k: np.isfinite(y) for k, y in targets.items()}
 

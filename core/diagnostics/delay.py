@@ -59,7 +59,8 @@ def ic_by_delay(
     delays : tuple of int
     late : mapping of (delay, horizon) -> ndarray (D,), optional
         The rank IC of each delayed signal against each horizon's returns when the caller has them
-        (:func:`~valuesift.core.correlation.ic.rank_ic_grid` of the delayed signals); made here otherwise.
+        (:func:`~valuesift.core.correlation.ic.rank_ic_grid` of the delayed signals, other keys ignored);
+        made here otherwise.
 
     Returns
     -------

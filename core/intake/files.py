@@ -158,8 +158,9 @@ def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = Non
         if lean and not isinstance(source, (bytes, bytearray, memoryview)):
             # a large delimited file is read from disk in pieces (its bytes never all in memory); None otherwise
             path, label, _ = _checked_path(source, name, options)
-            sha, size = _file_digest(path, label)
             grid = read_text_file(path, label, options)
+            if grid is not None:
+                sha, size = _file_digest(path, label)
         if grid is None:
             raw, label = _load(source, name, options)
             sha, size = hashlib.sha256(raw).hexdigest(), len(raw)

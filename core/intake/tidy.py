@@ -151,18 +151,14 @@ def _id_column(id_table: Any, codes: np.ndarray, *, as_categories: bool = False)
     return pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array([taken]), dtype=_TEXT))
 
 
-def _spare_text(ctx: Ctx, kind: str, layout: str, vcols: list[int], dates: np.ndarray,
-                date_ok: np.ndarray) -> Callable[[int, int, np.ndarray], bool] | None:
-    """For a lean read of a wide (or one-series) file where no entry can repeat: the question
+def _spare_text(ctx: Ctx, kind: str, vcols: list[int], date_ok: np.ndarray) -> Callable[[int, int, np.ndarray], bool] | None:
+    """For a lean read of a wide (or one-series) file where no entry can repeat (the caller checks): the question
     :func:`~valuesift.core.intake.numbers.parse_text_columns` asks after each block of value columns,
     answered True (and the columns' text let go from the grid) when every cell of the block is blank or
     a number that stays (a dated row; above zero for prices, not below zero for dividends), so that no
     example will show its text (a blank cell's example is its empty text).  None when not lean."""
     if not (ctx.lean and ctx.release_cells):
         return None
-    names = pd.Series([ctx.header[j] for j in vcols] if layout == "wide" else [""], dtype="str")
-    if not nothing_can_repeat(pd.factorize(clean_ids(names, ctx.options)[0])[0], dates):
-        return None          # duplicates would need their cells' text for the examples
     g = ctx.grid
     undated = ~date_ok
 
@@ -294,8 +290,15 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
     if vcols != rest:
         decimal, dec_reason = decide_decimal(ctx, vcols)
     ctx.notes.append(f"decimal {decimal}: {dec_reason}")
+    if sec is None:  # the securities are the value columns (one for a single series): known before the values
+        names = pd.Series([ctx.header[j] for j in vcols] if layout == "wide" else [""], dtype="str")
+        cleaned, misses = clean_ids(names, o)
+    # When no cell can become a duplicate (a wide file with one column per security and no date twice) every
+    # cell's status is final once the values are parsed: the cells are counted and their text let go before
+    # the entries are built (and, in a lean read, while the values are parsed).
+    counted = sec is None and nothing_can_repeat(pd.factorize(cleaned)[0], dres.dates)
     if stacked is None:
-        spare = _spare_text(ctx, kind, layout, vcols, dres.dates, date_ok) if sec is None and decimal == "point" else None
+        spare = _spare_text(ctx, kind, vcols, date_ok) if counted and decimal == "point" else None
         num = parse_text_columns([ctx.col(j) for j in vcols], decimal, spare=spare)  # type: ignore[arg-type]
         del spare
     else:
@@ -329,8 +332,6 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
         ctx.tally.add(Reason.BLANK, sec_blank, ctx.locator(sec))
         cells[(cells == nb.PARSED) & sec_blank[None, :]] = NOSEC
     else:
-        names = pd.Series([ctx.header[j] for j in vcols], dtype="str") if layout == "wide" else pd.Series([""], dtype="str")
-        cleaned, misses = clean_ids(names, o)
         if misses:
             ctx.notes.append(f"{misses} column names did not match id_regex and were kept as written")
         col_ids = cleaned.to_numpy(dtype=object)
@@ -349,18 +350,17 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
     # tidy entries and duplicates, in the order security, then date, then file order
     numbers = [vals]  # handed over: the entries free the parsed numbers once they have copied the kept ones
     del vals
-    # When no cell can become a duplicate (a wide file with one column per security and no date twice) every
-    # cell's status is final now: the cells are counted and their text let go before the entries are built.
-    counted = sec is None and nothing_can_repeat(np.asarray(cell_code), dres.dates)
     if counted:
         tally_values(ctx, final, vcols, stacked)
         stacked = None
         if ctx.release_cells:
             g.columns.clear()
             pa.default_memory_pool().release_unused()
-    entries = by_column_entries if sec is None else by_key_entries
-    lean_dates = {"dates_as_codes": True} if ctx.lean and sec is None else {}
-    ent = entries(final, numbers, n, np.asarray(cell_code), dres.dates, o.duplicate_rule, **lean_dates)  # type: ignore[operator]
+    if sec is None:
+        ent = by_column_entries(final, numbers, n, np.asarray(cell_code), dres.dates, o.duplicate_rule,
+                                dates_as_codes=ctx.lean)
+    else:
+        ent = by_key_entries(final, numbers, n, np.asarray(cell_code), dres.dates, o.duplicate_rule)
     dvals = ent.dates_seen
     if ent.first_repeat is not None:
         k = ent.first_repeat

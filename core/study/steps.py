@@ -321,9 +321,8 @@ def compute_study(panel: Panel, cfg: "StudyConfig", progress: Progress | None) -
     late = rank_ic_grid({d: delayed_signal(zeval, universe, d) for d in DELAYS[1:]},
                         {**{h: fwd[h] for h in cfg.horizons}, "now": now}, cfg.min_breadth,
                         target_sorts={**fwd_sorts, "now": zranks},  # (zeval's sort ranks any subset of it)
-                        workers=min(_THREADS, 2) if cells >= _THREAD_MIN_CELLS else 1)
-    delay_tab = ic_by_delay(zeval, fwd, universe, cfg.min_breadth, cfg.hac_lag_rule, ric_by_h,
-                            late={(d, h): late[(d, h)] for d in DELAYS[1:] for h in cfg.horizons})
+                        workers=_THREADS)  # (the grid keeps small panels on one thread itself)
+    delay_tab = ic_by_delay(zeval, fwd, universe, cfg.min_breadth, cfg.hac_lag_rule, ric_by_h, late=late)
     drop_t: dict[int, float] = {}
     persistence: dict[int, float] = {}
     for d in DELAYS[1:]:
