@@ -87,21 +87,29 @@ def align_to_months(data: pd.DataFrame, calendar: pd.DatetimeIndex, *, staleness
     d_code, d_uniq = pd.factorize(dates.view(np.int64))
     du = np.asarray(d_uniq, dtype=np.int64).view("datetime64[ns]")
     mu = (du.astype("datetime64[M]") - cal_m[0]).astype(np.int64)
-    m_idx = mu[d_code]
-    inside = (m_idx >= 0) & (m_idx < len(calendar))
+    # One key per row, (security, month) with the months outside the calendar last; each step below keeps
+    # to one or two arrays of a row's size at a time (a daily file has tens of millions of rows: the
+    # sortedness test compares neighbours without differences, an already sorted file is not permuted).
+    key = mu[d_code]  # the month's place in the calendar, then the key in place
+    inside = (key >= 0) & (key < len(calendar))
     outside = int((~inside).sum())
-    sc = sec_codes.astype(np.int64)
-    key = sc * (len(calendar) + 1) + np.where(inside, m_idx, len(calendar))
+    key[~inside] = len(calendar)
+    sc = sec_codes.astype(np.int64, copy=False)
+    del sec_codes
+    key += sc * (len(calendar) + 1)
     dn = dates.view(np.int64)
-    if key.size > 1 and not np.all((np.diff(key) > 0) | ((np.diff(key) == 0) & (np.diff(dn) >= 0))):
-        order = np.lexsort((dn, key))
-    else:
-        order = np.arange(key.size)
-    ko = key[order]
+    in_order = key.size < 2 or bool(np.all((key[1:] > key[:-1]) | ((key[1:] == key[:-1]) & (dn[1:] >= dn[:-1]))))
+    order = None if in_order else np.lexsort((dn, key))
+    ko = key if order is None else key[order]
+    del key
     last = np.ones(ko.size, dtype=bool)
-    last[:-1] = ko[:-1] != ko[1:]
-    pick = order[last & inside[order]]
+    np.not_equal(ko[:-1], ko[1:], out=last[:-1])
+    del ko
+    last &= inside if order is None else inside[order]
+    pick = np.flatnonzero(last) if order is None else order[last]
+    del last, order
     superseded = int(inside.sum() - pick.size)
+    m_pick = mu[d_code[pick]]
     me_u = (cal_m[np.clip(mu, 0, len(calendar) - 1)] + np.timedelta64(1, "M")).astype("datetime64[D]") - np.timedelta64(1, "D")
     age_u = (me_u - du.astype("datetime64[D]")).astype(np.int64)  # used only for dates inside the calendar
     age = age_u[d_code[pick]]
@@ -113,9 +121,9 @@ def align_to_months(data: pd.DataFrame, calendar: pd.DatetimeIndex, *, staleness
     values = np.full(shape, np.nan)
     stale = np.zeros(shape, dtype=bool)
     ok = known & ~stale_pick
-    values[m_idx[pick][ok], cpos[ok]] = data["value"].to_numpy(dtype=float)[pick][ok]
+    values[m_pick[ok], cpos[ok]] = data["value"].to_numpy(dtype=float)[pick][ok]
     st = known & stale_pick
-    stale[m_idx[pick][st], cpos[st]] = True
+    stale[m_pick[st], cpos[st]] = True
     vf = pd.DataFrame(values, index=calendar, columns=cols)
     sf = pd.DataFrame(stale, index=calendar, columns=cols)
     vf.index.name = sf.index.name = "date"

@@ -8,6 +8,7 @@ from typing import Mapping, Sequence
 import numpy as np
 import pandas as pd
 
+from valuesift.core.collector import collector_paused
 from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake.align import align_to_months, month_calendar
 from valuesift.core.intake.files import ParsedFile, read_table
@@ -64,7 +65,8 @@ def build_panel(files: Sequence[ParsedFile], options: PanelOptions = PanelOption
     Common practice for month-end sampling of price histories.
     """
     try:
-        return _build(files, options)
+        with collector_paused():  # (see core.collector)
+            return _build(files, options)
     except IntakeError:
         raise
     except Exception as err:

@@ -31,6 +31,9 @@ _D_MON_Y = r"^(\d{1,2})[\s\-/.]*([A-Za-z]{3,9})\.?[\s\-/.,']*(\d{4}|\d{2})$"
 _MON_D_Y = r"^([A-Za-z]{3,9})\.?\s+(\d{1,2}),?\s+(\d{4})$"
 _SERIAL = r"^(\d{1,7})(?:\.\d+)?$"
 _EXCEL_EPOCH = np.datetime64("1899-12-30", "D")
+#: the last Excel serial whose day a nanosecond date can hold (2262-04-11; Excel's own last, 2958465, is
+#: 9999-12-31): a larger number is not read as a date (before, it stopped the whole file's read)
+_LAST_SERIAL = int((np.datetime64("2262-04-11", "D") - _EXCEL_EPOCH).astype(np.int64))
 
 
 @dataclass(frozen=True)
@@ -56,17 +59,24 @@ def _year(y: pd.Series) -> pd.Series:
 
 
 def _assemble(y: pd.Series, m: pd.Series, d: pd.Series | None) -> pd.Series:
-    frame = pd.DataFrame({"year": pd.to_numeric(y, errors="coerce"), "month": pd.to_numeric(m, errors="coerce")})
-    frame["day"] = 1 if d is None else pd.to_numeric(d, errors="coerce")
-    ok = frame.notna().all(axis=1) & frame["year"].between(1800, 2200) & frame["month"].between(1, 12) & frame["day"].between(1, 31)
-    out = pd.Series(pd.NaT, index=frame.index, dtype="datetime64[ns]")
+    """Dates from year, month and day parts (NaT where a part is missing or out of range, or the day is
+    past the month's end, as ``pd.to_datetime(..., errors="coerce")``); month-end when ``d`` is None."""
+    yv = pd.to_numeric(y, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+    mv = pd.to_numeric(m, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+    dv = np.ones(len(yv)) if d is None else pd.to_numeric(d, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+    with np.errstate(invalid="ignore"):
+        ok = (yv >= 1800) & (yv <= 2200) & (mv >= 1) & (mv <= 12) & (dv >= 1) & (dv <= 31)
+    out = np.full(len(yv), np.datetime64("NaT", "ns"))
     if ok.any():
-        sub = frame[ok].astype("int64")
-        out[ok] = pd.to_datetime(sub, errors="coerce")
-    if d is None:
-        got = out.notna()
-        out[got] = out[got] + pd.offsets.MonthEnd(0)
-    return out
+        month = ((yv[ok].astype(np.int64) - 1970) * 12 + mv[ok].astype(np.int64) - 1).astype("datetime64[M]")
+        if d is None:
+            day = (month + 1).astype("datetime64[D]") - 1  # the month's last day
+            out[ok] = day.astype("datetime64[ns]")
+        else:
+            day = month.astype("datetime64[D]") + (dv[ok].astype(np.int64) - 1)
+            real = day.astype("datetime64[M]") == month  # (31 April runs into May: not a date)
+            out[np.flatnonzero(ok)[real]] = day[real].astype("datetime64[ns]")
+    return pd.Series(out, index=y.index, dtype="datetime64[ns]")
 
 
 def _month_number(names: pd.Series) -> pd.Series:
@@ -132,38 +142,55 @@ def parse_dates(
     res = pd.Series(pd.NaT, index=u.index, dtype="datetime64[ns]")
     month_only = pd.Series(False, index=u.index)
 
-    iso = u.str.extract(_ISO)
-    m = iso[0].notna()
-    if m.any():
-        res[m] = _assemble(iso.loc[m, 0], iso.loc[m, 1], iso.loc[m, 2])
-    comp = u.str.extract(_COMPACT)
-    m = comp[0].notna() & res.isna()
-    if m.any():
-        res[m] = _assemble(comp.loc[m, 0], comp.loc[m, 1], comp.loc[m, 2])
-    for pat, yi, mi in ((_YM, 0, 1), (_MY, 1, 0)):
-        ym = u.str.extract(pat)
-        m = ym[0].notna() & res.isna()
+    def extract(pat: str) -> pd.DataFrame | None:
+        # the pattern's groups for the texts no earlier pattern has read (NaN for the others, as every step
+        # below looks only at those); None when every text is read or blank (no pattern matches a blank):
+        # a column of one date form skips the later patterns
+        todo = (res.isna() & (u != "")).to_numpy(dtype=bool, na_value=False)
+        if not todo.any():
+            return None
+        if todo.all():
+            return u.str.extract(pat)
+        return u[todo].str.extract(pat).reindex(u.index)
+
+    iso = extract(_ISO)
+    if iso is not None:
+        m = iso[0].notna()
         if m.any():
-            res[m] = _assemble(ym.loc[m, yi], ym.loc[m, mi], None)
-            month_only[m] = True
-    mon = u.str.extract(_MON_Y)
-    m = mon[0].notna() & res.isna()
-    if m.any():
-        res[m] = _assemble(_year(mon.loc[m, 1]), _month_number(mon.loc[m, 0]), None)
-        month_only[m & res.notna()] = True
-    dmy = u.str.extract(_D_MON_Y)
-    m = dmy[0].notna() & res.isna()
-    if m.any():
-        res[m] = _assemble(_year(dmy.loc[m, 2]), _month_number(dmy.loc[m, 1]), dmy.loc[m, 0])
-    mdy = u.str.extract(_MON_D_Y)
-    m = mdy[0].notna() & res.isna()
-    if m.any():
-        res[m] = _assemble(mdy.loc[m, 2], _month_number(mdy.loc[m, 0]), mdy.loc[m, 1])
+            res[m] = _assemble(iso.loc[m, 0], iso.loc[m, 1], iso.loc[m, 2])
+    comp = extract(_COMPACT)
+    if comp is not None:
+        m = comp[0].notna() & res.isna()
+        if m.any():
+            res[m] = _assemble(comp.loc[m, 0], comp.loc[m, 1], comp.loc[m, 2])
+    for pat, yi, mi in ((_YM, 0, 1), (_MY, 1, 0)):
+        ym = extract(pat)
+        if ym is not None:
+            m = ym[0].notna() & res.isna()
+            if m.any():
+                res[m] = _assemble(ym.loc[m, yi], ym.loc[m, mi], None)
+                month_only[m] = True
+    mon = extract(_MON_Y)
+    if mon is not None:
+        m = mon[0].notna() & res.isna()
+        if m.any():
+            res[m] = _assemble(_year(mon.loc[m, 1]), _month_number(mon.loc[m, 0]), None)
+            month_only[m & res.notna()] = True
+    dmy = extract(_D_MON_Y)
+    if dmy is not None:
+        m = dmy[0].notna() & res.isna()
+        if m.any():
+            res[m] = _assemble(_year(dmy.loc[m, 2]), _month_number(dmy.loc[m, 1]), dmy.loc[m, 0])
+    mdy = extract(_MON_D_Y)
+    if mdy is not None:
+        m = mdy[0].notna() & res.isna()
+        if m.any():
+            res[m] = _assemble(mdy.loc[m, 2], _month_number(mdy.loc[m, 0]), mdy.loc[m, 1])
 
     used_order, reason, ambiguous = "iso", "ISO or named-month dates", False
-    sl = u.str.extract(_SLASH)
-    m = sl[0].notna() & res.isna()
-    if m.any():
+    sl = extract(_SLASH)
+    m = sl[0].notna() & res.isna() if sl is not None else None
+    if m is not None and m.any():
         a = pd.to_numeric(sl.loc[m, 0])
         b = pd.to_numeric(sl.loc[m, 1])
         where = (lambda i: int(rows[i])) if rows is not None else (lambda i: i + 1)
@@ -188,11 +215,11 @@ def parse_dates(
         day, mon_ = (sl.loc[m, 0], sl.loc[m, 1]) if used_order == "dmy" else (sl.loc[m, 1], sl.loc[m, 0])
         res[m] = _assemble(_year(sl.loc[m, 2]), mon_, day)
     if allow_serial:
-        ser = u.str.extract(_SERIAL)
-        m = ser[0].notna() & res.isna()
-        if m.any():
+        ser = extract(_SERIAL)
+        m = ser[0].notna() & res.isna() if ser is not None else None
+        if m is not None and m.any():
             k = pd.to_numeric(ser.loc[m, 0])
-            k = k[(k >= 1) & (k <= 2958465)]
+            k = k[(k >= 1) & (k <= _LAST_SERIAL)]
             res[k.index] = pd.to_datetime(_EXCEL_EPOCH + k.to_numpy().astype("timedelta64[D]")).as_unit("ns")
             if used_order == "iso":
                 used_order, reason = "serial", "Excel serial day numbers (days since 1899-12-30)"

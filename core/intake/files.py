@@ -10,6 +10,7 @@ from dataclasses import dataclass
 import pandas as pd
 
 from valuesift.core.choices import FileKind
+from valuesift.core.collector import collector_paused
 from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake.options import ReadOptions
 from valuesift.core.intake.readers import read_grid, read_text_file
@@ -151,6 +152,11 @@ def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = Non
     >>> pf.kind, pf.report.cells_parsed, pf.report.cells_blank
     ('prices', 3, 1)
     """
+    with collector_paused():  # (a wide file makes a Series per column: see core.collector)
+        return _read_table(source, name, options, lean)
+
+
+def _read_table(source: str | os.PathLike[str] | bytes, name: str | None, options: ReadOptions, lean: bool) -> ParsedFile:
     label = name or ("(unnamed file)" if isinstance(source, (bytes, bytearray, memoryview)) else os.path.basename(os.fspath(source)))
     deadline = time.monotonic() + INTAKE_TIME_BUDGET_S
     try:

@@ -23,7 +23,8 @@ import pyarrow.parquet as pq
 from valuesift.core.errors import IntakeError, Reason
 from valuesift.core.intake.options import ReadOptions, choice_words
 from valuesift.core.intake.sniff import (HEAD_BYTES, HEAD_FROM_BYTES, MAX_CELL_CHARS, decode, find_header, is_value,
-                                         sample_records, sniff_delimiter, utf8_head, utf8_head_of)
+                                         record_spans, sample_records, sniff_delimiter, utf8_head,
+                                         utf8_head_of)
 
 __all__ = ["Grid", "read_grid", "read_text_file", "detect_format", "XLSX_EXPANSION_LIMIT", "FAST_PATH_MIN_CHARS", "MAX_COLUMNS",
            "MAX_CELL_CHARS", "MAX_ROWS", "MAX_CELLS", "PARQUET_EXPANSION_LIMIT"]
@@ -131,8 +132,9 @@ def _read_text_from(text: str, enc: str, lead: int | None, raw: "bytes | _FileBy
         if not whole:
             return None
         raise IntakeError(name, Reason.EMPTY_FILE, "the file holds only blank lines.", hint="Check that the right file was chosen.")
-    delim = options.delimiter or sniff_delimiter(text)
-    sample = sample_records(text, delim, 80)
+    spans = record_spans(text, 80)  # the records' places, the same for every delimiter
+    delim = options.delimiter or sniff_delimiter(text, spans)
+    sample = sample_records(text, delim, 80, spans)
     if not whole and (len(sample) < 80 or sample[-1][2] >= len(text)):
         return None  # the sample would reach past the head: decided on the whole text instead
     _check_cells([r[0] for r in sample], name, [r[3] + 1 for r in sample])
@@ -227,7 +229,9 @@ def _check_columns(header: Sequence[str], cols: Sequence[pd.Series], rows: np.nd
 
 
 def _longest_arrow_text(cols: Sequence[pd.Series]) -> int:
-    """Characters in the longest text cell of Arrow-backed columns (``MAX_CELL_CHARS + 1`` when any is not Arrow)."""
+    """The longest text cell of Arrow-backed columns, to compare with :data:`MAX_CELL_CHARS`: its characters
+    once some cell of a block has more bytes than that (else its bytes, which are never fewer than its
+    characters); ``MAX_CELL_CHARS + 1`` when any text column is not Arrow-backed."""
     import pyarrow.compute as pc
 
     longest = 0
@@ -237,8 +241,13 @@ def _longest_arrow_text(cols: Sequence[pd.Series]) -> int:
     def measure() -> int:
         # the lengths of a block of about 130,000 cells at a time (one Arrow pass per block, not per column of a
         # wide file, and never the lengths of every cell at once)
-        m = pc.max(pc.utf8_length(pa.chunked_array(block, pa.large_string()))).as_py()
-        return int(m or 0)
+        # (bytes first: a cell holds at most as many characters as bytes, and counting bytes reads only the
+        # offsets; the characters are counted only when some cell has more bytes than the limit)
+        cells = pa.chunked_array(block, pa.large_string())
+        m = int(pc.max(pc.binary_length(cells)).as_py() or 0)
+        if m <= MAX_CELL_CHARS:
+            return m
+        return int(pc.max(pc.utf8_length(cells)).as_py() or 0)
 
     for s in cols:
         if isinstance(s.dtype, np.dtype) and s.dtype.kind in "fiuM":  # numbers and dates hold no text
@@ -679,10 +688,12 @@ def _read_parquet(raw: bytes, name: str, options: ReadOptions) -> Grid:
         frame = frame.reset_index()
     elif not frame.index.equals(pd.RangeIndex(len(frame))):
         frame = frame.reset_index(drop=True)
-    header = [str(c).strip() for c in frame.columns]
+    header = [str(c).strip() for c in frame.columns.tolist()]
     cols = []
     # items() hands out each column over the frame's 0-based RangeIndex (what iloc + reset_index gave,
-    # at a tenth of the cost per column: the wide L file has 3,001 of them)
+    # at a tenth of the cost per column: the wide L file has 3,001 of them); the columns are numbered
+    # first, so that items() does not look each name up in a text index
+    frame.columns = pd.RangeIndex(len(header))
     as_text: dict[Any, bool] = {}  # per dtype, not per column (a wide file's 3,001 columns share one or two)
     for _, s in frame.items():
         try:

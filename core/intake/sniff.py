@@ -21,6 +21,7 @@ __all__ = [
     "find_header",
     "split_sample",
     "sample_records",
+    "record_spans",
     "is_value",
     "MAX_CELL_CHARS",
     "norm_name",
@@ -163,18 +164,11 @@ def _printable_share(text: str) -> float:
     return 1.0 - bad / len(text)
 
 
-def sample_records(text: str, delimiter: str, max_records: int = 80) -> list[tuple[list[str], int, int, int]]:
-    """The first records of a delimited text, each as ``(cells, start, end, line)``.
-
-    ``start`` and ``end`` are character offsets (``end`` just after the record's
-    line feed) and ``line`` the 0-based physical line (counted in line feeds)
-    where the record starts.  Records are split at line feeds outside quotes
-    only: a carriage return, U+2028 or a line feed inside a quoted cell is data
-    (RFC 4180, section 2.6), so it cannot move the header onto a data row.
-    A record whose quotes do not close within a few lines is read as its first
-    line alone (a stray quote in a preamble).
-    """
-    out: list[tuple[list[str], int, int, int]] = []
+def record_spans(text: str, max_records: int = 80) -> list[tuple[int, int, int]]:
+    """Where the first records of a delimited text lie, each as ``(start, end, line)`` (see
+    :func:`sample_records`): they depend only on line feeds and quotes, not on the delimiter, so one
+    pass serves every candidate delimiter."""
+    out: list[tuple[int, int, int]] = []
     pos, line, n = 0, 0, len(text)
     while len(out) < max_records and pos < n:
         start, first_line = pos, line
@@ -192,16 +186,37 @@ def sample_records(text: str, delimiter: str, max_records: int = 80) -> list[tup
             if lines >= _MAX_RECORD_LINES:
                 pos, line = first_end, first_line + 1
                 break
-        rec = text[start:pos]
-        body = rec[:-1] if rec.endswith("\n") else rec
-        if body.endswith("\r"):
-            body = body[:-1]
-        try:
-            cells = next(csv.reader([body], delimiter=delimiter), [])
-        except csv.Error:
-            cells = [body]
-        out.append((cells, start, pos, first_line))
+        out.append((start, pos, first_line))
     return out
+
+
+def _split(text: str, start: int, end: int, delimiter: str) -> list[str]:
+    rec = text[start:end]
+    body = rec[:-1] if rec.endswith("\n") else rec
+    if body.endswith("\r"):
+        body = body[:-1]
+    try:
+        return next(csv.reader([body], delimiter=delimiter), [])
+    except csv.Error:
+        return [body]
+
+
+def sample_records(text: str, delimiter: str, max_records: int = 80,
+                   spans: Sequence[tuple[int, int, int]] | None = None) -> list[tuple[list[str], int, int, int]]:
+    """The first records of a delimited text, each as ``(cells, start, end, line)``.
+
+    ``start`` and ``end`` are character offsets (``end`` just after the record's
+    line feed) and ``line`` the 0-based physical line (counted in line feeds)
+    where the record starts.  Records are split at line feeds outside quotes
+    only: a carriage return, U+2028 or a line feed inside a quoted cell is data
+    (RFC 4180, section 2.6), so it cannot move the header onto a data row.
+    A record whose quotes do not close within a few lines is read as its first
+    line alone (a stray quote in a preamble).  ``spans`` are the records'
+    places from :func:`record_spans` when already known (its first
+    ``max_records`` are used).
+    """
+    where = record_spans(text, max_records) if spans is None else spans[:max_records]
+    return [(_split(text, start, end, delimiter), start, end, line) for start, end, line in where]
 
 
 def split_sample(text: str, delimiter: str, max_lines: int = 80) -> list[list[str]]:
@@ -209,7 +224,7 @@ def split_sample(text: str, delimiter: str, max_lines: int = 80) -> list[list[st
     return [r[0] for r in sample_records(text, delimiter, max_lines)]
 
 
-def sniff_delimiter(text: str) -> str:
+def sniff_delimiter(text: str, spans: Sequence[tuple[int, int, int]] | None = None) -> str:
     """Pick the delimiter that splits the sample lines into the most consistent widths.
 
     Notes
@@ -217,12 +232,19 @@ def sniff_delimiter(text: str) -> str:
     For each candidate (``,``, ``;``, tab, ``|``) the sample lines are split with
     the csv module (so quoted fields are respected); the score is the number of
     lines sharing the most common width (ignoring single-field lines), then that
-    width.  Ties go to the earlier candidate.
+    width.  Ties go to the earlier candidate.  A candidate that does not occur
+    in the sample splits no line and is passed over; the records' places are
+    found once for all candidates (``spans`` from :func:`record_spans`, when
+    the caller has them).
     """
+    where = record_spans(text, 60) if spans is None else spans[:60]
+    end = where[-1][1] if where else 0
     best: tuple[int, int, int] = (0, 0, 0)
     choice = ","
     for rank, d in enumerate(_DELIMS):
-        widths = [len(r) for r in split_sample(text, d, 60) if len(r) > 1]
+        if text.find(d, 0, end) < 0:  # every record would be one cell (or none): no width to count
+            continue
+        widths = [len(r) for r in (_split(text, a, b, d) for a, b, _ in where) if len(r) > 1]
         if not widths:
             continue
         mode = pd.Series(widths).mode()

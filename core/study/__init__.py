@@ -27,6 +27,7 @@ from typing import Callable
 
 import pandas as pd
 
+from valuesift.core.collector import collector_paused
 from valuesift.core.config import BUILTIN_SIGNALS, StudyConfig
 from valuesift.core.errors import ConfigError
 from valuesift.core.panel import Panel
@@ -90,14 +91,15 @@ def run_study(
         raise ConfigError("run_study needs a StudyConfig.", hint="Build one with StudyConfig(...).")
     if not isinstance(panel, Panel):
         raise ConfigError("run_study needs a Panel.", hint="Build one with intake or core.panel.Panel(...).")
-    fields = compute_study(panel, config, progress)
-    res = StudyResult(config=config, screen=pd.DataFrame(), **fields)
-    if detail:
-        res = replace(res, screen=screen_table(res))
-        res = replace(res, **derived_fields(res, panel))
-        if progress is not None:
-            progress("stability, decay and controls", 0.97)
-        res = replace(res, **stability_fields(res, panel))
+    with collector_paused():  # (see core.collector)
+        fields = compute_study(panel, config, progress)
+        res = StudyResult(config=config, screen=pd.DataFrame(), **fields)
+        if detail:
+            res = replace(res, screen=screen_table(res))
+            res = replace(res, **derived_fields(res, panel))
+            if progress is not None:
+                progress("stability, decay and controls", 0.97)
+            res = replace(res, **stability_fields(res, panel))
     if progress is not None:
         progress("done", 1.0)
     return res

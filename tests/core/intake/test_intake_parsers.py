@@ -118,6 +118,23 @@ def test_excel_serial_dates() -> None:
     assert parse_dates(pd.Series(["43466"])).status[0] == 3  # not read as a serial unless allowed
 
 
+def test_excel_serial_beyond_nanosecond_dates_is_unparseable_not_a_crash() -> None:
+    # 132320 is 2262-04-11, the last day a nanosecond timestamp holds (numpy datetime64[ns] range);
+    # 2958465 is Excel's last serial, 9999-12-31 (common practice). The larger ones once stopped the read.
+    r = parse_dates(pd.Series(["43466", "132320", "132321", "2958465"]), allow_serial=True)
+    assert r.status.tolist() == [0, 0, 3, 3]
+    assert str(r.dates[1])[:10] == "2262-04-11"
+
+
+def test_month_only_and_mixed_forms_in_one_column() -> None:
+    # one column mixing ISO days, compact days, months and named months: each read by its own form, the
+    # month forms stamped at the month's end; 29 February only in a leap year (Gregorian calendar)
+    r = parse_dates(pd.Series(["2019-03-31", "20190430", "2019-05", "06/2019", "Jul 2019", "2020-02-29", "2019-02-29", ""]))
+    assert [str(d)[:10] for d in r.dates[:6]] == ["2019-03-31", "2019-04-30", "2019-05-31", "2019-06-30", "2019-07-31", "2020-02-29"]
+    assert r.status.tolist() == [0, 0, 0, 0, 0, 0, 3, 1]
+    assert r.month_only.tolist() == [False, False, True, True, True, False, False, False]
+
+
 def test_bad_dates() -> None:
     r = parse_dates(pd.Series(["2019-02-30", "31/04/2019", "", "soon", "Foo 2019"]))
     assert r.status.tolist() == [3, 3, 1, 3, 3]
