@@ -251,7 +251,10 @@ def by_key_entries(final: np.ndarray, values: list[np.ndarray], n: int, row_code
     rows = valid if final.size == n else valid % n  # one value column (a long file): cell k is row k
     dcodes, dates_seen = _ranks(date_ns[rows])
     width = max(len(dates_seen), 1)
-    key = row_code[rows].astype(np.int64, copy=False)
+    top = (int(row_code.max()) + 1) * width if row_code.size else 0
+    # 32-bit keys when they fit (about 22.7 million for 3,000 securities x 7,560 days): half the memory, and
+    # a faster stable sort of the same values in the same order
+    key = row_code[rows].astype(np.int32 if top < np.iinfo(np.int32).max else np.int64)
     key *= width
     key += dcodes
     del dcodes

@@ -215,6 +215,30 @@ def _availability_column(ctx: Ctx, d: int, candidates: list[int]) -> int | None:
     return None
 
 
+def _stripped_codes(ctx: Ctx, j: int) -> tuple[np.ndarray, Any]:
+    """``pd.factorize(ctx.text(j))`` of a text column without the stripped copy of every cell: the distinct
+    cells are found first and only they are stripped (a long file repeats each id on every date)."""
+    s = ctx.col(j)
+    if not (isinstance(s.dtype, pd.StringDtype) or s.dtype == object):
+        return pd.factorize(ctx.text(j))
+    raw_codes, raw_uniq = pd.factorize(s)  # a missing cell gets -1
+    text = pd.Series(np.asarray(raw_uniq, dtype=object), dtype="str").str.strip()
+    missing = bool((raw_codes < 0).any())
+    if missing:
+        raw_codes = np.where(raw_codes < 0, len(text), raw_codes)
+        text = pd.concat([text, pd.Series([""], dtype="str")], ignore_index=True)
+    first, uniq = pd.factorize(text)
+    if not missing and len(uniq) == len(text):
+        return raw_codes, uniq  # (one stripped text per distinct cell: the same order of first appearance)
+    # a missing cell, or stripping joined some ids (" A1" and "A1"): the codes of the stripped text,
+    # numbered again in order of first appearance
+    codes = first[raw_codes]
+    order = pd.unique(codes)
+    renum = np.empty(len(uniq), dtype=np.int64)
+    renum[order] = np.arange(len(order))
+    return renum[codes], np.asarray(uniq, dtype=object)[order]
+
+
 def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, Any]]:
     o, g = ctx.options, ctx.grid
     d, serial = _date_column(ctx, avail)
@@ -318,8 +342,7 @@ def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[s
     cells = final.reshape(len(vcols), n)  # a view: one row per value column, one column per file row
     cells[(cells == nb.PARSED) & ~date_ok[None, :]] = NODATE
     if sec is not None:
-        raw_ids = ctx.text(sec)
-        codes, uniq = pd.factorize(raw_ids)
+        codes, uniq = _stripped_codes(ctx, sec)
         cleaned, misses = clean_ids(pd.Series(np.asarray(uniq, dtype=object), dtype="str"), o)
         if misses:
             ctx.notes.append(f"{misses} distinct identifiers did not match id_regex and were kept as written")

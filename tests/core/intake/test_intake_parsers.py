@@ -199,3 +199,31 @@ def test_earnings_form_and_index_headers() -> None:
     assert infer_earnings_form("eps_ttm") == "eps" and infer_earnings_form("close") is None
     assert looks_like_index("Maren All-Share") and looks_like_index("Composite Index")
     assert not looks_like_index("TOR14")
+
+
+@pytest.mark.parametrize("cells", [
+    ["A1", " A1", "A1 ", "B2", "", None, " ", "C3", "B2"],
+    ["B2", "A1", "B2", "A1"],
+    [None, "A1", None],
+    ["  ", "x", " x", "X"],
+])
+def test_security_codes_strip_only_the_distinct_ids(cells: list) -> None:
+    # the long-file reader strips each distinct id once; the result must be pandas' own factorize of the
+    # stripped column (codes in order of first appearance; a missing id reads as blank)
+    from valuesift.core.intake._common import Ctx
+    from valuesift.core.intake.tidy import _stripped_codes
+
+    class One:
+        def __init__(self, s: pd.Series) -> None:
+            self.grid = type("G", (), {"columns": [s]})()
+
+        def col(self, j: int) -> pd.Series:
+            return self.grid.columns[j]
+
+        text = Ctx.text
+
+    for s in (pd.Series(cells, dtype="str"), pd.Series(cells, dtype=object)):
+        want_codes, want_ids = pd.factorize(Ctx.text(One(s), 0))  # type: ignore[arg-type]
+        codes, ids = _stripped_codes(One(s), 0)  # type: ignore[arg-type]
+        assert codes.tolist() == want_codes.tolist()
+        assert list(np.asarray(ids, dtype=object)) == list(np.asarray(want_ids, dtype=object))
