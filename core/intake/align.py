@@ -109,10 +109,12 @@ def align_to_months(data: pd.DataFrame, calendar: pd.DatetimeIndex, *, staleness
     pick = np.flatnonzero(last) if order is None else order[last]
     del last, order
     superseded = int(inside.sum() - pick.size)
-    m_pick = mu[d_code[pick]]
+    d_pick = d_code[pick]
+    del d_code
+    m_pick = mu[d_pick]
     me_u = (cal_m[np.clip(mu, 0, len(calendar) - 1)] + np.timedelta64(1, "M")).astype("datetime64[D]") - np.timedelta64(1, "D")
     age_u = (me_u - du.astype("datetime64[D]")).astype(np.int64)  # used only for dates inside the calendar
-    age = age_u[d_code[pick]]
+    age = age_u[d_pick]
     stale_pick = age > staleness_days if frequency not in LOW_FREQUENCIES else np.zeros(pick.size, dtype=bool)
     # map the data's security codes to the requested columns
     col_pos = cols.get_indexer(pd.Index(np.asarray(uniq, dtype=object), dtype="str"))

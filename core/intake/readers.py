@@ -243,11 +243,11 @@ def _longest_arrow_text(cols: Sequence[pd.Series]) -> int:
         # wide file, and never the lengths of every cell at once)
         # (bytes first: a cell holds at most as many characters as bytes, and counting bytes reads only the
         # offsets; the characters are counted only when some cell has more bytes than the limit)
-        cells = pa.chunked_array(block, pa.large_string())
-        m = int(pc.max(pc.binary_length(cells)).as_py() or 0)
+        joined = pa.chunked_array(block, pa.large_string())
+        m = int(pc.max(pc.binary_length(joined)).as_py() or 0)
         if m <= MAX_CELL_CHARS:
             return m
-        return int(pc.max(pc.utf8_length(cells)).as_py() or 0)
+        return int(pc.max(pc.utf8_length(joined)).as_py() or 0)
 
     for s in cols:
         if isinstance(s.dtype, np.dtype) and s.dtype.kind in "fiuM":  # numbers and dates hold no text

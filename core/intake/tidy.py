@@ -231,12 +231,9 @@ def _stripped_codes(ctx: Ctx, j: int) -> tuple[np.ndarray, Any]:
     if not missing and len(uniq) == len(text):
         return raw_codes, uniq  # (one stripped text per distinct cell: the same order of first appearance)
     # a missing cell, or stripping joined some ids (" A1" and "A1"): the codes of the stripped text,
-    # numbered again in order of first appearance
-    codes = first[raw_codes]
-    order = pd.unique(codes)
-    renum = np.empty(len(uniq), dtype=np.int64)
-    renum[order] = np.arange(len(order))
-    return renum[codes], np.asarray(uniq, dtype=object)[order]
+    # numbered again in order of first appearance (``order``: the stripped ids in that order)
+    codes, order = pd.factorize(first[raw_codes])
+    return codes, np.asarray(uniq, dtype=object)[order]
 
 
 def _series(ctx: Ctx, kind: str, avail: list[int]) -> tuple[pd.DataFrame, dict[str, Any]]:
