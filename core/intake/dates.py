@@ -13,7 +13,7 @@ import pandas as pd
 
 from valuesift.core.choices import DateOrder
 
-__all__ = ["DateResult", "parse_dates", "date_share"]
+__all__ = ["DateResult", "parse_dates", "date_share", "stripped_codes"]
 
 _MONTHS = {
     "jan": 1, "january": 1, "feb": 2, "february": 2, "mar": 3, "march": 3, "apr": 4, "april": 4,
@@ -34,6 +34,38 @@ _EXCEL_EPOCH = np.datetime64("1899-12-30", "D")
 #: the last Excel serial whose day a nanosecond date can hold (2262-04-11; Excel's own last, 2958465, is
 #: 9999-12-31): a larger number is not read as a date (before, it stopped the whole file's read)
 _LAST_SERIAL = int((np.datetime64("2262-04-11", "D") - _EXCEL_EPOCH).astype(np.int64))
+
+
+def stripped_codes(s: pd.Series) -> tuple[np.ndarray, np.ndarray]:
+    """``pd.factorize(s.astype("str").fillna("").str.strip())`` without a stripped copy of every cell.
+
+    The distinct cells are found first and only they are stripped (a long file repeats each id and each
+    date on many rows).  Returns the codes (in order of first appearance, as the factorize of the
+    stripped column numbers them) and the distinct stripped texts (an object array).
+
+    Examples
+    --------
+    >>> codes, uniq = stripped_codes(pd.Series([" a", "b ", "a", None], dtype="str"))
+    >>> codes.tolist(), uniq.tolist()
+    ([0, 1, 0, 2], ['a', 'b', ''])
+    """
+    if not isinstance(s.dtype, pd.StringDtype):
+        # (Python objects: factorize would hold 1, 1.0 and True as one value, which read as different texts)
+        codes, uniq = pd.factorize(s.astype("str").fillna("").str.strip())
+        return codes, np.asarray(uniq, dtype=object)
+    raw_codes, raw_uniq = pd.factorize(s)  # a missing cell gets -1
+    text = pd.Series(np.asarray(raw_uniq, dtype=object), dtype="str").str.strip()
+    missing = bool((raw_codes < 0).any())
+    if missing:
+        raw_codes = np.where(raw_codes < 0, len(text), raw_codes)
+        text = pd.concat([text, pd.Series([""], dtype="str")], ignore_index=True)
+    first, uniq = pd.factorize(text)
+    if not missing and len(uniq) == len(text):
+        return raw_codes, np.asarray(uniq, dtype=object)  # (one stripped text per distinct cell: the same order)
+    # a missing cell, or stripping joined some texts (" A1" and "A1"): the codes of the stripped text,
+    # numbered again in order of first appearance (``order``: the stripped texts in that order)
+    codes, order = pd.factorize(first[raw_codes])
+    return codes, np.asarray(uniq, dtype=object)[order]
 
 
 @dataclass(frozen=True)
@@ -130,14 +162,14 @@ def parse_dates(
         if idx.tz is not None:
             idx = idx.tz_localize(None)
         d = idx.as_unit("ns").to_numpy()
-        status = np.where(np.isnat(d), 1, 0).astype(np.int8)
+        status = np.isnat(d).view(np.int8).copy()  # 1 for a missing date, 0 for a date (no 64-bit step)
         return DateResult(d, status, "iso", "dates stored as dates", np.zeros(n, dtype=bool), False)
     if pd.api.types.is_numeric_dtype(values.dtype) and not pd.api.types.is_bool_dtype(values.dtype):
         v = values.to_numpy(dtype=float, na_value=np.nan)
         text = pd.Series(np.where(np.isnan(v), "", pd.Series(v).map(lambda x: "%.10g" % x)), dtype="str")
-    else:
-        text = values.astype("str").fillna("").str.strip()
-    codes, uniq_arr = pd.factorize(text)
+        codes, uniq_arr = pd.factorize(text)
+    else:  # the distinct cells stripped, not every cell (the same codes and texts)
+        codes, uniq_arr = stripped_codes(values)
     u = pd.Series(np.asarray(uniq_arr, dtype=object), dtype="str")
     res = pd.Series(pd.NaT, index=u.index, dtype="datetime64[ns]")
     month_only = pd.Series(False, index=u.index)
@@ -225,7 +257,7 @@ def parse_dates(
                 used_order, reason = "serial", "Excel serial day numbers (days since 1899-12-30)"
 
     dates = res.to_numpy(dtype="datetime64[ns]")[codes]
-    blank = (text == "").to_numpy(dtype=bool, na_value=False)
+    blank = (u == "").to_numpy(dtype=bool, na_value=False)[codes]
     status = np.where(np.isnat(dates), 3, 0).astype(np.int8)
     status[blank] = 1
     return DateResult(dates, status, used_order, reason, month_only.to_numpy(dtype=bool)[codes], ambiguous)

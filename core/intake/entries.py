@@ -95,7 +95,7 @@ def nothing_can_repeat(column_code: np.ndarray, dates: np.ndarray) -> bool:
     >>> nothing_can_repeat(np.array([1, 0]), days), nothing_can_repeat(np.array([0, 0]), days)
     (True, False)
     """
-    date_ns = dates.astype("datetime64[ns]").view(np.int64)
+    date_ns = dates.astype("datetime64[ns]", copy=False).view(np.int64)
     return bool(np.unique(column_code).size == len(column_code) and np.unique(date_ns).size == date_ns.size)
 
 
@@ -126,7 +126,7 @@ def by_column_entries(final: np.ndarray, values: list[np.ndarray], n: int, colum
     m = len(column_code)
     numbers = values.pop()
     cells = final.reshape(m, n)
-    date_ns = dates.astype("datetime64[ns]").view(np.int64)
+    date_ns = dates.astype("datetime64[ns]", copy=False).view(np.int64)
     row_order = np.argsort(date_ns, kind="stable")  # rows by date, file order among equal dates
     seen = (cells == nb.PARSED).any(axis=0)
     dates_seen = np.unique(date_ns[seen])
@@ -247,7 +247,7 @@ def by_key_entries(final: np.ndarray, values: list[np.ndarray], n: int, row_code
     """
     numbers = values.pop()
     valid = np.flatnonzero(final == nb.PARSED)
-    date_ns = dates.astype("datetime64[ns]").view(np.int64)
+    date_ns = dates.astype("datetime64[ns]", copy=False).view(np.int64)
     rows = valid if final.size == n else valid % n  # one value column (a long file): cell k is row k
     dcodes, dates_seen = _ranks(date_ns[rows])
     width = max(len(dates_seen), 1)

@@ -161,7 +161,7 @@ def _read_table(source: str | os.PathLike[str] | bytes, name: str | None, option
     deadline = time.monotonic() + INTAKE_TIME_BUDGET_S
     try:
         grid = None
-        if lean and not isinstance(source, (bytes, bytearray, memoryview)):
+        if not isinstance(source, (bytes, bytearray, memoryview)):
             # a large delimited file is read from disk in pieces (its bytes never all in memory); None otherwise
             path, label, _ = _checked_path(source, name, options)
             grid = read_text_file(path, label, options)

@@ -96,19 +96,20 @@ def parse_numbers(values: pd.Series, decimal: Literal["point", "comma"] = "point
     ([1234.5, -2.0, 0.05], [0, 0, 0, 2, 1])
     """
     n = len(values)
-    out = np.full(n, np.nan)
     status = np.full(n, PARSED, dtype=np.int8)
     percent = np.zeros(n, dtype=bool)
     if n == 0:
-        return NumberResult(out, status, percent)
+        return NumberResult(np.full(n, np.nan), status, percent)
     if pd.api.types.is_numeric_dtype(values.dtype) and not pd.api.types.is_bool_dtype(values.dtype):
+        # one copy of the numbers, every other cell set to NaN in place (the same values as
+        # ``np.where(status == PARSED, v, nan)`` without two more arrays of the column's size)
         v = values.to_numpy(dtype=float, na_value=np.nan).copy()
         status[np.isnan(v)] = BLANK
         status[np.isinf(v)] = NON_FINITE
         with np.errstate(invalid="ignore"):
             status[np.isfinite(v) & (np.abs(v) >= _HUGE)] = OUT_OF_RANGE
-        out = np.where(status == PARSED, v, np.nan)
-        return NumberResult(out, status, percent)
+        v[status != PARSED] = np.nan
+        return NumberResult(v, status, percent)
 
     quick = _arrow_cast(values) if decimal == "point" else None
     if quick is not None:
@@ -197,10 +198,9 @@ def parse_text_columns(columns: list[pd.Series | None], decimal: Literal["point"
             spare = None
         freed = 0
         for k in range(0, len(columns), step):
-            quick = _arrow_cast_block(columns[k:k + step])  # type: ignore[arg-type]
+            quick = _arrow_cast_block(columns[k:k + step], out[k * n:min(k + step, len(columns)) * n])  # type: ignore[arg-type]
             if quick is None:
                 break
-            out[k * n:k * n + quick.size] = quick
             if spare is not None and spare(k, min(k + step, len(columns)), quick):
                 columns[k:k + step] = [None] * len(columns[k:k + step])
                 freed += 1
@@ -226,40 +226,55 @@ def parse_text_columns(columns: list[pd.Series | None], decimal: Literal["point"
 _BLOCK_CELLS = 1 << 17
 
 
-def _arrow_cast_block(columns: Sequence[pd.Series]) -> np.ndarray | None:
+def _arrow_cast_block(columns: Sequence[pd.Series], out: np.ndarray | None = None) -> np.ndarray | None:
     """:func:`_arrow_cast` of several columns stacked, in one Arrow pass over their chunks (no copy to stack
-    them); the columns one by one when their chunks cannot be joined (not Arrow text of one type)."""
+    them); the columns one by one when their chunks cannot be joined (not Arrow text of one type).  With
+    ``out`` (of the columns' total length) the numbers are written there and ``out`` is returned."""
     if len(columns) == 1:
-        return _arrow_cast(columns[0])
+        return _arrow_cast(columns[0], out)
     try:
         chunks = [c for s in columns for c in s.array._pa_array.chunks]
         joined = pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array(chunks), dtype=columns[0].dtype))
     except (AttributeError, TypeError, ValueError, pa.ArrowException):
-        parts = []
+        target = np.empty(sum(len(s) for s in columns)) if out is None else out
+        pos = 0
         for s in columns:
-            one = _arrow_cast(s)
-            if one is None:
+            if _arrow_cast(s, target[pos:pos + len(s)]) is None:
                 return None
-            parts.append(one)
-        return np.concatenate(parts)
-    return _arrow_cast(joined)
+            pos += len(s)
+        return target
+    return _arrow_cast(joined, out)
 
 
-def _arrow_cast(s: pd.Series) -> np.ndarray | None:
-    """All cells plain numbers or blank (the common case): one arrow cast; else None."""
+#: rows per Arrow cast of :func:`_arrow_cast`: a long file's one value column of millions of cells is cast
+#: slice by slice, so the cast's temporary copies (the text with blanks as nulls, the numbers) stay small
+_CAST_ROWS = 1 << 20
+
+
+def _arrow_cast(s: pd.Series, out: np.ndarray | None = None) -> np.ndarray | None:
+    """All cells plain numbers or blank (the common case): Arrow casts (one per slice of
+    :data:`_CAST_ROWS` cells), the numbers written to ``out`` (a new array if None) and returned; else None."""
     try:
         arr = s.array._pa_array if hasattr(s.array, "_pa_array") else pa.array(s.astype("str").fillna("").tolist(), pa.string())
-        empty = pc.fill_null(pc.equal(arr, ""), True)
-        arr = pc.if_else(empty, pa.scalar(None, pa.string()), arr)
-        out = pc.cast(arr, pa.float64()).to_numpy(zero_copy_only=False)
-        blank = np.asarray(empty.to_numpy(zero_copy_only=False), dtype=bool)
     except Exception:
         return None
-    v = np.asarray(out, dtype=float).copy()
-    with np.errstate(invalid="ignore"):
-        good = np.isfinite(v) & (np.abs(v) < _HUGE)
-    if not np.all(good | blank):  # "nan", "inf" or huge values: let the full parser classify them
-        return None
+    n = len(arr)
+    v = np.empty(n) if out is None else out
+    for start in range(0, n, _CAST_ROWS):
+        part = arr.slice(start, _CAST_ROWS)
+        seg = v[start:start + len(part)]
+        try:
+            empty = pc.fill_null(pc.equal(part, ""), True)
+            text = pc.if_else(empty, pa.scalar(None, pa.string()), part)
+            seg[:] = pc.cast(text, pa.float64()).to_numpy(zero_copy_only=False)
+            blank = np.asarray(empty.to_numpy(zero_copy_only=False), dtype=bool)
+        except Exception:
+            return None
+        del text, empty
+        with np.errstate(invalid="ignore"):
+            good = np.isfinite(seg) & (np.abs(seg) < _HUGE)
+        if not np.all(good | blank):  # "nan", "inf" or huge values: let the full parser classify them
+            return None
     return v
 
 

@@ -676,8 +676,12 @@ def _read_parquet(raw: bytes, name: str, options: ReadOptions) -> Grid:
         table = pa.concat_tables(parts) if parts else pf.schema_arrow.empty_table()
         del parts
         # date32 columns come as datetime64 (not Python date objects, which would be turned into
-        # text and parsed again: most of the time of a large long-layout file).
-        frame = table.to_pandas(date_as_object=False)
+        # text and parsed again: most of the time of a large long-layout file).  Each Arrow column is
+        # let go as soon as it is converted (self_destruct), and the freed memory is handed back
+        # instead of staying in Arrow's pool through the rest of the read
+        frame = table.to_pandas(date_as_object=False, self_destruct=True)
+        del table
+        pa.default_memory_pool().release_unused()
     except IntakeError:
         raise
     except Exception as err:

@@ -227,3 +227,68 @@ def test_security_codes_strip_only_the_distinct_ids(cells: list) -> None:
         codes, ids = _stripped_codes(One(s), 0)  # type: ignore[arg-type]
         assert codes.tolist() == want_codes.tolist()
         assert list(np.asarray(ids, dtype=object)) == list(np.asarray(want_ids, dtype=object))
+
+
+def test_stripped_codes_equal_pandas_factorize_of_the_stripped_column() -> None:
+    # parse_dates and the long-file ids strip each distinct cell once; the reference is pandas' own
+    # factorize of the column as text with every cell stripped (what both read before)
+    from valuesift.core.intake.dates import stripped_codes
+
+    rng = np.random.default_rng(7)
+    pool = np.array(["2019-01-31", " 2019-01-31", "2019-01-31 ", "31/01/2019", "", " ", "x", " X", None], dtype=object)
+    for _ in range(200):
+        cells = pool[rng.integers(0, len(pool), rng.integers(0, 40))].tolist()
+        s = pd.Series(cells, dtype="str")
+        want_codes, want = pd.factorize(s.astype("str").fillna("").str.strip())
+        codes, uniq = stripped_codes(s)
+        assert codes.tolist() == want_codes.tolist()
+        assert uniq.tolist() == list(np.asarray(want, dtype=object))
+    # Python objects are read through their text: 1, 1.0 and True are three texts (pandas' factorize of the
+    # objects themselves would hold them as one value)
+    codes, uniq = stripped_codes(pd.Series([1, 1.0, True, " 1.0"], dtype=object))
+    assert codes.tolist() == [0, 1, 2, 1] and uniq.tolist() == ["1", "1.0", "True"]
+
+
+def test_dates_of_a_long_column_read_the_same_as_each_cell_alone() -> None:
+    # the parse is done once per distinct stripped text; each cell's result must be that of the cell read
+    # alone (a padded copy of a date, a blank, a missing cell)
+    cells = ["2019-01-31", " 2019-01-31", "", None, "2019-02-28 ", "31/01/2019", "soon", " "] * 3
+    r = parse_dates(pd.Series(cells, dtype="str"))
+    for k, c in enumerate(cells):
+        one = parse_dates(pd.Series([c], dtype="str"), "dmy")
+        assert r.status[k] == one.status[0], c
+        assert (np.isnat(r.dates[k]) and np.isnat(one.dates[0])) or r.dates[k] == one.dates[0], c
+
+
+def test_number_cast_in_slices_equals_one_cast(monkeypatch: pytest.MonkeyPatch) -> None:
+    # a long file's value column is cast slice by slice; the numbers, statuses and the fall-back to the
+    # careful parser (a cell it must classify, in any slice) are those of one cast of the whole column
+    rng = np.random.default_rng(11)
+    for trial in range(30):
+        n = int(rng.integers(1, 60))
+        cells = [f"{x:.4f}" for x in rng.normal(size=n)]
+        for k in rng.integers(0, n, int(rng.integers(0, 4))):
+            cells[int(k)] = str(rng.choice(["", "1,234.5", "n/a", "(3)", "1e5", "inf"]))
+        s = pd.Series(cells, dtype="str")
+        whole = parse_numbers(s)
+        cols = [pd.Series(cells[:n // 2], dtype="str"), pd.Series(cells[n // 2:n // 2 * 2], dtype="str")]
+        whole_cols = nb.parse_text_columns(cols) if n >= 2 else None
+        monkeypatch.setattr(nb, "_CAST_ROWS", int(rng.integers(1, 8)))
+        sliced = parse_numbers(s)
+        np.testing.assert_array_equal(sliced.values, whole.values)
+        np.testing.assert_array_equal(sliced.status, whole.status)
+        if whole_cols is not None:
+            sliced_cols = nb.parse_text_columns(cols)
+            np.testing.assert_array_equal(sliced_cols.values, whole_cols.values)
+            np.testing.assert_array_equal(sliced_cols.status, whole_cols.status)
+        monkeypatch.undo()
+
+
+def test_numbers_already_numeric_keep_the_numbers_and_blank_the_rest() -> None:
+    # the typed path sets every unusable cell to NaN in place of a second array; the input is not changed
+    v = np.array([1.5, -0.0, np.nan, -np.inf, 3e300, -2.0])
+    s = pd.Series(v.copy())
+    r = parse_numbers(s)
+    assert r.status.tolist() == [nb.PARSED, nb.PARSED, nb.BLANK, nb.NON_FINITE, nb.OUT_OF_RANGE, nb.PARSED]
+    np.testing.assert_array_equal(r.values, [1.5, -0.0, np.nan, np.nan, np.nan, -2.0])
+    np.testing.assert_array_equal(s.to_numpy(), v)
