@@ -110,7 +110,9 @@ def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = Non
     Parameters
     ----------
     source : str, path-like or bytes
-        The file's path, or its bytes.
+        The file's path, or its bytes.  Given a path, a large delimited UTF-8
+        file is read from disk in pieces (its bytes never all in memory at
+        once) and any other file's bytes are let go once its cells are split.
     name : str, optional
         The file name as the user knows it (used in every message); required for bytes.
     options : ReadOptions
@@ -119,11 +121,9 @@ def read_table(source: str | os.PathLike[str] | bytes, *, name: str | None = Non
         Less memory, for a caller that stores the table (the dashboard): the
         security column is a categorical of the same text (each id held once),
         and a wide file's text is let go as its numbers are made (see
-        :func:`~valuesift.core.intake.tidy.tidy_grid`); given a path, a large
-        delimited UTF-8 file is read from disk in pieces (its bytes never all
-        in memory at once) and any other file's bytes are let go once its
-        cells are split.  The report is the same, and the table once its
-        categorical columns are read as plain values.
+        :func:`~valuesift.core.intake.tidy.tidy_grid`).  The report is the
+        same, and the table once its categorical columns are read as plain
+        values.
 
     Returns
     -------

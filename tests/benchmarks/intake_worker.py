@@ -3,7 +3,9 @@
     python -m tests.benchmarks.intake_worker --layout parquet_long --n 3000 --t 7560
 
 Prints one JSON object: seconds per stage (read prices, read EPS, read
-dividends, month-end panel), the process's peak resident set, the in-memory
+dividends, month-end panel), the CPU seconds of the whole read (user and
+system: this machine's system time varies from run to run with the host's
+handling of fresh memory), the process's peak resident set, the in-memory
 size of the parsed data and the panel's shape.
 """
 
@@ -11,6 +13,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import resource
 import time
 from pathlib import Path
 
@@ -68,6 +71,7 @@ def main(argv: list[str] | None = None) -> None:
     layout = "wide" if a.layout == "parquet_wide" else "long"
     rss0 = current_rss_bytes()
     reset_peak_rss()
+    ru0 = resource.getrusage(resource.RUSAGE_SELF)
     out: dict[str, object] = {"layout": a.layout, "n": a.n, "t": a.t,
                               "file_bytes": {p.name: p.stat().st_size for p in (prices_path, eps_path, files.dividends_csv)}}
     t0 = time.perf_counter()
@@ -81,9 +85,11 @@ def main(argv: list[str] | None = None) -> None:
     panel = build_panel([pf, ef, df])
     t4 = time.perf_counter()
     peak = peak_rss_bytes()
+    ru1 = resource.getrusage(resource.RUSAGE_SELF)
     out.update({
         "read_prices_s": t1 - t0, "read_eps_s": t2 - t1, "read_dividends_s": t3 - t2, "month_end_panel_s": t4 - t3,
-        "total_s": t4 - t0, "peak_rss_bytes": peak, "rss_before_bytes": rss0,
+        "total_s": t4 - t0, "user_s": ru1.ru_utime - ru0.ru_utime, "system_s": ru1.ru_stime - ru0.ru_stime,
+        "peak_rss_bytes": peak, "rss_before_bytes": rss0,
         "parsed_bytes": parsed, "price_rows": int(len(pf.data)), "eps_rows": int(len(ef.data)),
         "dividend_rows": int(len(df.data)), "panel_shape": list(panel.prices.shape),
         "frequency": pf.report.frequency,

@@ -18,7 +18,9 @@ What is measured (targets and the latest figures: README, "Performance"):
 * forward total returns + IC: the engine's kernels against the notebook
   baseline (``baseline.py``), timed in the same run, agreement asserted to 1e-9;
 * intake of XL daily files (3,000 x 7,560 trading days), each layout in its
-  own process so its peak resident memory is its own;
+  own process so its peak resident memory is its own, and the growth of the
+  daily intake from 500 x 1,890 to 3,000 x 7,560 days (``intake_growth``:
+  exponents of wall time, user CPU time and peak memory against N x T);
 * the dashboard's server-side work on size M (``dashboard.py``);
 * growth: the study's time and memory at S, M, I1, I2, L and the fitted
   exponent of time (and memory) against N x T (log-log least squares);
@@ -178,6 +180,39 @@ def intake_xl(n: int, t: int) -> dict[str, Any]:
     return out
 
 
+#: daily sizes (securities, trading days) of the intake growth fit, from about M's cells to XL's
+INTAKE_GROWTH_SIZES: tuple[tuple[int, int], ...] = ((500, 1890), (1000, 3780), (2000, 7560), (3000, 7560))
+INTAKE_GROWTH_LAYOUTS: tuple[str, ...] = ("parquet_long", "parquet_wide", "csv_long")
+
+
+def intake_growth(sizes: tuple[tuple[int, int], ...] = INTAKE_GROWTH_SIZES,
+                  layouts: tuple[str, ...] = INTAKE_GROWTH_LAYOUTS) -> dict[str, Any]:
+    """Daily files read to a month-end panel at growing N x T, each read in its own process: the exponent of
+    wall time, of user CPU time (steadier here: the system time of this machine varies with the host) and of
+    the peak above the process's start, against the price cells."""
+    out: dict[str, Any] = {"sizes": [list(z) for z in sizes]}
+    for layout in layouts:
+        runs = []
+        for n, t in sizes:
+            daily_files(n, t)  # written (or reused) outside the measured process
+            cmd = [sys.executable, "-m", "tests.benchmarks.intake_worker", "--layout", layout, "--n", str(n), "--t", str(t)]
+            p = subprocess.run(cmd, cwd=ROOT, capture_output=True, text=True, timeout=900)
+            if p.returncode != 0:
+                out[layout] = {"error": (p.stderr or p.stdout)[-2000:]}
+                break
+            runs.append(json.loads(p.stdout.strip().splitlines()[-1]))
+        else:
+            cells = [float(r["n"] * r["t"]) for r in runs]
+            above = [float(r["peak_rss_bytes"] - r["rss_before_bytes"]) for r in runs]
+            out[layout] = {"cells": cells, "wall_s": [r["total_s"] for r in runs], "user_s": [r["user_s"] for r in runs],
+                           "system_s": [r["system_s"] for r in runs], "peak_above_start_bytes": above,
+                           "over_parsed": [a / r["parsed_bytes"] for a, r in zip(above, runs)],
+                           "time_exponent": fit_exponent(cells, [r["total_s"] for r in runs]),
+                           "user_exponent": fit_exponent(cells, [r["user_s"] for r in runs]),
+                           "memory_exponent": fit_exponent(cells, above)}
+    return out
+
+
 def machine() -> dict[str, Any]:
     import pandas as pd
 
@@ -238,6 +273,16 @@ def _rows(r: dict[str, Any]) -> list[tuple[str, str, str, str, str]]:
                          f"{d['parsed_bytes'] / MB:.0f} MB = {d['peak_over_parsed']:.1f}x "
                          f"(above start {d['increment_over_parsed']:.1f}x)", "<= 3x",
                          verdict(d["peak_over_parsed"] <= 3.0)))
+    ig = r.get("intake_growth")
+    if ig:
+        span = f"{ig['sizes'][0][0]}x{ig['sizes'][0][1]}d..{ig['sizes'][-1][0]}x{ig['sizes'][-1][1]}d"
+        for layout in INTAKE_GROWTH_LAYOUTS:
+            g = ig.get(layout)
+            if not g or "error" in g:
+                continue
+            rows.append((f"growth exponent: intake {layout}, wall / user CPU / peak vs N x T", span,
+                         f"{g['time_exponent']:.2f} / {g['user_exponent']:.2f} / {g['memory_exponent']:.2f}",
+                         "close to 1", ""))
     w = r.get("whole")
     if w:
         st = w["study"]
@@ -385,6 +430,8 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
         xl = SIZES["XL"]
         r["intake_xl"] = intake_xl(xl.n, xl.t)
         print(f"[{time.perf_counter() - t_start:6.0f} s] intake XL done", flush=True)
+        r["intake_growth"] = intake_growth()
+        print(f"[{time.perf_counter() - t_start:6.0f} s] intake growth done", flush=True)
     r["machine_after"] = machine()
     r["suite_seconds"] = time.perf_counter() - t_start
     text = table_text(r)
